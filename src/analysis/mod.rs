@@ -1,0 +1,1 @@
+//! Session reports and batch statistics over many sessions.

@@ -1,0 +1,5 @@
+//! The session engine: one loop that owns time and state.
+
+pub mod snapshot;
+
+pub use snapshot::{Command, EpochRow, EpochState, Health, Prompt, Snapshot, TracePoint, TurnRow};

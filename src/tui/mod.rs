@@ -1,0 +1,1 @@
+//! The live screen: renders engine snapshots, sends operator commands.
