@@ -20,7 +20,9 @@ pub struct RealClock {
 impl RealClock {
     /// A clock whose zero is now.
     pub fn start() -> Self {
-        Self { anchor: Instant::now() }
+        Self {
+            anchor: Instant::now(),
+        }
     }
 }
 

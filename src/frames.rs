@@ -50,10 +50,11 @@ pub enum Direction {
 }
 
 /// The unit a heading sensor reports in.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize, Default)]
 #[serde(rename_all = "snake_case", tag = "kind")]
 pub enum SensorUnit {
     /// Degrees.
+    #[default]
     Degrees,
     /// Radians.
     Radians,
@@ -62,12 +63,6 @@ pub enum SensorUnit {
         /// Counts per revolution, > 0.
         per_rev: f64,
     },
-}
-
-impl Default for SensorUnit {
-    fn default() -> Self {
-        SensorUnit::Degrees
-    }
 }
 
 /// How a raw sensor value becomes an arena heading.

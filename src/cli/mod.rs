@@ -72,7 +72,10 @@ pub fn main() -> i32 {
 
 /// Joins an error chain into one line: "outer: inner: root".
 pub fn one_line(e: &anyhow::Error) -> String {
-    let parts: Vec<String> = e.chain().map(|c| c.to_string().replace('\n', " ")).collect();
+    let parts: Vec<String> = e
+        .chain()
+        .map(|c| c.to_string().replace('\n', " "))
+        .collect();
     let mut out: Vec<String> = Vec::new();
     for p in parts {
         // Skip a cause already contained in the previous message.

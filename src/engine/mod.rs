@@ -2,4 +2,6 @@
 
 pub mod snapshot;
 
-pub use snapshot::{Command, EpochRow, EpochState, Health, Prompt, Snapshot, TracePoint, TurnRow};
+pub use snapshot::{
+    Command, EpochRow, EpochState, Health, Prompt, Snapshot, SnapshotCell, TracePoint, TurnRow,
+};

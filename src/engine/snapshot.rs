@@ -207,3 +207,33 @@ pub struct Snapshot {
     /// How it ended ("complete", "aborted: ..."), once ended.
     pub end_reason: Option<String>,
 }
+
+/// Where the engine publishes its latest snapshot and screens read it (latest wins).
+#[derive(Debug, Clone, Default)]
+pub struct SnapshotCell {
+    inner: std::sync::Arc<std::sync::Mutex<Option<std::sync::Arc<Snapshot>>>>,
+}
+
+impl SnapshotCell {
+    /// An empty cell.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Replaces the published snapshot.
+    pub fn publish(&self, snapshot: Snapshot) {
+        let arc = std::sync::Arc::new(snapshot);
+        match self.inner.lock() {
+            Ok(mut g) => *g = Some(arc),
+            Err(poisoned) => *poisoned.into_inner() = Some(arc),
+        }
+    }
+
+    /// The latest snapshot, if any was published.
+    pub fn latest(&self) -> Option<std::sync::Arc<Snapshot>> {
+        match self.inner.lock() {
+            Ok(g) => g.clone(),
+            Err(poisoned) => poisoned.into_inner().clone(),
+        }
+    }
+}
