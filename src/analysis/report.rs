@@ -1,0 +1,1 @@
+//! `report`: one session → tables, a text summary and figures.
