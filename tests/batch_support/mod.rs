@@ -17,6 +17,7 @@ pub enum Mode {
 
 /// Writes a session folder `root/id` with `epochs` epochs of `n` samples at 10 Hz; arena turns
 /// of +90 between epochs; conditions alternate "open sky" / "diffuser". Returns the folder.
+#[allow(clippy::too_many_arguments)]
 pub fn write_session(
     root: &Path,
     id: &str,
