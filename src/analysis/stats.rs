@@ -185,21 +185,23 @@ pub fn v_test(angles_deg: &[f64], expected_deg: f64) -> Option<VTest> {
 /// Moore's modified Rayleigh test for second-order data (Moore 1980; Zar 2010, §27.1):
 /// the vectors are ranked by length (1 = shortest, ties get the mean rank) and
 /// R* = √((Σ i cos θ_i)² + (Σ i sin θ_i)²) / n^{3/2}. Returns (R*, p) with the large-sample
-/// p = exp(−3 R*²) (under H0, 6 R*² → χ²₂). None for n < 2.
+/// p = exp(−|Σ i u_i|² / Σ i²) (under H0 each component of Σ i u_i has variance Σ i²/2, so
+/// 2|Σ i u_i|²/Σ i² → χ²₂; with Σ i² ≈ n³/3 this is Moore's exp(−3 R*²)). None for n < 2.
 pub fn moore_test(means_deg: &[f64], lengths: &[f64]) -> Option<(f64, f64)> {
     let n = means_deg.len();
     if n < 2 || lengths.len() != n {
         return None;
     }
     let ranks = average_ranks(lengths);
-    let (mut c, mut s) = (0.0, 0.0);
+    let (mut c, mut s, mut sq) = (0.0, 0.0, 0.0);
     for (a, rank) in means_deg.iter().zip(&ranks) {
         let (sn, cs) = a.to_radians().sin_cos();
         c += rank * cs;
         s += rank * sn;
+        sq += rank * rank;
     }
     let r_star = c.hypot(s) / (n as f64).powf(1.5);
-    Some((r_star, (-3.0 * r_star * r_star).exp()))
+    Some((r_star, (-(c * c + s * s) / sq).exp().clamp(0.0, 1.0)))
 }
 
 /// Ranks 1..n of values, ties given their mean rank.
@@ -375,7 +377,7 @@ mod tests {
         assert_eq!(average_ranks(&[0.5, 0.1, 0.5]), vec![2.5, 1.0, 2.5]);
         let (rs, p) = moore_test(&[0.0, 0.0, 0.0, 0.0], &[0.1, 0.2, 0.3, 0.4]).unwrap();
         assert!((rs - 10.0 / 8.0).abs() < 1e-12);
-        assert!((p - (-3.0 * rs * rs).exp()).abs() < 1e-15);
+        assert!((p - (-100.0f64 / 30.0).exp()).abs() < 1e-15);
     }
 
     #[test]
