@@ -198,8 +198,9 @@ pub struct SimWorld {
     // sensor
     next_index: u64,
     last_arrival_s: f64,
-    held: Option<(f64, String)>,
+    held: Option<(f64, String, bool)>,
     garbage_injected: u64,
+    truth: Option<Vec<(u64, f64)>>,
     lines_sent: u64,
     // turntable
     motions: Vec<Motion>,
@@ -238,6 +239,7 @@ impl SimWorld {
             last_arrival_s: 0.0,
             held: None,
             garbage_injected: 0,
+            truth: None,
             lines_sent: 0,
             motions: Vec::new(),
             last_id: 0,
@@ -253,6 +255,17 @@ impl SimWorld {
     /// Malformed lines injected so far (among the lines handed out).
     pub fn garbage_injected(&self) -> u64 {
         self.garbage_injected
+    }
+
+    /// Starts keeping the true (unquantized) arena heading of every generated sample, by
+    /// device time in ms (tests).
+    pub fn keep_truth(&mut self) {
+        self.truth.get_or_insert_with(Vec::new);
+    }
+
+    /// The kept truth: (device ms, arena heading).
+    pub fn truth(&self) -> &[(u64, f64)] {
+        self.truth.as_deref().unwrap_or(&[])
     }
 
     /// Lines handed out so far.
@@ -375,13 +388,16 @@ impl SimWorld {
     pub fn generate_lines(&mut self, now_s: f64, out: &mut Vec<(f64, String)>) {
         let period = 1.0 / self.cfg.rate_hz;
         loop {
-            if let Some((t, _)) = &self.held {
+            if let Some((t, _, _)) = &self.held {
                 if *t > now_s {
                     return;
                 }
-                if let Some(h) = self.held.take() {
+                if let Some((t, line, garbage)) = self.held.take() {
                     self.lines_sent += 1;
-                    out.push(h);
+                    if garbage {
+                        self.garbage_injected += 1;
+                    }
+                    out.push((t, line));
                 }
                 continue;
             }
@@ -419,12 +435,14 @@ impl SimWorld {
                 continue;
             }
             let line = if garbage {
-                self.garbage_injected += 1;
                 self.garbage_line(&raw_s, ms)
             } else {
                 format!("{raw_s},{ms}")
             };
-            self.held = Some((arrival, line));
+            if let Some(truth) = &mut self.truth {
+                truth.push((ms, arena));
+            }
+            self.held = Some((arrival, line, garbage));
         }
     }
 
