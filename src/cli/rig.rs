@@ -23,6 +23,9 @@ enum RigCommand {
     Check {
         /// The rig file.
         file: PathBuf,
+        /// Also open the sensor and turntable ports (are they there and readable?).
+        #[arg(long)]
+        open: bool,
     },
 }
 
@@ -49,8 +52,18 @@ pub fn run(args: RigArgs) -> anyhow::Result<i32> {
             );
             Ok(0)
         }
-        RigCommand::Check { file } => {
+        RigCommand::Check { file, open } => {
             let rig = crate::rig::config::load_rig(&file)?;
+            if open {
+                let clock: std::sync::Arc<dyn crate::clock::Clock> =
+                    std::sync::Arc::new(crate::clock::RealClock::start());
+                if rig.sensor.source != crate::rig::config::SensorSource::Sim {
+                    drop(crate::rig::open_sensor(&rig, clock.clone())?);
+                }
+                if rig.turntable != crate::rig::config::TurntableConfig::Sim {
+                    drop(crate::rig::open_turntable(&rig, clock)?);
+                }
+            }
             println!(
                 "{}: ok: site {} ({:.4}, {:.4}, {} m, {}); arena mark {} deg {}; sensor {}; turntable {}",
                 file.display(),
