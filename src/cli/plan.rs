@@ -1,8 +1,11 @@
 //! `skybearing plan`: a protocol's timeline with the sun at every epoch, before the session.
 
-use crate::protocol::plan::{DEFAULT_MAX_DRIFT_DEG, Plan, PlanSite, WarningKind, make_plan};
+use crate::protocol::plan::{
+    DEFAULT_MAX_DRIFT_DEG, MagneticMark, Plan, PlanSite, WarningKind, make_plan,
+};
 use crate::protocol::{ArenaMove, format_duration_s, load_protocol};
 use crate::rig::config::{BearingReference, Rig};
+use crate::sky::Site;
 use anyhow::Context;
 use chrono::{DateTime, Utc};
 use chrono_tz::Tz;
@@ -51,13 +54,14 @@ pub fn run(args: PlanArgs) -> anyhow::Result<i32> {
         None => next_minute(Utc::now()),
     };
     let (protocol, protocol_warnings) = load_protocol(&args.protocol)?;
-    let site = match &args.rig {
+    let (site, magnetic) = match &args.rig {
         Some(path) => plan_site_from_rig(&read_rig(path)?, start)
             .with_context(|| format!("{}", path.display()))?,
-        None => PlanSite::demo(),
+        None => (PlanSite::demo(), None),
     };
     let mut plan = make_plan(&protocol, &site, start, args.max_drift_deg)
         .context("computing the sun for the plan")?;
+    plan.magnetic_mark = magnetic;
     plan.add_protocol_warnings(&protocol_warnings);
     if args.json {
         println!("{}", serde_json::to_string_pretty(&plan)?);
@@ -101,37 +105,64 @@ fn read_rig(path: &Path) -> anyhow::Result<Rig> {
 
 /// Site, time zone and true mark bearing from a rig; a magnetic mark bearing is corrected with
 /// the WMM declination for the site on the session's date.
-pub fn plan_site_from_rig(rig: &Rig, start: DateTime<Utc>) -> anyhow::Result<PlanSite> {
-    let time_zone: Tz = rig.time_zone.parse().map_err(|_| {
+pub fn plan_site_from_rig(
+    rig: &Rig,
+    start: DateTime<Utc>,
+) -> anyhow::Result<(PlanSite, Option<MagneticMark>)> {
+    plan_site_from_parts(
+        &rig.site,
+        &rig.time_zone,
+        rig.arena_mark_bearing_deg,
+        rig.arena_mark_reference,
+        start,
+    )
+}
+
+/// As [`plan_site_from_rig`], from the rig's parts.
+pub fn plan_site_from_parts(
+    site: &Site,
+    time_zone: &str,
+    mark_bearing_deg: f64,
+    reference: BearingReference,
+    start: DateTime<Utc>,
+) -> anyhow::Result<(PlanSite, Option<MagneticMark>)> {
+    let time_zone: Tz = time_zone.parse().map_err(|_| {
         anyhow::anyhow!(
-            "time_zone: '{}' is not an IANA time zone name such as Europe/Paris",
-            rig.time_zone
+            "time_zone: '{time_zone}' is not an IANA time zone name such as Europe/Paris"
         )
     })?;
-    let mark_bearing_true_deg = match rig.arena_mark_reference {
-        BearingReference::True => rig.arena_mark_bearing_deg,
+    let (mark_bearing_true_deg, magnetic) = match reference {
+        BearingReference::True => (mark_bearing_deg, None),
         BearingReference::Magnetic => {
-            let s = &rig.site;
             let date = start.date_naive();
             let decl = crate::sky::magnetic::declination_deg(
-                s.latitude_deg,
-                s.longitude_deg,
-                s.elevation_m,
+                site.latitude_deg,
+                site.longitude_deg,
+                site.elevation_m,
                 date,
             )
             .ok_or_else(|| {
                 anyhow::anyhow!(
-                    "arena_mark_bearing_deg is magnetic but the magnetic model has no declination for {date}; give a true bearing"
+                    "arena mark bearing is magnetic but the magnetic model has no declination for {date}; give a true bearing"
                 )
             })?;
-            crate::frames::true_from_magnetic_deg(rig.arena_mark_bearing_deg, decl)
+            (
+                crate::frames::true_from_magnetic_deg(mark_bearing_deg, decl),
+                Some(MagneticMark {
+                    magnetic_bearing_deg: mark_bearing_deg,
+                    declination_deg: decl,
+                }),
+            )
         }
     };
-    Ok(PlanSite {
-        site: rig.site.clone(),
-        time_zone,
-        mark_bearing_true_deg,
-    })
+    Ok((
+        PlanSite {
+            site: site.clone(),
+            time_zone,
+            mark_bearing_true_deg,
+        },
+        magnetic,
+    ))
 }
 
 fn hms(t: DateTime<Utc>, tz: Tz, day0: chrono::NaiveDate) -> String {
@@ -195,9 +226,20 @@ pub fn render_text(plan: &Plan, tz: Tz) -> String {
         plan.time_zone,
         local0.format("%Z, UTC%:z")
     );
+    let magnetic = plan
+        .magnetic_mark
+        .map(|m| {
+            format!(
+                " (magnetic {:.1} {} declination {:.1})",
+                m.magnetic_bearing_deg,
+                if m.declination_deg < 0.0 { "-" } else { "+" },
+                m.declination_deg.abs()
+            )
+        })
+        .unwrap_or_default();
     let _ = writeln!(
         out,
-        "Arena     0 mark at true bearing {:.1} deg at the start; settle window {} s after each turn",
+        "Arena     0 mark at true bearing {:.1} deg{magnetic} at the start; settle window {} s after each turn",
         plan.arena_mark_bearing_deg, plan.settle_s
     );
     let end_local = plan.end_utc.with_timezone(&tz);
@@ -358,25 +400,21 @@ mod tests {
         );
     }
 
-    fn rig(reference: BearingReference, tz: &str) -> Rig {
-        Rig {
-            site: crate::sky::demo_site(),
-            time_zone: tz.to_string(),
-            arena_mark_bearing_deg: 10.0,
-            arena_mark_reference: reference,
-            calibration: Default::default(),
-            settle_s: 5.0,
-            sessions_dir: PathBuf::from("sessions"),
-        }
+    fn from_parts(
+        reference: BearingReference,
+        tz: &str,
+        start: DateTime<Utc>,
+    ) -> anyhow::Result<(PlanSite, Option<MagneticMark>)> {
+        plan_site_from_parts(&crate::sky::demo_site(), tz, 10.0, reference, start)
     }
 
     #[test]
     fn rig_true_and_magnetic_marks() {
         let start = Utc.with_ymd_and_hms(2026, 6, 21, 8, 0, 0).unwrap();
-        let s = plan_site_from_rig(&rig(BearingReference::True, "Europe/Paris"), start).unwrap();
+        let (s, none) = from_parts(BearingReference::True, "Europe/Paris", start).unwrap();
         assert_eq!(s.mark_bearing_true_deg, 10.0);
-        let m =
-            plan_site_from_rig(&rig(BearingReference::Magnetic, "Europe/Paris"), start).unwrap();
+        assert!(none.is_none());
+        let (m, mark) = from_parts(BearingReference::Magnetic, "Europe/Paris", start).unwrap();
         let site = crate::sky::demo_site();
         let d = crate::sky::magnetic::declination_deg(
             site.latitude_deg,
@@ -386,13 +424,14 @@ mod tests {
         )
         .unwrap();
         assert!((m.mark_bearing_true_deg - (10.0 + d)).abs() < 1e-9);
+        assert_eq!(mark.map(|k| k.declination_deg), Some(d));
         // Outside the model's validity a magnetic mark cannot be corrected.
         let old = Utc.with_ymd_and_hms(1990, 6, 21, 8, 0, 0).unwrap();
-        let e = plan_site_from_rig(&rig(BearingReference::Magnetic, "Europe/Paris"), old)
+        let e = from_parts(BearingReference::Magnetic, "Europe/Paris", old)
             .unwrap_err()
             .to_string();
         assert!(e.contains("no declination for 1990-06-21"), "{e}");
-        let e = plan_site_from_rig(&rig(BearingReference::True, "Mars/Olympus"), start)
+        let e = from_parts(BearingReference::True, "Mars/Olympus", start)
             .unwrap_err()
             .to_string();
         assert!(e.starts_with("time_zone: 'Mars/Olympus'"), "{e}");

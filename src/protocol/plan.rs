@@ -135,6 +135,15 @@ pub struct PlanWarning {
     pub message: String,
 }
 
+/// A magnetic mark bearing and its correction.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct MagneticMark {
+    /// The bearing as measured with a compass.
+    pub magnetic_bearing_deg: f64,
+    /// WMM declination, east positive, degrees.
+    pub declination_deg: f64,
+}
+
 /// The whole timeline.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Plan {
@@ -150,6 +159,9 @@ pub struct Plan {
     pub time_zone: String,
     /// True bearing of the arena's 0 mark at the session start.
     pub arena_mark_bearing_deg: f64,
+    /// When the rig's mark bearing was magnetic: the bearing as measured, and the WMM
+    /// declination used to correct it (true = magnetic + declination). None otherwise.
+    pub magnetic_mark: Option<MagneticMark>,
     /// Session start, UTC.
     pub start_utc: DateTime<Utc>,
     /// Session end, UTC.
@@ -347,6 +359,7 @@ pub fn make_plan_with(
         site: site.site.clone(),
         time_zone: tz.name().to_string(),
         arena_mark_bearing_deg: wrap_360_deg(site.mark_bearing_true_deg),
+        magnetic_mark: None,
         start_utc: start,
         end_utc: end,
         start_local: local_string(start, tz),
