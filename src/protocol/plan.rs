@@ -1,0 +1,1 @@
+//! The concrete timeline of a session (placeholder until the planning step lands).
