@@ -117,38 +117,35 @@ def animal_of(meta):
     return meta.get("animal") or meta.get("animal_id") or meta["id"]
 
 
-def conditions_of(meta, summary):
-    conds = {}
-    for i, e in enumerate((meta.get("protocol") or {}).get("epochs") or []):
-        if "condition" in e:
-            conds[int(e.get("index", i + 1))] = e["condition"]
-    for e in (summary or {}).get("epochs", []):
-        conds.setdefault(int(e["index"]), e["condition"])
-    return conds
+def planned_of(meta):
+    """session.json "epochs": index -> (condition, planned turn before the epoch)."""
+    return {int(e["index"]): (e["condition"], float(e["turn_before_deg"])) for e in meta["epochs"]}
 
 
 def session_tables(folder):
     meta, summary, df = load_session(folder)
-    conds = conditions_of(meta, summary)
+    planned = planned_of(meta)
+    conds = {k: v[0] for k, v in planned.items()}
     sid = meta["id"]
     animal = animal_of(meta)
     df = df.reset_index(drop=True)
     # A chain is a run of consecutive scored rows of one epoch.
     brk = (df["scored"] == 0) | (df["epoch"] != df["epoch"].shift())
     df["chain"] = brk.cumsum()
-    scored = df[(df["scored"] == 1) & (df["epoch"] > 0)]
+    scored_all = df[df["scored"] == 1]
+    scored = scored_all[scored_all["epoch"].isin(list(planned))]
     epochs = []
     world_by_epoch = {}
     arena_by_epoch = {}
-    for ep, g in df[df["epoch"] > 0].groupby("epoch", sort=True):
+    for ep, g in df[df["epoch"].isin(list(planned))].groupby("epoch", sort=True):
         s = g[g["scored"] == 1]
         n, mw, r = circ_desc(s["world_heading_deg"])
         _, ma, ra = circ_desc(s["arena_heading_deg"])
         sun = (s["world_heading_deg"] - s["sun_azimuth_deg"]) % 360.0
         _, msun, rsun = circ_desc(sun)
         ne = n_eff(s["world_heading_deg"].to_numpy(), s["chain"].to_numpy())
-        # The arena bearing of the epoch's last scored sample (its last sample if none).
-        bearing = float((s if n > 0 else g)["arena_bearing_deg"].iloc[-1])
+        # The arena bearing of the epoch's first scored sample (its first sample if none).
+        bearing = float((s if n > 0 else g)["arena_bearing_deg"].iloc[0])
         world_by_epoch[int(ep)] = mw
         arena_by_epoch[int(ep)] = ma
         epochs.append(
@@ -171,15 +168,12 @@ def session_tables(folder):
         )
     turns = []
     eps = sorted(world_by_epoch)
-    bearing_of = {e["epoch"]: e["arena_bearing_deg"] for e in epochs}
     commanded = {t["index"]: t["turn_deg"] for t in (summary or {}).get("turns", [])}
     for a, b in zip(eps, eps[1:]):
-        if a in commanded:
-            turn = commanded[a]
-        elif bearing_of[a] is not None and bearing_of[b] is not None:
-            turn = signed(bearing_of[b] - bearing_of[a])
-        else:
-            turn = None
+        if b != a + 1:
+            continue
+        # The commanded turn (summary.json), else the planned one (session.json).
+        turn = commanded.get(a, planned[b][1])
         ws = (
             signed(world_by_epoch[b] - world_by_epoch[a])
             if world_by_epoch[a] is not None and world_by_epoch[b] is not None
@@ -188,8 +182,8 @@ def session_tables(folder):
         turns.append(
             dict(session_id=sid, animal=animal, turn=a, turn_deg=turn, world_shift_deg=ws)
         )
-    _, mw_all, rw_all = circ_desc(scored["world_heading_deg"])
-    _, _, ra_all = circ_desc(scored["arena_heading_deg"])
+    _, mw_all, rw_all = circ_desc(scored_all["world_heading_deg"])
+    _, _, ra_all = circ_desc(scored_all["arena_heading_deg"])
     session = dict(
         session_id=sid,
         animal=animal,
