@@ -252,7 +252,7 @@ pub const EPOCH_COLUMNS: &[&str] = &[
     "rayleigh_p_eff",
     "arena_bearing_deg",
     "mean_sun_relative_deg",
-    "r_sun_relative",
+    "mean_sun_azimuth_deg",
     "mean_sun_elevation_deg",
     "flying_s",
     "t_start_s",
@@ -345,12 +345,8 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
                     Cell::Empty
                 },
                 e.arena_bearing_deg.into(),
-                e.sun.mean_deg().into(),
-                if has {
-                    Cell::Num(e.sun.r())
-                } else {
-                    Cell::Empty
-                },
+                e.mean_sun_relative_deg().into(),
+                e.mean_sun_azimuth_deg().into(),
                 e.mean_sun_elevation_deg().into(),
                 e.flying_s.into(),
                 e.t_start_s.into(),

@@ -12,6 +12,7 @@ pub mod figures;
 pub mod meta;
 pub mod population;
 pub mod report;
+pub mod scan;
 pub mod session;
 pub mod table;
 

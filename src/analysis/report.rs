@@ -4,8 +4,8 @@ use super::AnalysisError;
 use super::batch::{epochs_table, sessions_table, turns_table};
 use super::figures::{CircularPanel, FigureData, TurnPoint, write_figures};
 use super::population::animal_key;
+use super::scan::Row;
 use super::session::{SessionStats, analyse_session_with};
-use crate::archive::read::SampleFields;
 use crate::frames::sun_relative_heading_deg;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -37,7 +37,7 @@ struct TracePoint {
 /// Reads the session in `dir` and writes tables, `summary.txt` and figures into `out`.
 pub fn write_report(dir: &Path, out: &Path) -> Result<ReportOutput, AnalysisError> {
     let mut trace: Vec<TracePoint> = Vec::new();
-    let stats = analyse_session_with(dir, |s: &SampleFields<'_>| {
+    let stats = analyse_session_with(dir, |s: &Row| {
         trace.push(TracePoint {
             t_s: s.t_s,
             epoch: s.epoch,

@@ -1,17 +1,18 @@
 //! Per-session statistics recomputed from `samples.csv` in one streaming pass.
 //!
-//! The per-epoch world/arena statistics come from the archive's [`SummaryBuilder`] (the same
-//! code that writes `summary.json`, so a report and a batch agree with the session's own
-//! summary); this module adds what the analysis needs besides: flying time, the time span of
-//! each epoch, sun-relative headings and sun elevation.
+//! The rules are those of the archive's `SummaryBuilder`, which writes `summary.json` (scored
+//! samples with finite headings count; the lag chain breaks at every sample that does not; an
+//! epoch's bearing is that of its first scored sample; turn k lies between epochs k and k + 1),
+//! so a batch agrees with the sessions' own summaries. The builder is not used here because it
+//! computes each heading's sine and cosine twice (epoch and session) and batch must be fast;
+//! this pass adds flying time, each epoch's time span and the sun's mean azimuth and elevation.
 
 use super::AnalysisError;
 use super::meta::{SessionInfo, read_session_info};
-use crate::archive::read::{SampleFields, for_each_sample};
-use crate::archive::summary::SummaryBuilder;
+use super::scan::{Row, ScanOutcome, scan_samples};
+use crate::archive::read::for_each_sample;
 use crate::circular::HeadingAccumulator;
 use crate::frames::{signed_difference_deg, sun_relative_heading_deg};
-use std::collections::BTreeMap;
 use std::path::Path;
 
 /// Gaps between consecutive samples longer than this do not count as flying time, seconds
@@ -25,7 +26,7 @@ pub struct EpochStats {
     pub index: usize,
     /// Condition label ("" when unknown).
     pub condition: String,
-    /// Arena mark bearing during the epoch (its first scored sample's; see [`SummaryBuilder`]).
+    /// Arena mark bearing during the epoch (that of its first scored sample).
     pub arena_bearing_deg: Option<f64>,
     /// All rows of the epoch.
     pub rows: u64,
@@ -33,8 +34,11 @@ pub struct EpochStats {
     pub world: HeadingAccumulator,
     /// Scored arena headings.
     pub arena: HeadingAccumulator,
-    /// Scored sun-relative headings (world heading − sun azimuth).
-    pub sun: HeadingAccumulator,
+    /// Sun azimuth of the epoch's first scored sample (the reference for the mean below).
+    pub sun_azimuth_ref_deg: Option<f64>,
+    /// Σ of the scored samples' sun azimuth minus the reference, in (-180, 180] (the sun moves
+    /// a few degrees per epoch at most, so this linear mean is exact and needs no trigonometry).
+    pub sum_sun_azimuth_offset_deg: f64,
     /// First t_s of the epoch.
     pub t_start_s: f64,
     /// Last t_s of the epoch.
@@ -52,7 +56,22 @@ impl EpochStats {
     }
     /// Mean sun elevation of scored samples.
     pub fn mean_sun_elevation_deg(&self) -> Option<f64> {
-        (self.world.n() > 0).then(|| self.sum_sun_elevation_deg / self.sun.n().max(1) as f64)
+        let n = self.world.n();
+        (n > 0).then(|| self.sum_sun_elevation_deg / n as f64)
+    }
+    /// Mean sun azimuth of scored samples, [0, 360).
+    pub fn mean_sun_azimuth_deg(&self) -> Option<f64> {
+        let n = self.world.n();
+        let r = self.sun_azimuth_ref_deg?;
+        (n > 0).then(|| crate::frames::wrap_360_deg(r + self.sum_sun_azimuth_offset_deg / n as f64))
+    }
+    /// The epoch's mean world heading minus its mean sun azimuth, [0, 360): where the animal
+    /// headed relative to the sun (0 = toward it).
+    pub fn mean_sun_relative_deg(&self) -> Option<f64> {
+        Some(sun_relative_heading_deg(
+            self.world.mean_deg()?,
+            self.mean_sun_azimuth_deg()?,
+        ))
     }
 }
 
@@ -109,21 +128,15 @@ impl SessionStats {
     }
 }
 
-#[derive(Debug, Clone, Default)]
-struct Extra {
-    rows: u64,
-    t_start_s: f64,
-    t_end_s: f64,
-    flying_s: f64,
-    sun: HeadingAccumulator,
-    sum_sun_elevation_deg: f64,
-}
-
-/// Streaming per-session accumulation (O(1) per sample).
+/// Streaming per-session accumulation: O(1) per sample, two sines and cosines per scored
+/// sample (world and arena heading of its epoch). The session totals are the
+/// merged epoch accumulators (plus scored samples outside any epoch).
 pub struct SessionPass {
     info: SessionInfo,
-    builder: SummaryBuilder,
-    extras: BTreeMap<usize, Extra>,
+    epochs: Vec<EpochStats>,
+    /// Scored samples of epoch 0 (before the first epoch), which no epoch holds.
+    outside_world: HeadingAccumulator,
+    outside_arena: HeadingAccumulator,
     prev: Option<(f64, bool, usize, bool)>, // t_s, flying, epoch, scored
     rows: u64,
     flying_s: f64,
@@ -133,15 +146,11 @@ pub struct SessionPass {
 impl SessionPass {
     /// Starts a pass for a session described by `info`.
     pub fn new(info: SessionInfo) -> Self {
-        let planned = info
-            .meta
-            .as_ref()
-            .map(|m| m.epochs.clone())
-            .unwrap_or_default();
         Self {
             info,
-            builder: SummaryBuilder::new(&planned),
-            extras: BTreeMap::new(),
+            epochs: Vec::new(),
+            outside_world: HeadingAccumulator::new(),
+            outside_arena: HeadingAccumulator::new(),
             prev: None,
             rows: 0,
             flying_s: 0.0,
@@ -151,8 +160,7 @@ impl SessionPass {
 
     /// Adds one sample.
     #[inline]
-    pub fn push(&mut self, s: &SampleFields<'_>) {
-        self.builder.push_fields(s);
+    pub fn push(&mut self, s: &Row) {
         self.rows += 1;
         self.duration_s = s.t_s;
         let mut dt_fly = 0.0;
@@ -166,56 +174,59 @@ impl SessionPass {
             chained = epoch == s.epoch && scored;
         }
         self.prev = Some((s.t_s, s.flying, s.epoch, s.scored));
+        let counts = s.scored && s.world_heading_deg.is_finite() && s.arena_heading_deg.is_finite();
         if s.epoch == 0 {
+            if counts {
+                self.outside_world.push_deg(s.world_heading_deg);
+                self.outside_arena.push_deg(s.arena_heading_deg);
+            }
             return;
         }
-        let e = self.extras.entry(s.epoch).or_insert_with(|| Extra {
-            t_start_s: s.t_s,
-            ..Default::default()
-        });
+        if self.epochs.last().is_none_or(|e| e.index != s.epoch) {
+            match self.epochs.iter().position(|e| e.index == s.epoch) {
+                // An epoch seen again (not expected): continue its record.
+                Some(pos) => {
+                    let e = self.epochs.remove(pos);
+                    self.epochs.push(e);
+                }
+                None => self.epochs.push(EpochStats {
+                    index: s.epoch,
+                    condition: self.info.condition(s.epoch).to_string(),
+                    t_start_s: s.t_s,
+                    ..Default::default()
+                }),
+            }
+        }
+        let Some(e) = self.epochs.last_mut() else {
+            return;
+        };
         e.rows += 1;
         e.t_end_s = s.t_s;
         e.flying_s += dt_fly;
-        if s.scored && s.world_heading_deg.is_finite() && s.arena_heading_deg.is_finite() {
-            if !chained {
-                e.sun.mark_gap();
+        if e.arena_bearing_deg.is_none() || (counts && e.world.n() == 0) {
+            // The bearing of the epoch's first scored sample (its first sample until then).
+            if s.arena_bearing_deg.is_finite() {
+                e.arena_bearing_deg = Some(s.arena_bearing_deg);
             }
-            e.sun.push_deg(sun_relative_heading_deg(
-                s.world_heading_deg,
-                s.sun_azimuth_deg,
-            ));
+        }
+        if counts {
+            if !chained {
+                e.world.mark_gap();
+                e.arena.mark_gap();
+            }
+            e.world.push_deg(s.world_heading_deg);
+            e.arena.push_deg(s.arena_heading_deg);
+            let r = *e.sun_azimuth_ref_deg.get_or_insert(s.sun_azimuth_deg);
+            e.sum_sun_azimuth_offset_deg += signed_difference_deg(r, s.sun_azimuth_deg);
             e.sum_sun_elevation_deg += s.sun_elevation_deg;
         }
     }
 
     /// Ends the pass.
-    pub fn finish(self, torn_tail: bool) -> SessionStats {
-        let mut epochs = Vec::new();
-        for (&index, x) in &self.extras {
-            let Some((w, a)) = self.builder.epoch_accumulators(index) else {
-                continue; // an epoch the plan does not know: counted in the session totals only
-            };
-            let bearing = self
-                .builder
-                .epoch_summary(index)
-                .map(|s| s.arena_bearing_deg)
-                .filter(|b| b.is_finite());
-            epochs.push(EpochStats {
-                index,
-                condition: self.info.condition(index).to_string(),
-                arena_bearing_deg: bearing,
-                rows: x.rows,
-                world: w.clone(),
-                arena: a.clone(),
-                sun: x.sun.clone(),
-                t_start_s: x.t_start_s,
-                t_end_s: x.t_end_s,
-                flying_s: x.flying_s,
-                sum_sun_elevation_deg: x.sum_sun_elevation_deg,
-            });
-        }
+    pub fn finish(mut self, torn_tail: bool) -> SessionStats {
+        self.epochs.sort_by_key(|e| e.index);
         let mut turns = Vec::new();
-        for pair in epochs.windows(2) {
+        for pair in self.epochs.windows(2) {
             let (a, b) = (&pair[0], &pair[1]);
             if b.index != a.index + 1 {
                 continue;
@@ -237,11 +248,17 @@ impl SessionPass {
                 arena_shift_deg: shift(a.arena.mean_deg(), b.arena.mean_deg()),
             });
         }
+        let mut world = self.outside_world;
+        let mut arena = self.outside_arena;
+        for e in &self.epochs {
+            world.merge(&e.world);
+            arena.merge(&e.arena);
+        }
         SessionStats {
-            world: self.builder.world().clone(),
-            arena: self.builder.arena().clone(),
+            world,
+            arena,
             info: self.info,
-            epochs,
+            epochs: self.epochs,
             turns,
             rows: self.rows,
             flying_s: self.flying_s,
@@ -251,25 +268,50 @@ impl SessionPass {
     }
 }
 
-/// Reads a session folder: session.json, then one streaming pass over samples.csv.
+/// Reads a session folder: session.json, then one streaming pass over samples.csv (memory does
+/// not grow with the file).
 pub fn analyse_session(dir: &Path) -> Result<SessionStats, AnalysisError> {
-    analyse_session_with(dir, |_| {})
+    analyse(dir, false, |_| {})
 }
 
-/// Like [`analyse_session`], also handing every sample to `also` (report keeps a trace).
+/// Like [`analyse_session`], also handing every sample to `also`, in order, once the file is
+/// known to be readable (report keeps a trace of one session).
 pub fn analyse_session_with(
     dir: &Path,
-    mut also: impl FnMut(&SampleFields<'_>),
+    also: impl FnMut(&Row),
+) -> Result<SessionStats, AnalysisError> {
+    analyse(dir, true, also)
+}
+
+fn analyse(
+    dir: &Path,
+    want_rows: bool,
+    mut also: impl FnMut(&Row),
 ) -> Result<SessionStats, AnalysisError> {
     let samples = dir.join("samples.csv");
     if !samples.is_file() {
         return Err(AnalysisError::Missing { path: samples });
     }
     let info = read_session_info(dir)?;
+    let mut pass = SessionPass::new(info.clone());
+    let mut seen: Vec<Row> = Vec::new();
+    let keep = want_rows;
+    if let ScanOutcome::Done(_) = scan_samples(&samples, |r| {
+        pass.push(r);
+        if keep {
+            seen.push(*r);
+        }
+    }) {
+        seen.iter().for_each(&mut also);
+        return Ok(pass.finish(false));
+    }
+    // Not a plain file: the archive's general reader (quoted fields, a torn last line, and the
+    // error message naming the line) from the start.
     let mut pass = SessionPass::new(info);
     let stats = for_each_sample(&samples, |s| {
-        pass.push(s);
-        also(s);
+        let r = Row::from(s);
+        pass.push(&r);
+        also(&r);
     })?;
     Ok(pass.finish(stats.torn.is_some()))
 }

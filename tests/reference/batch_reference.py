@@ -133,16 +133,24 @@ def session_tables(folder):
     brk = (df["scored"] == 0) | (df["epoch"] != df["epoch"].shift())
     df["chain"] = brk.cumsum()
     scored_all = df[df["scored"] == 1]
-    scored = scored_all[scored_all["epoch"].isin(list(planned))]
+    scored = scored_all[scored_all["epoch"] > 0]
     epochs = []
     world_by_epoch = {}
     arena_by_epoch = {}
-    for ep, g in df[df["epoch"].isin(list(planned))].groupby("epoch", sort=True):
+    for ep, g in df[df["epoch"] > 0].groupby("epoch", sort=True):
         s = g[g["scored"] == 1]
         n, mw, r = circ_desc(s["world_heading_deg"])
         _, ma, ra = circ_desc(s["arena_heading_deg"])
-        sun = (s["world_heading_deg"] - s["sun_azimuth_deg"]) % 360.0
-        _, msun, rsun = circ_desc(sun)
+        # Mean sun azimuth: linear mean of the offsets from the first scored sample's azimuth
+        # (the sun moves a few degrees per epoch); sun-relative = mean world - mean sun az.
+        if n > 0:
+            az = s["sun_azimuth_deg"].to_numpy()
+            w = (az - az[0]) % 360.0
+            off = np.where(w > 180.0, w - 360.0, w)
+            mean_az = wrap360(az[0] + off.mean())
+            msun = wrap360(mw - mean_az) if mw is not None else None
+        else:
+            mean_az = msun = None
         ne = n_eff(s["world_heading_deg"].to_numpy(), s["chain"].to_numpy())
         # The arena bearing of the epoch's first scored sample (its first sample if none).
         bearing = float((s if n > 0 else g)["arena_bearing_deg"].iloc[0])
@@ -164,6 +172,8 @@ def session_tables(folder):
                 rayleigh_p_eff=rayleigh_p(ne, r) if n else None,
                 arena_bearing_deg=bearing,
                 mean_sun_relative_deg=msun,
+                mean_sun_azimuth_deg=mean_az,
+                mean_sun_elevation_deg=float(s["sun_elevation_deg"].mean()) if n else None,
             )
         )
     turns = []
@@ -173,7 +183,7 @@ def session_tables(folder):
         if b != a + 1:
             continue
         # The commanded turn (summary.json), else the planned one (session.json).
-        turn = commanded.get(a, planned[b][1])
+        turn = commanded.get(a, planned[b][1] if b in planned else None)
         ws = (
             signed(world_by_epoch[b] - world_by_epoch[a])
             if world_by_epoch[a] is not None and world_by_epoch[b] is not None
