@@ -71,7 +71,10 @@ pub struct ScaledClock {
 impl ScaledClock {
     /// A clock whose zero is now, running `factor` times faster than real time.
     pub fn start(factor: f64) -> Self {
-        Self { anchor: Instant::now(), factor }
+        Self {
+            anchor: Instant::now(),
+            factor,
+        }
     }
 
     /// The speed factor.

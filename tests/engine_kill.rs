@@ -30,7 +30,16 @@ fn sigkill_then_check_then_repair() {
     let tmp = tempfile::tempdir().expect("tmp");
     let spawned = Instant::now();
     let mut child = Command::new(BIN)
-        .args(["demo", "--headless", "--speed", "1", "--seed", "5", "--rate-hz", "200"])
+        .args([
+            "demo",
+            "--headless",
+            "--speed",
+            "1",
+            "--seed",
+            "5",
+            "--rate-hz",
+            "200",
+        ])
         .args(["--start", "2026-06-14T07:30:00Z"])
         .arg("--sessions")
         .arg(tmp.path())
@@ -63,21 +72,45 @@ fn sigkill_then_check_then_repair() {
         "last sample on disk at {last_before:.2} s, killed after {killed_after:.2} s"
     );
 
-    let check = Command::new(BIN).arg("check").arg(dir).output().expect("check");
-    assert!(!check.status.success(), "check must flag an interrupted session");
+    let check = Command::new(BIN)
+        .arg("check")
+        .arg(dir)
+        .output()
+        .expect("check");
+    assert!(
+        !check.status.success(),
+        "check must flag an interrupted session"
+    );
     let text = String::from_utf8_lossy(&check.stdout).to_lowercase()
         + &String::from_utf8_lossy(&check.stderr).to_lowercase();
     assert!(text.contains("interrupted"), "{text}");
 
-    let repair = Command::new(BIN).args(["check", "--repair"]).arg(dir).output().expect("repair");
-    assert!(repair.status.success(), "{}", String::from_utf8_lossy(&repair.stderr));
-    let again = Command::new(BIN).arg("check").arg(dir).output().expect("check");
-    assert!(again.status.success(), "{}", String::from_utf8_lossy(&again.stdout));
+    let repair = Command::new(BIN)
+        .args(["check", "--repair"])
+        .arg(dir)
+        .output()
+        .expect("repair");
+    assert!(
+        repair.status.success(),
+        "{}",
+        String::from_utf8_lossy(&repair.stderr)
+    );
+    let again = Command::new(BIN)
+        .arg("check")
+        .arg(dir)
+        .output()
+        .expect("check");
+    assert!(
+        again.status.success(),
+        "{}",
+        String::from_utf8_lossy(&again.stdout)
+    );
     let (n_after, last_after) = last_t_s(dir);
     assert_eq!(n_after, n_before, "repair must keep every whole sample");
     assert_eq!(last_after, last_before);
     let meta: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("session.json")).expect("json")).expect("json");
+        serde_json::from_str(&std::fs::read_to_string(dir.join("session.json")).expect("json"))
+            .expect("json");
     assert_eq!(meta["status"], "recovered");
     assert!(dir.join("summary.json").is_file());
 }

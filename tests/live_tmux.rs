@@ -14,10 +14,16 @@ struct Tmux {
 
 impl Tmux {
     fn cmd(&self, args: &[&str]) -> std::process::Output {
-        Command::new("tmux").arg("-L").arg(&self.socket).args(args).output().expect("tmux runs")
+        Command::new("tmux")
+            .arg("-L")
+            .arg(&self.socket)
+            .args(args)
+            .output()
+            .expect("tmux runs")
     }
     fn capture(&self) -> String {
-        String::from_utf8_lossy(&self.cmd(&["capture-pane", "-p", "-t", "live"]).stdout).into_owned()
+        String::from_utf8_lossy(&self.cmd(&["capture-pane", "-p", "-t", "live"]).stdout)
+            .into_owned()
     }
     fn wait_for(&self, what: &str, secs: u64) -> String {
         let until = Instant::now() + Duration::from_secs(secs);
@@ -26,7 +32,10 @@ impl Tmux {
             if screen.contains(what) {
                 return screen;
             }
-            assert!(Instant::now() < until, "'{what}' never appeared; screen:\n{screen}");
+            assert!(
+                Instant::now() < until,
+                "'{what}' never appeared; screen:\n{screen}"
+            );
             std::thread::sleep(Duration::from_millis(200));
         }
     }
@@ -37,7 +46,11 @@ impl Tmux {
 
 impl Drop for Tmux {
     fn drop(&mut self) {
-        let _ = Command::new("tmux").arg("-L").arg(&self.socket).arg("kill-server").output();
+        let _ = Command::new("tmux")
+            .arg("-L")
+            .arg(&self.socket)
+            .arg("kill-server")
+            .output();
     }
 }
 
@@ -57,32 +70,63 @@ fn wait_file(p: &Path, secs: u64) -> String {
 #[test]
 fn live_demo_in_tmux_ends_with_q_then_y() {
     assert!(
-        Command::new("tmux").arg("-V").output().is_ok_and(|o| o.status.success()),
+        Command::new("tmux")
+            .arg("-V")
+            .output()
+            .is_ok_and(|o| o.status.success()),
         "tmux is needed for this test (.ci/run installs it)"
     );
     let tmp = tempfile::tempdir().expect("tmp");
     let sessions = tmp.path().join("sessions");
     let done = tmp.path().join("exit.txt");
     let script = format!(
-        "'{bin}' demo --speed 30 --seed 4 --start 2026-06-14T07:30:00Z --sessions '{s}' > '{o}' 2>&1; echo $? > '{d}'; sleep 30",
+        "'{bin}' demo --speed 30 --seed 4 --start 2026-06-14T07:30:00Z --sessions '{s}' 2> '{o}'; echo $? > '{d}'; sleep 30",
         bin = BIN,
         s = sessions.display(),
-        o = tmp.path().join("out.txt").display(),
+        o = tmp.path().join("err.txt").display(),
         d = done.display()
     );
-    let tmux = Tmux { socket: format!("skybearing-test-{}", std::process::id()) };
-    let out = tmux.cmd(&["new-session", "-d", "-s", "live", "-x", "80", "-y", "24", "sh", "-c", &script]);
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let tmux = Tmux {
+        socket: format!("skybearing-test-{}", std::process::id()),
+    };
+    let out = tmux.cmd(&[
+        "new-session",
+        "-d",
+        "-s",
+        "live",
+        "-x",
+        "80",
+        "-y",
+        "24",
+        "sh",
+        "-c",
+        &script,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
 
     // 80×24: the session line shows the animal; the screen says how to end.
     let screen = tmux.wait_for("lm-07", 20);
-    assert!(screen.contains("Larkfield") || screen.contains("lm-07"), "{screen}");
+    assert!(
+        screen.contains("Larkfield") || screen.contains("lm-07"),
+        "{screen}"
+    );
     // Bigger window: the screen uses the room.
     tmux.cmd(&["resize-window", "-t", "live", "-x", "160", "-y", "48"]);
     std::thread::sleep(Duration::from_millis(800));
     let big = tmux.capture();
-    assert!(big.lines().count() >= 40, "after resize the pane has {} lines", big.lines().count());
-    assert!(big.lines().any(|l| l.trim_end().len() > 100), "the wide screen uses the width:\n{big}");
+    assert!(
+        big.lines().count() >= 40,
+        "after resize the pane has {} lines",
+        big.lines().count()
+    );
+    assert!(
+        big.lines().any(|l| l.trim_end().len() > 100),
+        "the wide screen uses the width:\n{big}"
+    );
 
     // q then anything but y: the session goes on.
     tmux.keys("q");
@@ -96,12 +140,29 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
     std::thread::sleep(Duration::from_millis(500));
     tmux.keys("y");
     let code = wait_file(&done, 30);
-    assert_eq!(code.trim(), "0", "exit status; output: {}", std::fs::read_to_string(tmp.path().join("out.txt")).unwrap_or_default());
-    let out = std::fs::read_to_string(tmp.path().join("out.txt")).expect("out");
-    let dir = out.lines().rev().find(|l| l.contains("sessions")).expect("session path printed");
-    let dir = Path::new(dir.trim_matches(|c: char| c.is_control() || c.is_whitespace()));
-    let meta: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("session.json")).expect("session.json")).expect("json");
+    assert_eq!(
+        code.trim(),
+        "0",
+        "exit status; stderr: {}",
+        std::fs::read_to_string(tmp.path().join("err.txt")).unwrap_or_default()
+    );
+    // The terminal is restored and the folder's path is printed last.
+    let after = tmux.capture();
+    let dirs: Vec<_> = std::fs::read_dir(&sessions)
+        .expect("sessions")
+        .map(|e| e.expect("entry").path())
+        .collect();
+    assert_eq!(dirs.len(), 1);
+    let dir = dirs[0].as_path();
+    let name = dir.file_name().and_then(|n| n.to_str()).expect("name");
+    assert!(
+        after.contains(name),
+        "the session path is printed after the screen closes:\n{after}"
+    );
+    let meta: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(dir.join("session.json")).expect("session.json"),
+    )
+    .expect("json");
     assert_eq!(meta["status"], "aborted", "ended early by the operator");
     assert!(dir.join("summary.json").is_file());
     let samples = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");

@@ -75,7 +75,9 @@ pub fn parse_speed(s: &str) -> Result<Speed, String> {
     }
     match s.parse::<f64>() {
         Ok(x) if x.is_finite() && x > 0.0 && x <= 1e6 => Ok(Speed::Times(x)),
-        _ => Err(format!("'{s}' is not a speed: give a factor such as 1, 30 or 600, or 'max'")),
+        _ => Err(format!(
+            "'{s}' is not a speed: give a factor such as 1, 30 or 600, or 'max'"
+        )),
     }
 }
 
@@ -86,10 +88,36 @@ pub fn parse_start(s: &str) -> Result<DateTime<Utc>, String> {
         .map_err(|e| format!("'{s}' is not an RFC 3339 time such as 2026-06-14T09:30:00Z ({e})"))
 }
 
+/// The demo's start when none is given: now if the sun stands at least 10° high at the demo
+/// site, else the next whole hour when it stands at least 15° high (a sky-compass demo at night
+/// would show nothing useful). Returns whether the start was moved.
+pub fn default_start(site: &crate::sky::Site, now: DateTime<Utc>) -> (DateTime<Utc>, bool) {
+    let elevation = |t: DateTime<Utc>| {
+        crate::sky::sun::sun_position(site.latitude_deg, site.longitude_deg, site.elevation_m, t)
+            .map(|p| p.elevation_deg)
+            .unwrap_or(f64::NAN)
+    };
+    if elevation(now) >= 10.0 {
+        return (now, false);
+    }
+    let hour =
+        now.trunc_subsecs(0) - chrono::Duration::seconds(i64::from(now.timestamp() as i32 % 3600));
+    for h in 1..=48 {
+        let t = hour + chrono::Duration::hours(h);
+        if elevation(t) >= 15.0 {
+            return (t, true);
+        }
+    }
+    (now, false)
+}
+
 /// Runs the command; returns the exit status.
 pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
     if !(0.0..=1.0).contains(&args.garbage) {
-        bail!("--garbage: {} is not a fraction between 0 and 1", args.garbage);
+        bail!(
+            "--garbage: {} is not a fraction between 0 and 1",
+            args.garbage
+        );
     }
     if !(args.rate_hz > 0.0 && args.rate_hz <= 10_000.0) {
         bail!("--rate-hz: {} is outside (0, 10000]", args.rate_hz);
@@ -105,9 +133,21 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
         None => crate::protocol::demo_protocol(),
     };
     let rig = crate::rig::config::demo_rig();
-    let start_utc = args.start.unwrap_or_else(|| Utc::now().trunc_subsecs(3));
     let site = rig.site.clone();
-    let mut track = crate::sky::sun::SunTrack::new(
+    let start_utc = match args.start {
+        Some(t) => t,
+        None => {
+            let (t, moved) = default_start(&site, Utc::now().trunc_subsecs(3));
+            if moved {
+                eprintln!(
+                    "skybearing: the sun is low at the demo site now; the simulated session starts at {} instead (pass --start to choose)",
+                    t.to_rfc3339_opts(chrono::SecondsFormat::Secs, true)
+                );
+            }
+            t
+        }
+    };
+    let track = crate::sky::sun::SunTrack::new(
         site.latitude_deg,
         site.longitude_deg,
         site.elevation_m,
@@ -121,8 +161,12 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
     };
     let mut sim = SimConfig::new(args.seed);
     sim.animal_mode = mode;
-    sim.sun_azimuth_deg = Box::new(move |t_s: f64| track.at(t_s).azimuth_deg);
-    sim.mark_bearing_deg = rig.arena_mark_bearing_deg;
+    let track = std::sync::Mutex::new(track);
+    sim.sun_azimuth_deg = Box::new(move |t_s: f64| match track.lock() {
+        Ok(mut g) => g.at(t_s).azimuth_deg,
+        Err(poisoned) => poisoned.into_inner().at(t_s).azimuth_deg,
+    });
+    sim.arena_mark_true_bearing_deg = rig.arena_mark_bearing_deg;
     sim.rate_hz = args.rate_hz;
     sim.garbage_fraction = args.garbage;
     sim.unplug_at_s = args.unplug_at;
@@ -137,7 +181,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
         "unplug_for_s": args.unplug_for,
         "stall_turntable": args.stall_turntable,
     });
-    let (sensor, turntable) = crate::rig::sim::in_process(sim);
+    let (sensor, turntable, operator) = crate::rig::sim::in_process_with_operator(sim);
     let setup = SessionSetup {
         mode: "demo".into(),
         animal: args.animal.clone(),
@@ -159,7 +203,18 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
         sensor,
         turntable,
         clock,
-        Display { headless: args.headless, mono: args.mono, auto_confirm_after_s: Some(5.0) },
+        Display {
+            headless: args.headless,
+            mono: args.mono,
+            auto_confirm_after_s: Some(5.0),
+        },
+        Some(operator),
     )?;
-    Ok(if outcome.status == "complete" || outcome.reason.contains("operator") { 0 } else { 1 })
+    Ok(
+        if outcome.status == "complete" || outcome.reason.contains("operator") {
+            0
+        } else {
+            1
+        },
+    )
 }

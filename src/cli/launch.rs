@@ -59,6 +59,7 @@ pub fn launch(
     mut turntable: Box<dyn Turntable>,
     clock: EngineClock,
     display: Display,
+    sim_operator: Option<crate::rig::sim::SimOperator>,
 ) -> anyhow::Result<Outcome> {
     let cell = SnapshotCell::new();
     let (tx, rx) = mpsc::channel::<Command>();
@@ -98,8 +99,11 @@ pub fn launch(
             stop: &STOP,
             progress: &mut progress,
             auto_confirm_after_s: display.auto_confirm_after_s,
+            sim_operator,
         })?;
-        println!("{}", outcome.dir.display());
+        let mut out = stdout.lock();
+        let _ = writeln!(out, "{}", outcome.dir.display());
+        let _ = out.flush();
         return Ok(outcome);
     }
 
@@ -119,10 +123,14 @@ pub fn launch(
                 stop: &never,
                 progress: &mut quiet,
                 auto_confirm_after_s: display.auto_confirm_after_s,
+                sim_operator,
             })
         })
         .context("starting the engine thread")?;
-    let options = crate::tui::ScreenOptions::from_env(display.mono);
+    let options = crate::tui::ScreenOptions {
+        mono: display.mono,
+        ..Default::default()
+    };
     let screen = crate::tui::run_live(cell.clone(), tx.clone(), options);
     if screen.is_err() {
         // The screen failed: end the session properly so nothing is lost.
@@ -132,6 +140,7 @@ pub fn launch(
         .join()
         .map_err(|_| anyhow!("the engine thread panicked; what reached the disk is kept (run `skybearing check --repair`)"))??;
     screen.context("live screen")?;
-    println!("{}", outcome.dir.display());
+    let mut out = std::io::stdout().lock();
+    let _ = writeln!(out, "{}", outcome.dir.display());
     Ok(outcome)
 }

@@ -40,7 +40,10 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
     for w in warnings {
         eprintln!("skybearing: warning: {w}");
     }
-    let sessions_dir = args.sessions.clone().unwrap_or_else(|| rig.sessions_dir.clone());
+    let sessions_dir = args
+        .sessions
+        .clone()
+        .unwrap_or_else(|| rig.sessions_dir.clone());
     let clock = RealClock::start();
     // The UTC anchor is read once, at session second 0; after that only the monotonic clock
     // stamps samples, so a wall-clock step cannot bend t_s.
@@ -67,7 +70,18 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         sensor,
         turntable,
         EngineClock::Real(Box::new(clock)),
-        Display { headless: args.headless, mono: args.mono, auto_confirm_after_s: None },
+        Display {
+            headless: args.headless,
+            mono: args.mono,
+            auto_confirm_after_s: None,
+        },
+        None,
     )?;
-    Ok(if outcome.status == "complete" || outcome.reason.contains("operator") { 0 } else { 1 })
+    Ok(
+        if outcome.status == "complete" || outcome.reason.contains("operator") {
+            0
+        } else {
+            1
+        },
+    )
 }

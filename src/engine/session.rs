@@ -18,12 +18,13 @@ use crate::frames::{
 };
 use crate::protocol::{ArenaMove, Protocol};
 use crate::rig::config::{BearingReference, Rig};
+use crate::rig::sim::SimOperator;
 use crate::rig::{HeadingSource, SensorEvent, Turntable, TurntableEvent};
 use crate::sky::polarization::zenith_evector_deg;
 use crate::sky::sun::SunTrack;
 use chrono::{DateTime, Duration, FixedOffset, Offset, TimeZone, Utc};
 use std::collections::VecDeque;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc::Receiver;
 
@@ -106,15 +107,6 @@ pub enum EngineClock {
     Sim(SimClock),
 }
 
-impl EngineClock {
-    fn now_s(&self) -> f64 {
-        match self {
-            EngineClock::Real(c) => c.now_s(),
-            EngineClock::Sim(c) => c.now_s(),
-        }
-    }
-}
-
 #[derive(Debug, Clone)]
 struct EpochRt {
     index: usize,
@@ -145,9 +137,20 @@ enum PromptKind {
 #[derive(Debug, Clone, PartialEq)]
 enum Phase {
     /// Waiting for the operator before epoch `next`.
-    Prompt { next: usize, kind: PromptKind, text: String, since_s: f64 },
+    Prompt {
+        next: usize,
+        kind: PromptKind,
+        text: String,
+        since_s: f64,
+    },
     /// The turntable is turning before epoch `next`.
-    Turning { next: usize, by_deg: f64, from_deg: f64, since_s: f64, commanded: bool },
+    Turning {
+        next: usize,
+        by_deg: f64,
+        from_deg: f64,
+        since_s: f64,
+        commanded: bool,
+    },
     /// Epoch `k` runs.
     Running { k: usize },
     /// All done.
@@ -178,7 +181,8 @@ pub struct Engine {
     trace: VecDeque<TracePoint>,
     turn_marks: VecDeque<f64>,
     recent: VecDeque<String>,
-    last_sync_utc: Option<DateTime<Utc>>,
+    /// Real (monotonic) instant of the last successful archive sync.
+    last_sync: Option<std::time::Instant>,
     end: Option<(String, String)>,
     sensor_desc: String,
     turntable_desc: String,
@@ -206,7 +210,9 @@ impl Engine {
         let mark_true_deg = match setup.rig.arena_mark_reference {
             BearingReference::True => wrap_360_deg(setup.rig.arena_mark_bearing_deg),
             BearingReference::Magnetic => match declination {
-                Some(d) => crate::frames::true_from_magnetic_deg(setup.rig.arena_mark_bearing_deg, d),
+                Some(d) => {
+                    crate::frames::true_from_magnetic_deg(setup.rig.arena_mark_bearing_deg, d)
+                }
                 None => {
                     return Err(EngineError::Setup(format!(
                         "rig: arena mark bearing is magnetic but the World Magnetic Model gives no declination for {date}; measure the bearing against true north"
@@ -259,7 +265,12 @@ impl Engine {
             started_utc: setup.start_utc,
             ended_utc: None,
             animal: setup.animal.clone(),
-            site: site.clone(),
+            site: archive::SiteMeta {
+                name: site.name.clone(),
+                latitude_deg: site.latitude_deg,
+                longitude_deg: site.longitude_deg,
+                elevation_m: site.elevation_m,
+            },
             time_zone: setup.rig.time_zone.clone(),
             arena_mark_bearing_deg: mark_true_deg,
             arena_mark_bearing_measured_deg: setup.rig.arena_mark_bearing_deg,
@@ -270,12 +281,20 @@ impl Engine {
             declination_deg: declination,
             protocol: serde_json::to_value(&setup.protocol).unwrap_or(serde_json::Value::Null),
             epochs: planned.clone(),
-            rig: serde_json::to_value(&setup.rig).unwrap_or(serde_json::Value::Null),
+            rig: {
+                let mut rig = serde_json::to_value(&setup.rig).unwrap_or(serde_json::Value::Null);
+                if let (Some(obj), Some(extra)) = (rig.as_object_mut(), setup.extra.as_object()) {
+                    for (k, v) in extra {
+                        obj.insert(k.clone(), v.clone());
+                    }
+                }
+                rig
+            },
             program_version: crate::VERSION.to_string(),
             mode: setup.mode.clone(),
             seed: setup.seed,
             end_reason: None,
-            extra: setup.extra.clone(),
+            notes: 0,
         };
         let summary = SummaryBuilder::new(&planned);
         Ok(Self {
@@ -299,7 +318,7 @@ impl Engine {
             trace: VecDeque::new(),
             turn_marks: VecDeque::new(),
             recent: VecDeque::new(),
-            last_sync_utc: None,
+            last_sync: None,
             end: None,
             sensor_desc: String::new(),
             turntable_desc: String::new(),
@@ -323,10 +342,23 @@ impl Engine {
         self.setup.start_utc + Duration::microseconds((t_s * 1e6).round() as i64)
     }
 
-    fn event(&mut self, t_s: f64, kind: &str, detail: impl Into<String>) -> Result<(), EngineError> {
+    fn event(
+        &mut self,
+        t_s: f64,
+        kind: &str,
+        detail: impl Into<String>,
+    ) -> Result<(), EngineError> {
         let detail = detail.into();
-        let row = EventRow { t_utc: self.utc_at(t_s), t_s, kind: kind.to_string(), detail };
-        let local = row.t_utc.with_timezone(&self.local_offset).format("%H:%M:%S");
+        let row = EventRow {
+            t_utc: self.utc_at(t_s),
+            t_s,
+            kind: kind.to_string(),
+            detail,
+        };
+        let local = row
+            .t_utc
+            .with_timezone(&self.local_offset)
+            .format("%H:%M:%S");
         let line = if row.detail.is_empty() {
             format!("{local} {kind}")
         } else {
@@ -364,7 +396,12 @@ impl Engine {
         }
         if !prompted && let Some(text) = self.epochs[next].prompt.clone() {
             self.event(t, "prompt", text.clone())?;
-            self.phase = Phase::Prompt { next, kind: PromptKind::Protocol, text, since_s: t };
+            self.phase = Phase::Prompt {
+                next,
+                kind: PromptKind::Protocol,
+                text,
+                since_s: t,
+            };
             return Ok(());
         }
         let by_deg = resolve_turn_deg(self.epochs[next].arena, self.position_deg);
@@ -410,7 +447,11 @@ impl Engine {
 
     fn end_epoch(&mut self, k: usize, t: f64, state: EpochState) -> Result<(), EngineError> {
         self.epochs[k].state = state;
-        let kind = if state == EpochState::Skipped { "epoch_skipped" } else { "epoch_end" };
+        let kind = if state == EpochState::Skipped {
+            "epoch_skipped"
+        } else {
+            "epoch_end"
+        };
         self.event(t, kind, format!("epoch {}", self.epochs[k].index))?;
         self.begin_epoch(k + 1, t, false)
     }
@@ -440,7 +481,10 @@ impl Engine {
         while t > self.t_s && self.end.is_none() {
             let from = self.t_s;
             // Abort rule: too long without flight.
-            let abort_at = match (self.setup.protocol.flight.abort_after_stopped_s, self.stopped_since_s) {
+            let abort_at = match (
+                self.setup.protocol.flight.abort_after_stopped_s,
+                self.stopped_since_s,
+            ) {
                 (Some(limit), Some(since)) if !self.flying => Some(since + limit),
                 _ => None,
             };
@@ -475,7 +519,10 @@ impl Engine {
                 }
                 _ => None,
             };
-            let next_at = [end_at, abort_at].into_iter().flatten().fold(f64::INFINITY, f64::min);
+            let next_at = [end_at, abort_at]
+                .into_iter()
+                .flatten()
+                .fold(f64::INFINITY, f64::min);
             let step_to = next_at.min(t).max(from);
             self.accrue(from, step_to);
             self.t_s = step_to;
@@ -483,7 +530,12 @@ impl Engine {
                 break;
             }
             if abort_at.is_some_and(|a| a <= step_to) {
-                let limit = self.setup.protocol.flight.abort_after_stopped_s.unwrap_or(0.0);
+                let limit = self
+                    .setup
+                    .protocol
+                    .flight
+                    .abort_after_stopped_s
+                    .unwrap_or(0.0);
                 self.event(step_to, "abort", format!("no flight for {limit:.0} s"))?;
                 self.finish_timeline(step_to, "aborted", "no flight")?;
                 break;
@@ -559,7 +611,10 @@ impl Engine {
         self.summary.push(&row);
         self.samples += 1;
         self.last_sample = Some((t, arena_heading_deg, world, sun_rel));
-        let due = self.trace.back().is_none_or(|p| t - p.t_s >= TRACE_SPACING_S);
+        let due = self
+            .trace
+            .back()
+            .is_none_or(|p| t - p.t_s >= TRACE_SPACING_S);
         if due {
             self.trace.push_back(TracePoint {
                 t_s: t,
@@ -568,10 +623,18 @@ impl Engine {
                 sun_deg: sun_rel,
                 flying: self.flying,
             });
-            while self.trace.front().is_some_and(|p| t - p.t_s > TRACE_WINDOW_S) {
+            while self
+                .trace
+                .front()
+                .is_some_and(|p| t - p.t_s > TRACE_WINDOW_S)
+            {
                 self.trace.pop_front();
             }
-            while self.turn_marks.front().is_some_and(|m| t - m > TRACE_WINDOW_S) {
+            while self
+                .turn_marks
+                .front()
+                .is_some_and(|m| t - m > TRACE_WINDOW_S)
+            {
                 self.turn_marks.pop_front();
             }
         }
@@ -598,9 +661,17 @@ impl Engine {
         match ev {
             TurntableEvent::Done { t_s, position_deg } => {
                 self.advance_to(t_s)?;
-                if let Phase::Turning { next, by_deg, from_deg, .. } = self.phase.clone() {
+                if let Phase::Turning {
+                    next,
+                    by_deg,
+                    from_deg,
+                    ..
+                } = self.phase.clone()
+                {
                     self.position_deg = from_deg + by_deg;
-                    let reported = position_deg.map(|p| format!("; reported position {p:.1} deg")).unwrap_or_default();
+                    let reported = position_deg
+                        .map(|p| format!("; reported position {p:.1} deg"))
+                        .unwrap_or_default();
                     self.event(t_s, "turn_done", format!("{by_deg:+.1} deg{reported}"))?;
                     self.turn_marks.push_back(t_s);
                     self.start_epoch(next, t_s, true)?;
@@ -611,7 +682,13 @@ impl Engine {
             TurntableEvent::Fault { t_s, text } => {
                 self.advance_to(t_s)?;
                 self.event(t_s, "turn_fault", text.clone())?;
-                if let Phase::Turning { next, by_deg, from_deg, .. } = self.phase.clone() {
+                if let Phase::Turning {
+                    next,
+                    by_deg,
+                    from_deg,
+                    ..
+                } = self.phase.clone()
+                {
                     self.position_deg = from_deg;
                     let prompt = format!(
                         "Turntable fault ({text}). Turn the arena {by_deg:+.0}° by hand (clockwise seen from above is +), then press Enter"
@@ -656,7 +733,11 @@ impl Engine {
                 Phase::Running { k } => self.end_epoch(k, t, EpochState::Skipped)?,
                 Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
                     self.epochs[next].state = EpochState::Skipped;
-                    self.event(t, "epoch_skipped", format!("epoch {}", self.epochs[next].index))?;
+                    self.event(
+                        t,
+                        "epoch_skipped",
+                        format!("epoch {}", self.epochs[next].index),
+                    )?;
                     self.begin_epoch(next + 1, t, false)?;
                 }
                 Phase::Finished => {}
@@ -666,7 +747,8 @@ impl Engine {
                     self.event(t, "prompt_confirmed", "")?;
                     match kind {
                         PromptKind::Protocol => {
-                            let by_deg = resolve_turn_deg(self.epochs[next].arena, self.position_deg);
+                            let by_deg =
+                                resolve_turn_deg(self.epochs[next].arena, self.position_deg);
                             if by_deg.abs() > 1e-9 {
                                 self.start_turn(next, by_deg, t)?;
                                 self.drive_turn(turntable)?;
@@ -674,9 +756,14 @@ impl Engine {
                                 self.start_epoch(next, t, false)?;
                             }
                         }
-                        PromptKind::ManualTurn { by_deg } | PromptKind::TurntableFault { by_deg } => {
+                        PromptKind::ManualTurn { by_deg }
+                        | PromptKind::TurntableFault { by_deg } => {
                             self.position_deg += by_deg;
-                            self.event(t, "turn_done", format!("{by_deg:+.1} deg (by hand, confirmed)"))?;
+                            self.event(
+                                t,
+                                "turn_done",
+                                format!("{by_deg:+.1} deg (by hand, confirmed)"),
+                            )?;
                             self.turn_marks.push_back(t);
                             self.start_epoch(next, t, true)?;
                         }
@@ -685,7 +772,10 @@ impl Engine {
             }
             Command::EndSession => {
                 self.event(t, "end_requested", "by the operator")?;
-                let all_done = self.epochs.iter().all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
+                let all_done = self
+                    .epochs
+                    .iter()
+                    .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
                 if all_done {
                     self.finish_timeline(t, "complete", "protocol finished")?;
                 } else {
@@ -699,17 +789,33 @@ impl Engine {
     fn manual_turn_prompt(&mut self, next: usize, by_deg: f64, t: f64) -> Result<(), EngineError> {
         let text = format!(
             "Turn the arena {by_deg:+.0}° ({}), then press Enter",
-            if by_deg >= 0.0 { "clockwise seen from above" } else { "counterclockwise seen from above" }
+            if by_deg >= 0.0 {
+                "clockwise seen from above"
+            } else {
+                "counterclockwise seen from above"
+            }
         );
         self.event(t, "prompt", text.clone())?;
-        self.phase = Phase::Prompt { next, kind: PromptKind::ManualTurn { by_deg }, text, since_s: t };
+        self.phase = Phase::Prompt {
+            next,
+            kind: PromptKind::ManualTurn { by_deg },
+            text,
+            since_s: t,
+        };
         Ok(())
     }
 
     /// If the timeline has just entered a turn, command it (or prompt for a manual one).
     fn drive_turn(&mut self, turntable: &mut dyn Turntable) -> Result<(), EngineError> {
         loop {
-            let Phase::Turning { next, by_deg, since_s, commanded: false, .. } = self.phase.clone() else {
+            let Phase::Turning {
+                next,
+                by_deg,
+                since_s,
+                commanded: false,
+                ..
+            } = self.phase.clone()
+            else {
                 return Ok(());
             };
             if let Phase::Turning { commanded, .. } = &mut self.phase {
@@ -724,7 +830,10 @@ impl Engine {
                 format!("{by_deg:+.1} deg before epoch {}", self.epochs[next].index),
             )?;
             if let Err(e) = turntable.start_turn(since_s, by_deg) {
-                self.on_turntable(TurntableEvent::Fault { t_s: since_s, text: e.to_string() })?;
+                self.on_turntable(TurntableEvent::Fault {
+                    t_s: since_s,
+                    text: e.to_string(),
+                })?;
             }
             // A fault may have moved us on; loop in case a new turn is pending.
         }
@@ -749,7 +858,6 @@ pub fn local_offset_for(time_zone: &str, at: DateTime<Utc>) -> FixedOffset {
     }
 }
 
-
 /// What the run loop talks to besides the engine itself.
 pub struct Wiring<'a> {
     /// Heading source.
@@ -768,6 +876,15 @@ pub struct Wiring<'a> {
     pub progress: &'a mut dyn FnMut(&str),
     /// Confirm operator prompts by itself after this many session seconds (headless demo).
     pub auto_confirm_after_s: Option<f64>,
+    /// The simulated operator who marks flight stops (demo only).
+    pub sim_operator: Option<SimOperator>,
+}
+
+/// Reused buffers of the run loop.
+struct Buffers {
+    sensor: Vec<SensorEvent>,
+    turntable: Vec<TurntableEvent>,
+    marks: Vec<(f64, Command)>,
 }
 
 /// Event kinds that also go to the progress output.
@@ -808,7 +925,17 @@ impl Engine {
     /// Runs the session to its end: creates the archive folder, runs the timeline, closes the
     /// archive (summary.json, final session.json). Returns where it went and how it ended.
     pub fn run(mut self, w: Wiring<'_>) -> Result<Outcome, EngineError> {
-        let Wiring { sensor, turntable, clock, cell, commands, stop, progress, auto_confirm_after_s } = w;
+        let Wiring {
+            sensor,
+            turntable,
+            clock,
+            cell,
+            commands,
+            stop,
+            progress,
+            auto_confirm_after_s,
+            mut sim_operator,
+        } = w;
         self.writer = Some(SessionWriter::create(&self.setup.sessions_dir, &self.meta)?);
         self.sensor_desc = sensor.describe();
         self.turntable_desc = turntable.describe();
@@ -829,8 +956,11 @@ impl Engine {
         self.begin_epoch(0, 0.0, false)?;
         self.drive_turn(turntable)?;
 
-        let mut sensor_buf: Vec<SensorEvent> = Vec::with_capacity(4096);
-        let mut tt_buf: Vec<TurntableEvent> = Vec::new();
+        let mut bufs = Buffers {
+            sensor: Vec::with_capacity(4096),
+            turntable: Vec::new(),
+            marks: Vec::new(),
+        };
         let mut last_publish: Option<std::time::Instant> = None;
         let mut next_status_s = 60.0;
         let mut stop_sent = false;
@@ -844,12 +974,20 @@ impl Engine {
                 }
                 EngineClock::Real(c) => c.now_s(),
             };
-            let step = self.step(now, sensor, turntable, &mut sensor_buf, &mut tt_buf, commands);
+            let step = self.step(
+                now,
+                sensor,
+                turntable,
+                &mut bufs,
+                commands,
+                sim_operator.as_mut(),
+            );
             if let Err(e) = step {
                 fatal = Some(e);
                 break;
             }
-            if let (Some(after), Phase::Prompt { since_s, .. }) = (auto_confirm_after_s, &self.phase)
+            if let (Some(after), Phase::Prompt { since_s, .. }) =
+                (auto_confirm_after_s, &self.phase)
                 && now - since_s >= after
             {
                 let t = since_s + after;
@@ -863,7 +1001,7 @@ impl Engine {
             }
             if let Some(wr) = self.writer.as_mut() {
                 match wr.sync_if_due() {
-                    Ok(Some(u)) => self.last_sync_utc = Some(u),
+                    Ok(Some(_)) => self.last_sync = Some(std::time::Instant::now()),
                     Ok(None) => {}
                     Err(e) => {
                         fatal = Some(e.into());
@@ -881,7 +1019,8 @@ impl Engine {
                 next_status_s = (now / 60.0).floor() * 60.0 + 60.0;
                 progress(&self.status_line(now));
             }
-            let publish_due = last_publish.is_none_or(|p| p.elapsed() >= std::time::Duration::from_millis(33));
+            let publish_due =
+                last_publish.is_none_or(|p| p.elapsed() >= std::time::Duration::from_millis(33));
             if publish_due || self.end.is_some() {
                 self.health = sensor.health();
                 cell.publish(self.snapshot(now));
@@ -910,10 +1049,15 @@ impl Engine {
         now: f64,
         sensor: &mut dyn HeadingSource,
         turntable: &mut dyn Turntable,
-        sensor_buf: &mut Vec<SensorEvent>,
-        tt_buf: &mut Vec<TurntableEvent>,
+        bufs: &mut Buffers,
         commands: &Receiver<Command>,
+        mut operator: Option<&mut SimOperator>,
     ) -> Result<(), EngineError> {
+        let Buffers {
+            sensor: sensor_buf,
+            turntable: tt_buf,
+            marks,
+        } = bufs;
         sensor_buf.clear();
         if let Err(e) = sensor.drain(now, sensor_buf) {
             self.event(self.t_s, "sensor_error", e.to_string())?;
@@ -928,15 +1072,25 @@ impl Engine {
             // Never let a late stamp bend time backwards.
             let t = t.max(self.t_s);
             self.poll_turntable(t, turntable, tt_buf)?;
+            if let Some(op) = operator.as_deref_mut() {
+                marks.clear();
+                op.poll(t, marks);
+                for (tm, cmd) in marks.drain(..) {
+                    self.on_command(tm.max(self.t_s), cmd, turntable)?;
+                    self.drive_turn(turntable)?;
+                }
+            }
             self.advance_to(t)?;
             self.drive_turn(turntable)?;
             if self.end.is_some() {
                 return Ok(());
             }
             match ev {
-                SensorEvent::Sample { raw, arena_heading_deg, .. } => {
-                    self.on_sample(t, raw, arena_heading_deg, turntable)?
-                }
+                SensorEvent::Sample {
+                    raw,
+                    arena_heading_deg,
+                    ..
+                } => self.on_sample(t, raw, arena_heading_deg, turntable)?,
                 SensorEvent::Malformed { reason, text, .. } => {
                     self.event(t, "malformed_line", format!("{reason}: {text}"))?
                 }
@@ -966,8 +1120,15 @@ impl Engine {
         Ok(())
     }
 
-    fn close(mut self, cell: &SnapshotCell, progress: &mut dyn FnMut(&str)) -> Result<Outcome, EngineError> {
-        let (status, reason) = self.end.clone().unwrap_or_else(|| ("aborted".into(), "stopped".into()));
+    fn close(
+        mut self,
+        cell: &SnapshotCell,
+        progress: &mut dyn FnMut(&str),
+    ) -> Result<Outcome, EngineError> {
+        let (status, reason) = self
+            .end
+            .clone()
+            .unwrap_or_else(|| ("aborted".into(), "stopped".into()));
         let t_end = self.t_s;
         self.event(t_end, "session_end", format!("{status}: {reason}"))?;
         for l in std::mem::take(&mut self.progress_lines) {
@@ -993,7 +1154,12 @@ impl Engine {
         snap.ended = true;
         snap.end_reason = Some(format!("{status}: {reason}"));
         cell.publish(snap);
-        Ok(Outcome { dir, status, reason, samples: self.samples })
+        Ok(Outcome {
+            dir,
+            status,
+            reason,
+            samples: self.samples,
+        })
     }
 
     fn status_line(&self, now: f64) -> String {
@@ -1007,7 +1173,9 @@ impl Engine {
             self.epochs.len(),
             ep.map(|e| e.n).unwrap_or(0),
             ep.map(|e| e.r).unwrap_or(0.0),
-            ep.and_then(|e| e.mean_world_deg).map(|m| format!("{m:.0}°")).unwrap_or_else(|| "-".into()),
+            ep.and_then(|e| e.mean_world_deg)
+                .map(|m| format!("{m:.0}°"))
+                .unwrap_or_else(|| "-".into()),
             self.samples
         )
     }
@@ -1025,7 +1193,10 @@ impl Engine {
                 EpochRow {
                     index: e.index,
                     condition: e.condition.clone(),
-                    arena_bearing_deg: arena_bearing_after_rotation_deg(self.mark_true_deg, e.position_deg),
+                    arena_bearing_deg: arena_bearing_after_rotation_deg(
+                        self.mark_true_deg,
+                        e.position_deg,
+                    ),
                     duration_s: e.duration_s,
                     flying_s: e.flying_s,
                     n: s.map(|x| x.n).unwrap_or(0),
@@ -1040,14 +1211,20 @@ impl Engine {
         let turns: Vec<TurnRow> = summary
             .turns
             .iter()
-            .map(|t| TurnRow { index: t.index, turn_deg: t.turn_deg, world_shift_deg: t.world_shift_deg })
+            .map(|t| TurnRow {
+                index: t.index,
+                turn_deg: t.turn_deg,
+                world_shift_deg: t.world_shift_deg,
+            })
             .collect();
         let (epoch_left, k_opt) = match &self.phase {
             Phase::Running { k } => {
                 let e = &self.epochs[*k];
                 ((e.duration_s - e.clock_s).max(0.0), Some(*k))
             }
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => (0.0, Some(next.saturating_sub(1))),
+            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
+                (0.0, Some(next.saturating_sub(1)))
+            }
             Phase::Finished => (0.0, None),
         };
         let later: f64 = match &self.phase {
@@ -1060,7 +1237,11 @@ impl Engine {
         let (next_turn_in_s, next_turn_deg) = match (&self.phase, k_opt) {
             (Phase::Running { .. }, Some(k)) if k + 1 < self.epochs.len() => {
                 let t = resolve_turn_deg(self.epochs[k + 1].arena, pos);
-                if t.abs() > 1e-9 { (Some(epoch_left), Some(t)) } else { (None, None) }
+                if t.abs() > 1e-9 {
+                    (Some(epoch_left), Some(t))
+                } else {
+                    (None, None)
+                }
             }
             _ => (None, None),
         };
@@ -1074,7 +1255,9 @@ impl Engine {
         };
         let condition = match &self.phase {
             Phase::Running { k } => self.epochs[*k].condition.clone(),
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => self.epochs[*next].condition.clone(),
+            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
+                self.epochs[*next].condition.clone()
+            }
             Phase::Finished => String::new(),
         };
         let cur_pos = match &self.phase {
@@ -1090,7 +1273,11 @@ impl Engine {
             now_utc: self.utc_at(now),
             local_offset: self.local_offset,
             t_s: now,
-            remaining_s: if self.end.is_some() { None } else { Some(epoch_left + later) },
+            remaining_s: if self.end.is_some() {
+                None
+            } else {
+                Some(epoch_left + later)
+            },
             epoch: self.current_epoch(),
             epoch_count: self.epochs.len(),
             condition,
@@ -1119,7 +1306,11 @@ impl Engine {
                 malformed: self.health.malformed,
                 lost_periods: self.health.lost_periods,
                 sensor_lost: self.sensor_lost,
-                last_sync_utc: self.last_sync_utc,
+                // Shown as an age on the session's own time line: now minus the real time since
+                // the sync (so an accelerated demo does not look stale).
+                last_sync_utc: self.last_sync.map(|i| {
+                    self.utc_at(now) - Duration::milliseconds(i.elapsed().as_millis() as i64)
+                }),
                 samples_written: self.samples,
                 archive_error: None,
                 sensor: self.sensor_desc.clone(),
