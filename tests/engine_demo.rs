@@ -389,6 +389,8 @@ fn unsafe_animal_id_writes_nothing() {
             "max",
             "--animal",
             "../escape",
+            "--start",
+            START,
         ])
         .arg("--sessions")
         .arg(tmp.path())
