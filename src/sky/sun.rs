@@ -105,7 +105,7 @@ pub fn enu_from_az_el_deg(azimuth_deg: f64, elevation_deg: f64) -> [f64; 3] {
 
 /// Azimuth [0, 360) and elevation in degrees of an east-north-up vector (need not be unit).
 pub fn az_el_deg_from_enu(v: [f64; 3]) -> (f64, f64) {
-    let horizontal = v[0].hypot(v[1]);
+    let horizontal = (v[0] * v[0] + v[1] * v[1]).sqrt();
     let el = v[2].atan2(horizontal).to_degrees();
     let az = crate::frames::wrap_360_deg(v[0].atan2(v[1]).to_degrees());
     (az, el)
