@@ -132,8 +132,11 @@ fn geometric_vector_at_unix_s(
     longitude_deg: f64,
     unix_s: f64,
 ) -> Result<[f64; 3], SkyError> {
-    if !unix_s.is_finite() || unix_s.abs() > 1.0e12 {
+    if !unix_s.is_finite() {
         return Err(SkyError::NotFinite("time"));
+    }
+    if unix_s.abs() > 1.0e12 {
+        return Err(SkyError::Spa(format!("time {unix_s} s is out of range")));
     }
     let whole = unix_s.floor();
     let frac = unix_s - whole;
@@ -725,6 +728,40 @@ mod tests {
         )
         .unwrap();
         assert!(s.polar_night);
+    }
+
+    #[test]
+    fn poles_and_date_line_are_handled() {
+        // At the North Pole at the June solstice the sun circles at the solar declination,
+        // about +23.44° (from memory), all day.
+        for h in [0, 6, 12, 18] {
+            let p = sun_position(90.0, 0.0, 0.0, utc(2026, 6, 21, h, 0, 0)).unwrap();
+            assert!(p.azimuth_deg.is_finite());
+            assert!((p.geometric_elevation_deg - 23.44).abs() < 0.1, "{p:?}");
+        }
+        let p = sun_position(-90.0, 180.0, 0.0, utc(2026, 6, 21, 0, 0, 0)).unwrap();
+        assert!((p.geometric_elevation_deg + 23.44).abs() < 0.1, "{p:?}");
+        let a = sun_position(10.0, 180.0, 0.0, utc(2026, 3, 1, 0, 0, 0)).unwrap();
+        let b = sun_position(10.0, -180.0, 0.0, utc(2026, 3, 1, 0, 0, 0)).unwrap();
+        assert!(separation_deg(a, b) < 1e-9);
+        let d = sun_day(
+            90.0,
+            0.0,
+            0.0,
+            NaiveDate::from_ymd_opt(2026, 6, 21).unwrap(),
+        )
+        .unwrap();
+        assert!(d.polar_day);
+        let d = sun_day(
+            -90.0,
+            0.0,
+            0.0,
+            NaiveDate::from_ymd_opt(2026, 6, 21).unwrap(),
+        )
+        .unwrap();
+        assert!(d.polar_night);
+        let mut track = SunTrack::new(90.0, 0.0, 0.0, utc(2026, 6, 21, 0, 0, 0)).unwrap();
+        assert!((track.at(1234.5).geometric_elevation_deg - 23.44).abs() < 0.1);
     }
 
     #[test]
