@@ -3,6 +3,7 @@
 //! convention; mean directions in [0, 360).
 
 use super::sum::Neumaier;
+use super::trig::sin_cos_deg;
 use super::{CircularError, kappa_estimate, mean_direction_from_resultant_deg};
 use serde::Serialize;
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
@@ -101,7 +102,7 @@ pub fn watson_williams_test(groups: &[&[f64]]) -> Result<WatsonWilliamsResult, C
         let mut c = Neumaier::default();
         let mut s = Neumaier::default();
         for &a in g.iter() {
-            let (sn, cs) = a.to_radians().sin_cos();
+            let (sn, cs) = sin_cos_deg(a);
             c.add(cs);
             s.add(sn);
         }
@@ -203,7 +204,7 @@ fn vectors(
         .iter()
         .zip(lengths)
         .map(|(&m, &r)| {
-            let (s, c) = m.to_radians().sin_cos();
+            let (s, c) = sin_cos_deg(m);
             (r * c, r * s)
         })
         .unzip())
@@ -251,7 +252,7 @@ pub fn moore_rayleigh_test(
     let mut sq = 0.0;
     let mut q4 = 0.0;
     for (&m, &rank) in means_deg.iter().zip(&ranks) {
-        let (s, c) = m.to_radians().sin_cos();
+        let (s, c) = sin_cos_deg(m);
         sc.add(rank * c);
         ss.add(rank * s);
         sq += rank * rank;
