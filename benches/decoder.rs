@@ -151,7 +151,7 @@ fn reader_cpu_over_pty() {
 }
 
 fn main() {
-    let mut c = Criterion::default().configure_from_args();
+    let mut c = Criterion::default().without_plots().configure_from_args();
     decoder(&mut c);
     c.final_summary();
     reader_cpu_over_pty();
