@@ -431,6 +431,35 @@ mod tests {
     }
 
     #[test]
+    fn replay_fast_pace_stamps_when_read() {
+        let dir = tempfile::tempdir().unwrap();
+        let f = dir.path().join("r.txt");
+        std::fs::write(&f, "10\r\n\r\n20\nnan\n30").unwrap();
+        let mut rig = demo_rig();
+        rig.sensor.decoder.time_column = None;
+        rig.sensor.source = SensorSource::Replay {
+            path: f,
+            pace: ReplayPace::Fast,
+        };
+        let mut src = open_sensor(&rig, Arc::new(SimClock::new())).unwrap();
+        let mut out = Vec::new();
+        src.drain(0.5, &mut out).unwrap();
+        let raws: Vec<f64> = out
+            .iter()
+            .filter_map(|e| match e {
+                SensorEvent::Sample { raw, t_s, .. } if *t_s == 0.5 => Some(*raw),
+                _ => None,
+            })
+            .collect();
+        assert_eq!(raws, [10.0, 20.0, 30.0]);
+        assert_eq!(src.health().malformed, 1);
+        assert!(src.describe().ends_with("(end of file)"));
+        out.clear();
+        src.drain(2.0, &mut out).unwrap();
+        assert_eq!(out, [SensorEvent::Lost { t_s: 1.5 }]);
+    }
+
+    #[test]
     fn unreadable_port_names_file_line_field() {
         let text = crate::rig::config::TEMPLATE.replace("/dev/ttyUSB0", "/nonexistent/ttyNOPE");
         let rig = crate::rig::config::parse_rig(&text, "rig.toml").unwrap();
