@@ -115,6 +115,35 @@ mod tests {
         assert!(declination_deg(43.0, 5.0, -5000.0, d(2026, 6, 1)).is_none());
     }
 
+    /// NOAA/BGS WMM2025 published test values (WMM2025_TestValues.txt; D to 0.01°), as
+    /// transcribed in a public repository's test file; not re-read from NOAA's PDF here.
+    /// Decimal year 2027.5 is taken as 2027-07-02 (our dates are whole days: 0.0014 yr off,
+    /// under 0.001° of secular change at these points).
+    #[test]
+    fn wmm2025_published_test_values() {
+        let cases = [
+            (d(2025, 1, 1), 0.0, 80.0, 0.0, 1.28),
+            (d(2025, 1, 1), 0.0, 0.0, 120.0, -0.16),
+            (d(2025, 1, 1), 0.0, -80.0, -120.0, 68.78),
+            (d(2025, 1, 1), 100.0, 80.0, 0.0, 0.85),
+            (d(2025, 1, 1), 100.0, 0.0, 120.0, -0.15),
+            (d(2025, 1, 1), 100.0, -80.0, -120.0, 68.21),
+            (d(2027, 7, 2), 0.0, 80.0, 0.0, 2.59),
+            (d(2027, 7, 2), 0.0, 0.0, 120.0, -0.24),
+            (d(2027, 7, 2), 0.0, -80.0, -120.0, 68.49),
+            (d(2027, 7, 2), 100.0, 80.0, 0.0, 2.16),
+            (d(2027, 7, 2), 100.0, 0.0, 120.0, -0.23),
+            (d(2027, 7, 2), 100.0, -80.0, -120.0, 67.93),
+        ];
+        for (date, h_km, lat, lon, want) in cases {
+            let got = declination_deg(lat, lon, h_km * 1000.0, date).unwrap();
+            assert!(
+                (got - want).abs() <= 0.011,
+                "{date} {h_km} km {lat},{lon}: {got} vs {want}"
+            );
+        }
+    }
+
     #[test]
     fn crate_documented_example() {
         // The crate's own documentation example (world_magnetic_model 1.2025.0 lib.rs):
