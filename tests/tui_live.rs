@@ -79,6 +79,12 @@ fn live_child() {
         Err(e) => format!("RESULT err: {e:#}"),
     };
     writeln!(log.lock().unwrap(), "{line}").unwrap();
+    if mode == "linger" {
+        // After the screen: a SIGTERM must terminate the process the default way.
+        writeln!(log.lock().unwrap(), "LINGER").unwrap();
+        std::thread::sleep(Duration::from_secs(20));
+        writeln!(log.lock().unwrap(), "LINGER survived").unwrap();
+    }
 }
 
 /// A child running `live_child` on a pty, with everything it wrote to the terminal.
@@ -379,4 +385,27 @@ fn panic_restores_the_terminal_before_the_message() {
         msg > leave,
         "panic message printed inside the alternate screen"
     );
+}
+
+#[test]
+fn after_the_screen_sigterm_terminates_as_usual() {
+    use std::os::unix::process::ExitStatusExt;
+    let mut c = spawn("linger");
+    c.wait_for("lm-07", Duration::from_secs(20));
+    c.type_keys("qy");
+    let t0 = Instant::now();
+    while !read_log(&c.log).contains("LINGER") {
+        assert!(
+            t0.elapsed() < Duration::from_secs(20),
+            "screen never returned"
+        );
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    // SAFETY: signalling our own child by pid.
+    let rc = unsafe { libc::kill(c.child.id() as libc::pid_t, libc::SIGTERM) };
+    assert_eq!(rc, 0);
+    let status = c.finish(Duration::from_secs(10));
+    assert_eq!(status.signal(), Some(libc::SIGTERM), "{status:?}");
+    assert!(!read_log(&c.log).contains("LINGER survived"));
+    c.assert_terminal_restored();
 }

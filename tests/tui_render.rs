@@ -96,7 +96,10 @@ fn main_screen_checks(lines: &[String], snap: &Snapshot) {
     // Health: archive sync age, sensor rate, samples written.
     must_find(lines, "saved 0.4 s ago");
     must_find(lines, "99.8 Hz");
-    must_find(lines, "74 850");
+    must_find(lines, "74 850 samples");
+    must_find(lines, "±0.6 ms");
+    must_find(lines, "malformed 2");
+    must_find(lines, "lost 0");
     // Footer: the keys.
     let footer = lines.last().unwrap();
     for k in [" f ", " n ", " p ", " w ", " s ", " q ", " ? "] {

@@ -4,7 +4,8 @@
 //! thread (a hook that restores, then calls the previous hook; the loop then returns an error
 //! instead of drawing over the message), and SIGTERM / SIGHUP / SIGINT (a flag that
 //! makes the loop send [`Command::EndSession`] and keep drawing until the engine has closed the
-//! session; a second such signal terminates at once). In raw mode Ctrl-C arrives as a key and
+//! session; a second such signal terminates at once, and once the screen has returned they
+//! terminate as they would by default). In raw mode Ctrl-C arrives as a key and
 //! is handled by [`UiState::handle_key`].
 
 use crate::engine::snapshot::{Command, Snapshot, SnapshotCell};
@@ -104,6 +105,18 @@ fn signal_flags() -> Option<&'static SignalFlags> {
         .as_ref()
 }
 
+/// When the screen is gone, termination signals take their default action again (the flag
+/// being set arms the conditional default registered in [`signal_flags`]).
+struct SignalsIdle(Option<&'static SignalFlags>);
+
+impl Drop for SignalsIdle {
+    fn drop(&mut self) {
+        if let Some(s) = self.0 {
+            s.term_seen.store(true, Ordering::SeqCst);
+        }
+    }
+}
+
 /// Leaves raw mode and the alternate screen if this process entered them. Safe to call twice.
 fn restore_terminal() {
     if TERMINAL_ACTIVE.swap(false, Ordering::SeqCst) {
@@ -187,6 +200,7 @@ pub fn run_live(
     if let Some(s) = signals {
         s.term_seen.store(false, Ordering::SeqCst);
     }
+    let _signals_idle = SignalsIdle(signals);
     let theme_kind = options.starting_theme(no_color_requested());
     let (_guard, mut terminal) = TerminalGuard::enter()?;
 
