@@ -473,8 +473,8 @@ fn archive_alarm(snap: &Snapshot) -> Option<String> {
         return None;
     }
     match sync_age_s(snap) {
-        Some(age) if age > SYNC_LATE_S => Some(format!(" ⚠ SAVED {age:.0} s AGO ")),
-        None if snap.t_s > SYNC_LATE_S => Some(" ⚠ NOT SAVED YET ".to_string()),
+        Some(age) if age > SYNC_LATE_S => Some(format!(" ! SAVED {age:.0} s AGO ")),
+        None if snap.t_s > SYNC_LATE_S => Some(" ! NOT SAVED YET ".to_string()),
         _ => None,
     }
 }
@@ -494,7 +494,7 @@ fn sync_spans<'a>(snap: &Snapshot, theme: &Theme, short: bool) -> Vec<Span<'a>> 
     }
     match sync_age_s(snap) {
         Some(age) if age > SYNC_LATE_S && !snap.ended => vec![Span::styled(
-            format!(" ⚠ LAST SAVE {age:.1} s AGO "),
+            format!(" ! LAST SAVE {age:.1} s AGO "),
             theme.flag(theme.alarm),
         )],
         Some(age) => vec![
@@ -506,7 +506,7 @@ fn sync_spans<'a>(snap: &Snapshot, theme: &Theme, short: bool) -> Vec<Span<'a>> 
             Span::styled(" ✓", theme.accent(theme.good)),
         ],
         None if snap.t_s > SYNC_LATE_S && !snap.ended => {
-            vec![Span::styled(" ⚠ NOT SAVED YET ", theme.flag(theme.alarm))]
+            vec![Span::styled(" ! NOT SAVED YET ", theme.flag(theme.alarm))]
         }
         None => vec![Span::styled("archive: no sync yet", theme.base())],
     }
@@ -1053,7 +1053,7 @@ fn table_title<'a>(snap: &Snapshot, rows: usize, ui: &UiState) -> Line<'a> {
 fn state_word(state: EpochState) -> &'static str {
     match state {
         EpochState::Pending => "wait",
-        EpochState::Current => "▶ now",
+        EpochState::Current => "► now",
         EpochState::Done => "done",
         EpochState::Skipped => "skip",
     }
