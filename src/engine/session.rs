@@ -91,6 +91,9 @@ pub struct Outcome {
 
 /// Session seconds of sim time advanced per loop iteration at `--speed max`.
 const MAX_SPEED_STEP_S: f64 = 0.05;
+/// Resolution of `t_s` in the archive (4 decimals): consecutive samples are at least this far
+/// apart.
+const T_S_RESOLUTION_S: f64 = 1e-4;
 /// Spacing of trace points kept for screens, session seconds.
 const TRACE_SPACING_S: f64 = 0.25;
 /// Length of the trace kept for screens, session seconds.
@@ -1057,8 +1060,15 @@ impl Engine {
                 | SensorEvent::Lost { t_s }
                 | SensorEvent::Back { t_s } => *t_s,
             };
-            // Never let a late stamp bend time backwards.
-            let t = t.max(self.t_s);
+            // Never let a late stamp bend time backwards. Lines read from a serial port in one
+            // burst carry the same arrival stamp: samples are spread by the archive's time
+            // resolution (0.1 ms) so that t_s strictly increases.
+            let mut t = t.max(self.t_s);
+            if matches!(ev, SensorEvent::Sample { .. })
+                && let Some((last, ..)) = self.last_sample
+            {
+                t = t.max(last + T_S_RESOLUTION_S);
+            }
             self.poll_turntable(t, turntable, tt_buf)?;
             if let Some(op) = operator.as_deref_mut() {
                 marks.clear();
