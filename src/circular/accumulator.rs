@@ -23,7 +23,10 @@
 
 use super::sum::Neumaier;
 use super::trig::sin_cos_deg;
-use super::{CircularSummary, mean_direction_from_resultant_deg, rayleigh_test, summary_from_sums};
+use super::{
+    CircularSummary, VTestResult, mean_direction_from_resultant_deg, rayleigh_test,
+    summary_from_sums, v_test,
+};
 
 /// Streaming accumulator of headings: O(1) per sample.
 ///
@@ -258,6 +261,16 @@ impl HeadingAccumulator {
     /// Rayleigh p on n_eff.
     pub fn rayleigh_p_eff(&self) -> f64 {
         rayleigh_test(self.n_eff(), self.r()).1
+    }
+
+    /// V-test toward `expected_deg` on n (see [`super::v_test`]).
+    pub fn v_test(&self, expected_deg: f64) -> VTestResult {
+        v_test(self.n as f64, self.r(), self.mean_deg(), expected_deg)
+    }
+
+    /// V-test toward `expected_deg` on the effective sample size n_eff.
+    pub fn v_test_eff(&self, expected_deg: f64) -> VTestResult {
+        v_test(self.n_eff(), self.r(), self.mean_deg(), expected_deg)
     }
 
     /// The full summary on n (as [`super::describe_deg`] would give for the same samples).
@@ -604,6 +617,7 @@ mod tests {
             a.iter().for_each(|&x| acc.push_deg(x));
             let ne = acc.n_eff();
             let nb = effective_sample_size_deg(a);
+            eprintln!("white noise n = {n}: streaming {ne:.1}, batch {nb:.1}");
             assert!(ne > 0.95 * n as f64, "streaming {ne}");
             assert!(nb > 0.85 * n as f64, "batch {nb}");
         }
@@ -626,9 +640,11 @@ mod tests {
         let ne = acc.n_eff();
         assert!(ne < n as f64 / 100.0, "streaming n_eff {ne}");
         let nb = effective_sample_size_deg(&a);
+        eprintln!("random walk n = {n}: streaming n_eff {ne:.1}, batch n_eff {nb:.1}");
         assert!(nb < n as f64 / 100.0, "batch n_eff {nb}");
         // Naive p is absurd, the effective one is not.
         assert!(acc.rayleigh_p_eff() > acc.rayleigh_p());
+        assert!(acc.v_test_eff(0.0).p >= acc.v_test(0.0).p.min(0.5));
     }
 
     #[test]
@@ -651,6 +667,7 @@ mod tests {
         a.iter().for_each(|&v| acc.push_deg(v));
         let ne = acc.n_eff();
         let nb = effective_sample_size_deg(&a);
+        eprintln!("AR(1) n = {n}: expected {expect:.0}, streaming {ne:.1}, batch {nb:.1}");
         assert!(
             ne > 0.75 * expect && ne < 1.3 * expect,
             "streaming {ne} vs {expect}"
@@ -682,6 +699,9 @@ mod tests {
             assert!(e_r < 1e-15, "r error {e_r}");
             assert!(e_m < 1e-12, "mean error {e_m}");
         }
+        // No growth: the error after 10^7 samples is within 2 ulp of the error after 10^5.
+        let ulp = f64::EPSILON;
+        assert!(errs[2].0 <= errs[0].0 + 2.0 * ulp, "{errs:?}");
         // A plain running sum of the same cosines drifts measurably at 10^7.
         let mut plain = 0.0;
         let (c20, c40) = (20f64.to_radians().cos(), 40f64.to_radians().cos());
