@@ -1,11 +1,38 @@
 //! The session archive: one folder per session, append-only CSV files, atomic JSON.
 //! (Shared types fixed by the lead; bodies owned by the archive work.)
 //!
-//! Layout (see shared/contract.md): `session.json`, `samples.csv`, `events.csv`,
-//! `summary.json` once closed.
+//! Layout (see shared/contract.md): `sessions/<id>/` with
+//! - `session.json` ([`SessionMeta`]): written atomically (temporary file, fsync, rename,
+//!   fsync of the folder) at the start with status `running`, and again when the session ends;
+//! - `samples.csv` ([`SAMPLE_COLUMNS`]): one row per sample. `t_utc` RFC 3339 UTC with
+//!   milliseconds (truncated), `t_s` with 4 decimals, angles with 3 decimals (directions in
+//!   [0, 360), `zenith_evector_deg` in [0, 180)), `sun_elevation_deg` with 3 decimals, `flying`
+//!   and `scored` 0/1, `raw` the shortest text that reads back to the exact value received;
+//! - `events.csv` ([`EVENT_COLUMNS`]): `detail` (and `kind`) quoted per RFC 4180 when needed;
+//! - `summary.json` ([`Summary`], built by [`SummaryBuilder`]) once the session is closed;
+//!   statistics that are undefined (an empty epoch) are written `null`;
+//! - `.lock` while a writer has the folder: its pid (and process start time on Linux).
+//!
+//! Both CSV files are appended through a buffer and fsynced at least once a second of real
+//! time, so an interruption loses at most the last second and can tear only the last line.
+//! `skybearing check` ([`check::check_session`]) validates a folder; `check --repair`
+//! ([`check::repair_session`]) drops a torn last line (keeping the bytes in `<file>.torn`),
+//! recomputes `summary.json` and marks the session `recovered`. A last line without its
+//! newline is always treated as torn (its last field may be cut short), even if it parses.
 
-use chrono::{DateTime, Utc};
+pub mod check;
+pub mod fmt;
+pub mod read;
+pub mod summary;
+pub mod writer;
+
+use std::path::{Path, PathBuf};
+
+use chrono::{DateTime, NaiveDate, Utc};
 use serde::{Deserialize, Serialize};
+
+pub use summary::{PlannedEpoch, SummaryBuilder};
+pub use writer::SessionWriter;
 
 /// The archive format version written into `session.json` as `format_version`.
 pub const FORMAT_VERSION: u32 = 1;
@@ -84,6 +111,7 @@ pub struct EpochSummary {
     /// Condition label.
     pub condition: String,
     /// True bearing of the arena mark during the epoch.
+    #[serde(with = "nan_as_null")]
     pub arena_bearing_deg: f64,
     /// Scored samples.
     pub n: u64,
@@ -92,12 +120,16 @@ pub struct EpochSummary {
     /// Mean world heading.
     pub mean_world_deg: Option<f64>,
     /// Mean vector length of world headings.
+    #[serde(with = "nan_as_null")]
     pub r: f64,
     /// Rayleigh p on n.
+    #[serde(with = "nan_as_null")]
     pub rayleigh_p: f64,
     /// Effective sample size.
+    #[serde(with = "nan_as_null")]
     pub n_eff: f64,
     /// Rayleigh p on n_eff.
+    #[serde(with = "nan_as_null")]
     pub rayleigh_p_eff: f64,
 }
 
@@ -107,6 +139,7 @@ pub struct TurnSummary {
     /// 1-based turn index.
     pub index: usize,
     /// Commanded turn, degrees (positive clockwise seen from above).
+    #[serde(with = "nan_as_null")]
     pub turn_deg: f64,
     /// Mean world heading after minus before, (-180, 180]; None if either side has no data.
     pub world_shift_deg: Option<f64>,
@@ -120,7 +153,462 @@ pub struct Summary {
     /// Per turn.
     pub turns: Vec<TurnSummary>,
     /// r of all scored world headings.
+    #[serde(with = "nan_as_null")]
     pub r_world: f64,
     /// r of all scored arena headings.
+    #[serde(with = "nan_as_null")]
     pub r_arena: f64,
+}
+
+/// File names inside a session folder.
+pub const SESSION_FILE: &str = "session.json";
+/// Sample rows.
+pub const SAMPLES_FILE: &str = "samples.csv";
+/// Event rows.
+pub const EVENTS_FILE: &str = "events.csv";
+/// Written once the session is closed.
+pub const SUMMARY_FILE: &str = "summary.json";
+/// Held (O_EXCL, holding the writer's pid) while a writer has the folder open.
+pub const LOCK_FILE: &str = ".lock";
+
+/// Decimals written for angles (degrees) in `samples.csv`: 3 (a thousandth of a degree).
+pub const ANGLE_DECIMALS: u32 = 3;
+/// Decimals written for `t_s` (seconds) in both CSV files: 4 (a tenth of a millisecond).
+pub const T_S_DECIMALS: u32 = 4;
+
+/// Everything that can go wrong in the archive. Every variant names the file (and line or
+/// field) it is about.
+#[derive(Debug, thiserror::Error)]
+pub enum ArchiveError {
+    /// An I/O error on a path.
+    #[error("{path}: {source}")]
+    Io {
+        /// The file or folder.
+        path: PathBuf,
+        /// The cause.
+        source: std::io::Error,
+    },
+    /// An animal id that cannot be part of a folder name.
+    #[error(
+        "animal id {id:?} is not allowed: use 1-40 letters, digits, '-', '_' or '.', not starting with '.'"
+    )]
+    BadAnimalId {
+        /// The id as given.
+        id: String,
+    },
+    /// A session id that cannot be a folder name.
+    #[error(
+        "session id {id:?} is not allowed: use 1-120 letters, digits, '-', '_' or '.', not starting with '.'"
+    )]
+    BadSessionId {
+        /// The id as given.
+        id: String,
+    },
+    /// The session folder already exists.
+    #[error("{path}: session folder already exists")]
+    Exists {
+        /// The folder.
+        path: PathBuf,
+    },
+    /// Another writer holds the folder.
+    #[error("{path}: session is locked by process {pid}")]
+    Locked {
+        /// The lock file.
+        path: PathBuf,
+        /// The holder's pid (0 if unreadable).
+        pid: u32,
+    },
+    /// No free counter left for a session id.
+    #[error("{dir}: no free session counter for {prefix}_NNN")]
+    NoFreeCounter {
+        /// The sessions folder.
+        dir: PathBuf,
+        /// The id prefix.
+        prefix: String,
+    },
+    /// A malformed file: a CSV line, a JSON field.
+    #[error("{path}:{line}: {message}")]
+    Format {
+        /// The file.
+        path: PathBuf,
+        /// 1-based line (0 when not about one line).
+        line: u64,
+        /// What is wrong.
+        message: String,
+    },
+    /// A JSON file that does not parse as what it should be.
+    #[error("{path}: {source}")]
+    Json {
+        /// The file.
+        path: PathBuf,
+        /// The cause.
+        source: serde_json::Error,
+    },
+}
+
+impl ArchiveError {
+    /// Wraps an I/O error with its path.
+    pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
+        ArchiveError::Io {
+            path: path.into(),
+            source,
+        }
+    }
+}
+
+/// Whether `c` may appear in an animal or session id.
+fn id_char_ok(c: char) -> bool {
+    c.is_ascii_alphanumeric() || c == '-' || c == '_' || c == '.'
+}
+
+fn id_ok(id: &str, max_len: usize) -> bool {
+    !id.is_empty() && id.len() <= max_len && !id.starts_with('.') && id.chars().all(id_char_ok)
+}
+
+/// Checks an animal id: 1–40 ASCII letters, digits, `-`, `_` or `.`, not starting with `.`
+/// (so it can never name a hidden file, a parent folder or a path with separators).
+pub fn validate_animal_id(id: &str) -> Result<(), ArchiveError> {
+    if id_ok(id, 40) {
+        Ok(())
+    } else {
+        Err(ArchiveError::BadAnimalId { id: id.to_string() })
+    }
+}
+
+/// Checks a session id (a single folder name): 1–120 of the same characters as an animal id.
+pub fn validate_session_id(id: &str) -> Result<(), ArchiveError> {
+    if id_ok(id, 120) {
+        Ok(())
+    } else {
+        Err(ArchiveError::BadSessionId { id: id.to_string() })
+    }
+}
+
+/// Lower-case slug of a site name: ASCII letters and digits kept, every other run of
+/// characters becomes one `-` ("Larkfield Meadow (demo)" → "larkfield-meadow-demo").
+/// Empty names give "site". At most 40 characters.
+pub fn site_slug(site_name: &str) -> String {
+    let mut out = String::new();
+    let mut dash = false;
+    for c in site_name.chars() {
+        if c.is_ascii_alphanumeric() {
+            if dash && !out.is_empty() {
+                out.push('-');
+            }
+            dash = false;
+            out.push(c.to_ascii_lowercase());
+        } else {
+            dash = true;
+        }
+        if out.len() >= 40 {
+            break;
+        }
+    }
+    let out = out.trim_end_matches('-').to_string();
+    if out.is_empty() { "site".into() } else { out }
+}
+
+/// A new session id `<date>_<site slug>_<animal>_<NNN>` whose counter (001–999) does not
+/// collide with any existing entry of `sessions_dir` with the same prefix (the folder may not
+/// exist yet). The animal id is validated first.
+pub fn new_session_id(
+    sessions_dir: &Path,
+    date: NaiveDate,
+    site_name: &str,
+    animal: &str,
+) -> Result<String, ArchiveError> {
+    validate_animal_id(animal)?;
+    let prefix = format!(
+        "{}_{}_{}",
+        date.format("%Y-%m-%d"),
+        site_slug(site_name),
+        animal
+    );
+    let mut max_used = 0u32;
+    match std::fs::read_dir(sessions_dir) {
+        Ok(entries) => {
+            for entry in entries {
+                let entry = entry.map_err(|e| ArchiveError::io(sessions_dir, e))?;
+                let name = entry.file_name();
+                let Some(name) = name.to_str() else { continue };
+                if let Some(rest) = name.strip_prefix(prefix.as_str())
+                    && let Some(num) = rest.strip_prefix('_')
+                    && num.len() == 3
+                    && let Ok(k) = num.parse::<u32>()
+                {
+                    max_used = max_used.max(k);
+                }
+            }
+        }
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {}
+        Err(e) => return Err(ArchiveError::io(sessions_dir, e)),
+    }
+    let next = max_used + 1;
+    if next > 999 {
+        return Err(ArchiveError::NoFreeCounter {
+            dir: sessions_dir.to_path_buf(),
+            prefix,
+        });
+    }
+    let id = format!("{prefix}_{next:03}");
+    validate_session_id(&id)?;
+    Ok(id)
+}
+
+/// The state of a session folder, as written in `session.json`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum SessionStatus {
+    /// A writer has (or had, if it died) the folder open.
+    Running,
+    /// Ended normally.
+    Complete,
+    /// Ended early by the operator or a rule.
+    Aborted,
+    /// Made whole by `check --repair` after an interruption.
+    Recovered,
+}
+
+impl SessionStatus {
+    /// The word written in `session.json`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            SessionStatus::Running => "running",
+            SessionStatus::Complete => "complete",
+            SessionStatus::Aborted => "aborted",
+            SessionStatus::Recovered => "recovered",
+        }
+    }
+    /// Closed sessions carry a `summary.json`.
+    pub fn is_closed(self) -> bool {
+        self != SessionStatus::Running
+    }
+}
+
+/// The site of a session.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SiteMeta {
+    /// Name.
+    pub name: String,
+    /// Latitude, degrees north.
+    pub latitude_deg: f64,
+    /// Longitude, degrees east.
+    pub longitude_deg: f64,
+    /// Elevation above sea level, metres.
+    pub elevation_m: f64,
+}
+
+/// `session.json`: everything about a session except its samples and events.
+/// Instants are RFC 3339 UTC with milliseconds.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SessionMeta {
+    /// [`FORMAT_VERSION`].
+    pub format_version: u32,
+    /// The session id (the folder name).
+    pub id: String,
+    /// Running, complete, aborted or recovered.
+    pub status: SessionStatus,
+    /// UTC at t_s = 0.
+    #[serde(with = "utc_millis")]
+    pub started_utc: DateTime<Utc>,
+    /// UTC of the end (None while running).
+    #[serde(with = "utc_millis_opt")]
+    pub ended_utc: Option<DateTime<Utc>>,
+    /// Animal id.
+    pub animal: String,
+    /// Site.
+    pub site: SiteMeta,
+    /// IANA time zone for display (times in the files are UTC).
+    pub time_zone: String,
+    /// True bearing of the arena's 0 mark at the start.
+    pub arena_mark_bearing_deg: f64,
+    /// The bearing as measured at setup (true or magnetic, see `arena_mark_reference`).
+    pub arena_mark_bearing_measured_deg: f64,
+    /// "true" or "magnetic".
+    pub arena_mark_reference: String,
+    /// Magnetic declination (WMM) at the site and date, east positive; None if not known.
+    pub declination_deg: Option<f64>,
+    /// The expanded protocol as run.
+    pub protocol: serde_json::Value,
+    /// The planned epochs (conditions and turn sizes: repair and check read these).
+    pub epochs: Vec<PlannedEpoch>,
+    /// The rig as run.
+    pub rig: serde_json::Value,
+    /// Program version that wrote the session.
+    pub program_version: String,
+    /// "demo" or "run".
+    pub mode: String,
+    /// Simulation seed (demo mode).
+    #[serde(default)]
+    pub seed: Option<u64>,
+    /// Why the session ended (None while running).
+    #[serde(default)]
+    pub end_reason: Option<String>,
+    /// Notes taken during the session.
+    #[serde(default)]
+    pub notes: u64,
+}
+
+impl SessionMeta {
+    /// Reads and parses `session.json` from a session folder.
+    pub fn load(dir: &Path) -> Result<SessionMeta, ArchiveError> {
+        read_json(&dir.join(SESSION_FILE))
+    }
+}
+
+/// Reads a JSON file into `T`.
+pub fn read_json<T: serde::de::DeserializeOwned>(path: &Path) -> Result<T, ArchiveError> {
+    let bytes = std::fs::read(path).map_err(|e| ArchiveError::io(path, e))?;
+    serde_json::from_slice(&bytes).map_err(|source| ArchiveError::Json {
+        path: path.to_path_buf(),
+        source,
+    })
+}
+
+impl Summary {
+    /// Reads `summary.json` from a session folder.
+    pub fn load(dir: &Path) -> Result<Summary, ArchiveError> {
+        read_json(&dir.join(SUMMARY_FILE))
+    }
+}
+
+/// Formats an instant as RFC 3339 UTC with milliseconds (`2026-06-14T09:30:00.123Z`).
+pub fn format_utc_millis(t: &DateTime<Utc>) -> String {
+    t.to_rfc3339_opts(chrono::SecondsFormat::Millis, true)
+}
+
+/// Parses an RFC 3339 instant into UTC.
+pub fn parse_utc(s: &str) -> Option<DateTime<Utc>> {
+    DateTime::parse_from_rfc3339(s)
+        .ok()
+        .map(|t| t.with_timezone(&Utc))
+}
+
+mod utc_millis {
+    use chrono::{DateTime, Utc};
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(t: &DateTime<Utc>, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(&super::format_utc_millis(t))
+    }
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<DateTime<Utc>, D::Error> {
+        let s = String::deserialize(d)?;
+        super::parse_utc(&s)
+            .ok_or_else(|| serde::de::Error::custom(format!("not an RFC 3339 instant: {s:?}")))
+    }
+}
+
+mod utc_millis_opt {
+    use chrono::{DateTime, Utc};
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(t: &Option<DateTime<Utc>>, s: S) -> Result<S::Ok, S::Error> {
+        match t {
+            Some(t) => s.serialize_str(&super::format_utc_millis(t)),
+            None => s.serialize_none(),
+        }
+    }
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Option<DateTime<Utc>>, D::Error> {
+        let s = Option::<String>::deserialize(d)?;
+        match s {
+            None => Ok(None),
+            Some(s) => super::parse_utc(&s)
+                .map(Some)
+                .ok_or_else(|| serde::de::Error::custom(format!("not an RFC 3339 instant: {s:?}"))),
+        }
+    }
+}
+
+/// Writes non-finite numbers as JSON `null` and reads `null` back as NaN, so an empty epoch's
+/// statistics survive a round trip through `summary.json`.
+mod nan_as_null {
+    use serde::{Deserialize, Deserializer, Serializer};
+
+    pub fn serialize<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
+        if x.is_finite() {
+            s.serialize_f64(*x)
+        } else {
+            s.serialize_none()
+        }
+    }
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+        Ok(Option::<f64>::deserialize(d)?.unwrap_or(f64::NAN))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn animal_ids() {
+        for ok in ["lm-07", "a", "A.b_c-1", &"x".repeat(40)] {
+            assert!(validate_animal_id(ok).is_ok(), "{ok}");
+        }
+        for bad in [
+            "",
+            "../x",
+            "a/b",
+            ".hidden",
+            "a\\b",
+            "a b",
+            "é",
+            &"x".repeat(41),
+            "..",
+        ] {
+            let e = validate_animal_id(bad).unwrap_err().to_string();
+            assert!(e.contains(&format!("{bad:?}")), "{e}");
+        }
+    }
+
+    #[test]
+    fn slugs() {
+        assert_eq!(
+            site_slug("Larkfield Meadow (demo)"),
+            "larkfield-meadow-demo"
+        );
+        assert_eq!(site_slug("  --  "), "site");
+        assert_eq!(site_slug("A_b"), "a-b");
+    }
+
+    #[test]
+    fn session_ids_count_up() {
+        let dir = tempfile::tempdir().unwrap();
+        let sessions = dir.path().join("sessions");
+        let date = NaiveDate::from_ymd_opt(2026, 6, 14).unwrap();
+        let id = new_session_id(&sessions, date, "Larkfield Meadow", "lm-07").unwrap();
+        assert_eq!(id, "2026-06-14_larkfield-meadow_lm-07_001");
+        std::fs::create_dir_all(sessions.join(&id)).unwrap();
+        std::fs::create_dir_all(sessions.join("2026-06-14_larkfield-meadow_lm-07_005")).unwrap();
+        std::fs::create_dir_all(sessions.join("2026-06-14_larkfield-meadow_lm-08_009")).unwrap();
+        let id2 = new_session_id(&sessions, date, "Larkfield Meadow", "lm-07").unwrap();
+        assert_eq!(id2, "2026-06-14_larkfield-meadow_lm-07_006");
+        assert!(new_session_id(&sessions, date, "x", "../x").is_err());
+    }
+
+    #[test]
+    fn summary_nan_round_trip() {
+        let s = Summary {
+            epochs: vec![EpochSummary {
+                index: 1,
+                condition: "open sky".into(),
+                arena_bearing_deg: 10.0,
+                n: 0,
+                mean_arena_deg: None,
+                mean_world_deg: None,
+                r: f64::NAN,
+                rayleigh_p: 1.0,
+                n_eff: 0.0,
+                rayleigh_p_eff: f64::NAN,
+            }],
+            turns: vec![],
+            r_world: 0.5,
+            r_arena: 0.25,
+        };
+        let j = serde_json::to_string(&s).unwrap();
+        assert!(j.contains("\"r\":null"), "{j}");
+        let back: Summary = serde_json::from_str(&j).unwrap();
+        assert!(back.epochs[0].r.is_nan());
+        assert_eq!(back.r_world, 0.5);
+    }
 }

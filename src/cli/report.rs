@@ -1,13 +1,36 @@
 //! `skybearing report`.
 
+use crate::analysis::report::write_report;
+use anyhow::Context;
 use clap::Args;
+use std::path::PathBuf;
 
 /// Flags of `skybearing report`.
 #[derive(Debug, Args)]
-pub struct ReportArgs {}
+#[command(
+    long_about = "Recomputes one session's statistics from samples.csv and writes epochs.csv, \
+turns.csv, session.csv, summary.txt (also printed) and figures as SVG and PNG: \
+epoch_histograms (arena and world frame per epoch), heading_trace (turns and not-scored \
+stretches marked), sun_relative and turn_responses."
+)]
+pub struct ReportArgs {
+    /// The session folder.
+    #[arg(value_name = "DIR")]
+    pub dir: PathBuf,
+    /// Where to write (default: DIR/report).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+}
 
 /// Runs the command; returns the exit status.
 pub fn run(args: ReportArgs) -> anyhow::Result<i32> {
-    let _ = args;
-    anyhow::bail!("'report' is not built yet")
+    if !args.dir.is_dir() {
+        anyhow::bail!("{}: not a session folder", args.dir.display());
+    }
+    let out = args.out.unwrap_or_else(|| args.dir.join("report"));
+    let rep = write_report(&args.dir, &out)
+        .with_context(|| format!("report on {}", args.dir.display()))?;
+    print!("{}", rep.summary);
+    println!("wrote {} files to {}", rep.files.len(), out.display());
+    Ok(0)
 }

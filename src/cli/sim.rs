@@ -1,13 +1,198 @@
-//! `skybearing sim`.
+//! `skybearing sim`: a simulated rig on pseudo-terminals, in real time, until interrupted.
 
+use crate::rig::pty::{PtyServer, SIM_RIG_MARKER, SimNotice};
+use crate::rig::sim::{AnimalMode, SimConfig};
+use anyhow::{Context, bail};
 use clap::Args;
+use std::io::Write;
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Flags of `skybearing sim`.
 #[derive(Debug, Args)]
-pub struct SimArgs {}
+pub struct SimArgs {
+    /// Rig file to write; its sensor and turntable point at the simulator's terminals. An
+    /// existing file is only overwritten if `skybearing sim` wrote it.
+    #[arg(long, value_name = "FILE")]
+    pub write_rig: PathBuf,
+    /// Seed of the simulation.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// Fraction of sensor lines replaced by malformed ones, [0, 1].
+    #[arg(long, value_name = "FRACTION", default_value_t = 0.0)]
+    pub garbage: f64,
+    /// Unplug the sensor this many seconds after the start.
+    #[arg(long, value_name = "S")]
+    pub unplug_at: Option<f64>,
+    /// ...for this many seconds.
+    #[arg(long, value_name = "S", default_value_t = 5.0)]
+    pub unplug_for: f64,
+    /// The turntable never answers (the driver reports a fault after its timeout and retry).
+    #[arg(long)]
+    pub stall_turntable: bool,
+    /// What the simulated animal steers by.
+    #[arg(long, value_enum, default_value = "sky")]
+    pub animal_mode: AnimalMode,
+    /// Sensor lines per second.
+    #[arg(long, value_name = "HZ", default_value_t = 100.0)]
+    pub rate_hz: f64,
+    /// Heading held: relative to the sun (sky), to the arena (arena) or the start (none).
+    #[arg(long, value_name = "DEG", default_value_t = 90.0)]
+    pub goal_deg: f64,
+    /// A fixed sun azimuth instead of the real sun at the demo site now (indoor rehearsal).
+    #[arg(long, value_name = "DEG")]
+    pub sun_azimuth_deg: Option<f64>,
+    /// Flight stops per hour of flight (0: the animal never stops).
+    #[arg(long, value_name = "N", default_value_t = 6.0)]
+    pub stops_per_hour: f64,
+    /// Sensor lost after this much silence (written into the rig file), seconds.
+    #[arg(long, value_name = "S", default_value_t = 1.0)]
+    pub lost_after_s: f64,
+    /// Turntable reply timeout written into the rig file, seconds.
+    #[arg(long, value_name = "S", default_value_t = 10.0)]
+    pub turntable_timeout_s: f64,
+    /// Stop by itself after this many seconds.
+    #[arg(long, value_name = "S")]
+    pub duration_s: Option<f64>,
+}
+
+static STOP: AtomicBool = AtomicBool::new(false);
+
+extern "C" fn on_signal(_sig: libc::c_int) {
+    STOP.store(true, Ordering::Relaxed);
+}
+
+fn check_range(name: &str, v: f64, lo: f64, hi: f64) -> anyhow::Result<()> {
+    if !v.is_finite() || v < lo || v > hi {
+        bail!("--{name}: {v} is outside [{lo}, {hi}]");
+    }
+    Ok(())
+}
 
 /// Runs the command; returns the exit status.
 pub fn run(args: SimArgs) -> anyhow::Result<i32> {
-    let _ = args;
-    anyhow::bail!("'sim' is not built yet")
+    check_range("garbage", args.garbage, 0.0, 1.0)?;
+    check_range("rate-hz", args.rate_hz, 0.1, 5000.0)?;
+    check_range("unplug-for", args.unplug_for, 0.0, 86400.0)?;
+    if let Some(u) = args.unplug_at {
+        check_range("unplug-at", u, 0.0, 86400.0)?;
+    }
+    check_range("goal-deg", args.goal_deg, -360.0, 360.0)?;
+    check_range("stops-per-hour", args.stops_per_hour, 0.0, 3600.0)?;
+    check_range("lost-after-s", args.lost_after_s, 0.01, 3600.0)?;
+    check_range("turntable-timeout-s", args.turntable_timeout_s, 0.05, 600.0)?;
+    if let Some(s) = args.sun_azimuth_deg {
+        check_range("sun-azimuth-deg", s, -360.0, 360.0)?;
+    }
+    if let Ok(old) = std::fs::read_to_string(&args.write_rig)
+        && !old.starts_with(SIM_RIG_MARKER)
+    {
+        bail!(
+            "{}: exists and was not written by `skybearing sim`; not overwritten",
+            args.write_rig.display()
+        );
+    }
+
+    let mut cfg = SimConfig::new(args.seed);
+    cfg.animal_mode = args.animal_mode;
+    cfg.goal_deg = args.goal_deg;
+    cfg.rate_hz = args.rate_hz;
+    cfg.garbage_fraction = args.garbage;
+    cfg.unplug_at_s = args.unplug_at;
+    cfg.unplug_for_s = args.unplug_for;
+    cfg.stall_turntable = args.stall_turntable;
+    cfg.flight_stops_per_hour = args.stops_per_hour;
+    cfg.lost_after_s = args.lost_after_s;
+    cfg.turntable_timeout_s = args.turntable_timeout_s;
+    cfg.sun_azimuth_deg = match args.sun_azimuth_deg {
+        Some(az) => Box::new(move |_| az),
+        None => {
+            let site = crate::sky::demo_site();
+            let track = crate::sky::sun::SunTrack::new(
+                site.latitude_deg,
+                site.longitude_deg,
+                site.elevation_m,
+                chrono::Utc::now(),
+            )
+            .context("sun track for the demo site")?;
+            let track = std::sync::Mutex::new(track);
+            Box::new(move |t| {
+                let mut tr = track.lock().unwrap_or_else(|e| e.into_inner());
+                tr.at(t).azimuth_deg
+            })
+        }
+    };
+
+    let rig_path = absolute(&args.write_rig)?;
+    let prefix = rig_path.with_extension("");
+    let mut server = PtyServer::new(cfg, &prefix).context("opening pseudo-terminals")?;
+    let text = server.rig_text(args.seed, args.lost_after_s, args.turntable_timeout_s);
+    std::fs::write(&rig_path, text)
+        .with_context(|| format!("{}: cannot write rig file", rig_path.display()))?;
+
+    // SAFETY: installing an async-signal-safe handler that only stores to an atomic.
+    unsafe {
+        libc::signal(libc::SIGINT, on_signal as *const () as libc::sighandler_t);
+        libc::signal(libc::SIGTERM, on_signal as *const () as libc::sighandler_t);
+    }
+
+    println!("{}", rig_path.display());
+    eprintln!(
+        "sim: serving rig {} | sensor {} -> {} at {} Hz | turntable {} -> {} | seed {} | animal {:?} | Ctrl-C to stop",
+        rig_path.display(),
+        server.sensor_link.display(),
+        server
+            .sensor_slave()
+            .map_or("-".into(), |p| p.display().to_string()),
+        args.rate_hz,
+        server.turntable_link.display(),
+        server.turntable_slave().display(),
+        args.seed,
+        args.animal_mode,
+    );
+    let result = server.serve(&STOP, args.duration_s, |t, n| {
+        let what = match n {
+            SimNotice::Unplugged => "sensor unplugged".to_string(),
+            SimNotice::Replugged(p) => format!("sensor plugged in again ({})", p.display()),
+            SimNotice::TurnCommand {
+                id,
+                by_deg,
+                accepted: true,
+            } => format!("turn {id} by {by_deg} deg started"),
+            SimNotice::TurnCommand {
+                id,
+                accepted: false,
+                ..
+            } => format!("turn {id} ignored (turntable stalled)"),
+            SimNotice::TurnDone { id, position_deg } => {
+                format!("turn {id} done, position {position_deg:.1} deg")
+            }
+            SimNotice::Flight(true) => "animal flies again".into(),
+            SimNotice::Flight(false) => "animal stopped flying".into(),
+            SimNotice::Unknown(s) => format!("turntable: unknown command \"{s}\""),
+        };
+        // A closed stderr (a pipe whose reader left) must not stop the simulator.
+        let _ = writeln!(std::io::stderr(), "sim: {t:8.1} s  {what}");
+    });
+    server.remove_links();
+    let w = server.world();
+    let _ = writeln!(
+        std::io::stderr(),
+        "sim: stopped after {:.1} s: {} lines sent ({} malformed on purpose), {} dropped unread",
+        server.now_s(),
+        w.lines_sent(),
+        w.garbage_injected(),
+        server.dropped()
+    );
+    result.context("serving the simulated rig")?;
+    Ok(0)
+}
+
+fn absolute(p: &std::path::Path) -> anyhow::Result<PathBuf> {
+    if p.is_absolute() {
+        return Ok(p.to_path_buf());
+    }
+    Ok(std::env::current_dir()
+        .context("current directory")?
+        .join(p))
 }

@@ -1,7 +1,21 @@
 //! Protocol files (TOML) and the concrete timeline they expand to.
 //! (Shared types fixed by the lead; parsing, expansion and planning owned by the protocol work.)
+//!
+//! - [`parse_protocol`] / [`load_protocol`]: a TOML file (schema in `docs/protocols.md`) into an
+//!   expanded [`Protocol`] plus warnings;
+//! - [`demo_protocol`], [`smoke_protocol`]: the shipped `protocols/demo.toml` and
+//!   `protocols/smoke.toml`, built into the binary;
+//! - [`plan::make_plan`]: the concrete timeline of a session with the sun at each epoch.
+
+pub mod file;
+pub mod plan;
+pub mod sequence;
+
+pub use file::{ProtocolError, parse_protocol};
+pub use sequence::Order;
 
 use serde::Serialize;
+use std::path::Path;
 
 /// What to do about flight stops.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
@@ -61,4 +75,228 @@ pub struct Protocol {
     pub flight: FlightRules,
     /// The epochs, in order.
     pub epochs: Vec<EpochPlan>,
+}
+
+impl Protocol {
+    /// Sum of the planned epoch durations, seconds (flight-stop pauses and extensions, turn
+    /// times and operator prompts not counted).
+    pub fn total_duration_s(&self) -> f64 {
+        self.epochs.iter().map(|e| e.duration_s).sum()
+    }
+
+    /// The epoch with this 1-based index.
+    pub fn epoch(&self, epoch_index: usize) -> Option<&EpochPlan> {
+        epoch_index.checked_sub(1).and_then(|i| self.epochs.get(i))
+    }
+
+    /// The signed turn (degrees, positive = clockwise seen from above) to make before the epoch
+    /// with this 1-based index, when the arena currently stands at `current_position_deg`
+    /// (degrees from its start position). `None` for an index outside the protocol.
+    ///
+    /// `Stay` gives 0, `TurnBy` its own angle (even beyond ±180: a relative turn is made as
+    /// written), and `GoTo` the shortest way round, `signed_difference_deg(current, target)`, in
+    /// (-180, 180]: a target exactly opposite is reached by turning +180 (clockwise).
+    pub fn turn_before_deg(&self, epoch_index: usize, current_position_deg: f64) -> Option<f64> {
+        let e = self.epoch(epoch_index)?;
+        Some(e.arena.turn_from_deg(current_position_deg))
+    }
+
+    /// The arena position (degrees from its start position, [0, 360)) during each epoch, in
+    /// order, assuming every turn is made as planned from a start at 0.
+    pub fn positions_deg(&self) -> Vec<f64> {
+        let mut pos = 0.0;
+        self.epochs
+            .iter()
+            .map(|e| {
+                pos = crate::frames::wrap_360_deg(pos + e.arena.turn_from_deg(pos));
+                pos
+            })
+            .collect()
+    }
+
+    /// Index (1-based) and start offset (seconds from the session start) of each epoch, on the
+    /// planned schedule (no pauses, instant turns and prompts).
+    pub fn start_offsets_s(&self) -> Vec<f64> {
+        let mut t = 0.0;
+        self.epochs
+            .iter()
+            .map(|e| {
+                let s = t;
+                t += e.duration_s;
+                s
+            })
+            .collect()
+    }
+}
+
+impl ArenaMove {
+    /// The signed turn this move makes from `current_position_deg` (see
+    /// [`Protocol::turn_before_deg`]).
+    pub fn turn_from_deg(&self, current_position_deg: f64) -> f64 {
+        match *self {
+            ArenaMove::Stay => 0.0,
+            ArenaMove::TurnBy { deg } => deg,
+            ArenaMove::GoTo { position_deg } => {
+                crate::frames::signed_difference_deg(current_position_deg, position_deg)
+            }
+        }
+    }
+}
+
+/// Reads and checks a protocol file; errors and warnings name the file as given.
+pub fn load_protocol(path: &Path) -> Result<(Protocol, Vec<String>), ProtocolError> {
+    let name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| ProtocolError::Read {
+        file: name.clone(),
+        message: e.to_string(),
+    })?;
+    parse_protocol(&text, &name)
+}
+
+/// The text of the shipped demo protocol (`protocols/demo.toml`).
+pub const DEMO_TOML: &str = include_str!("../../protocols/demo.toml");
+/// The text of the shipped smoke protocol (`protocols/smoke.toml`).
+pub const SMOKE_TOML: &str = include_str!("../../protocols/smoke.toml");
+
+/// The built-in demo protocol: about 30 minutes of open sky with shuffled turns.
+pub fn demo_protocol() -> Protocol {
+    // The text is compiled in and checked by the tests below, so it cannot fail at run time.
+    #[allow(clippy::expect_used)]
+    parse_protocol(DEMO_TOML, "protocols/demo.toml")
+        .expect("shipped demo protocol parses")
+        .0
+}
+
+/// The built-in smoke protocol: three 5-second epochs with turns between them.
+pub fn smoke_protocol() -> Protocol {
+    #[allow(clippy::expect_used)]
+    parse_protocol(SMOKE_TOML, "protocols/smoke.toml")
+        .expect("shipped smoke protocol parses")
+        .0
+}
+
+/// "1 h 05 min 00 s", "3 min 00 s", "5 s": a duration for people.
+pub fn format_duration_s(total_s: f64) -> String {
+    let t = total_s.max(0.0).round() as u64;
+    let (h, m, s) = (t / 3600, (t % 3600) / 60, t % 60);
+    if h > 0 {
+        format!("{h} h {m:02} min {s:02} s")
+    } else if m > 0 {
+        format!("{m} min {s:02} s")
+    } else {
+        format!("{s} s")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn shipped(name: &str) -> (Protocol, Vec<String>) {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("protocols")
+            .join(name);
+        match load_protocol(&path) {
+            Ok(p) => p,
+            Err(e) => panic!("{e}"),
+        }
+    }
+
+    #[test]
+    fn smoke_is_three_five_second_epochs_with_turns_between() {
+        let p = smoke_protocol();
+        assert_eq!(p.epochs.len(), 3);
+        assert!(p.epochs.iter().all(|e| e.duration_s == 5.0));
+        assert_eq!(p.epochs[0].arena, ArenaMove::Stay);
+        assert!(matches!(p.epochs[1].arena, ArenaMove::TurnBy { deg } if deg != 0.0));
+        assert!(matches!(p.epochs[2].arena, ArenaMove::TurnBy { deg } if deg != 0.0));
+        assert!(p.settle_s < 5.0);
+        assert_eq!(p.total_duration_s(), 15.0);
+    }
+
+    #[test]
+    fn demo_is_about_thirty_minutes_of_open_sky_with_balanced_turns() {
+        let p = demo_protocol();
+        assert_eq!(p.epochs.len(), 10);
+        assert_eq!(p.total_duration_s(), 1800.0);
+        assert!(p.epochs.iter().all(|e| e.condition == "open sky"));
+        let turns: Vec<f64> = p.epochs[1..]
+            .iter()
+            .map(|e| e.arena.turn_from_deg(0.0))
+            .collect();
+        for t in [90.0, -90.0, 180.0] {
+            assert_eq!(turns.iter().filter(|&&x| x == t).count(), 3, "{turns:?}");
+        }
+        // The same file gives the same order every time.
+        assert_eq!(demo_protocol(), p);
+    }
+
+    #[test]
+    fn shipped_files_parse_without_warnings() {
+        for name in [
+            "smoke.toml",
+            "demo.toml",
+            "two-conditions.toml",
+            "polarizer.toml",
+        ] {
+            let (p, w) = shipped(name);
+            assert!(!p.epochs.is_empty(), "{name}");
+            assert!(w.is_empty(), "{name}: {w:?}");
+        }
+    }
+
+    #[test]
+    fn two_conditions_prompts_for_the_diffuser() {
+        let (p, _) = shipped("two-conditions.toml");
+        let first_diffuser = p
+            .epochs
+            .iter()
+            .find(|e| e.condition == "diffuser")
+            .map(|e| e.index);
+        assert_eq!(first_diffuser, Some(5));
+        let prompt = p
+            .epoch(5)
+            .and_then(|e| e.prompt.clone())
+            .unwrap_or_default();
+        assert!(prompt.to_lowercase().contains("diffuser"), "{prompt}");
+        assert!(p.epochs.iter().filter(|e| e.prompt.is_some()).count() == 1);
+    }
+
+    #[test]
+    fn goto_resolves_to_the_shortest_signed_turn() {
+        let (p, _) = parse_protocol(
+            "name = \"g\"\nsettle_s = 1\n[[epochs]]\nduration_s = 9\ngo_to_deg = 350\n\
+             [[epochs]]\nduration_s = 9\ngo_to_deg = 10\n[[epochs]]\nduration_s = 9\ngo_to_deg = 190\n\
+             [[epochs]]\nduration_s = 9\nturn_deg = 270\n",
+            "g.toml",
+        )
+        .unwrap();
+        assert_eq!(p.turn_before_deg(1, 0.0), Some(-10.0));
+        assert_eq!(p.turn_before_deg(2, 350.0), Some(20.0));
+        // Exactly opposite: +180 (clockwise), never -180.
+        assert_eq!(p.turn_before_deg(3, 10.0), Some(180.0));
+        // A relative turn is made as written.
+        assert_eq!(p.turn_before_deg(4, 190.0), Some(270.0));
+        assert_eq!(p.turn_before_deg(0, 0.0), None);
+        assert_eq!(p.turn_before_deg(5, 0.0), None);
+        assert_eq!(p.positions_deg(), vec![350.0, 10.0, 190.0, 100.0]);
+        assert_eq!(p.start_offsets_s(), vec![0.0, 9.0, 18.0, 27.0]);
+    }
+
+    #[test]
+    fn load_names_a_missing_file() {
+        let e = load_protocol(Path::new("/nonexistent/x.toml")).unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("/nonexistent/x.toml: cannot read"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn durations_for_people() {
+        assert_eq!(format_duration_s(5.0), "5 s");
+        assert_eq!(format_duration_s(180.0), "3 min 00 s");
+        assert_eq!(format_duration_s(3905.0), "1 h 05 min 05 s");
+    }
 }

@@ -1,9 +1,14 @@
 //! Rig files (TOML). (Shared type fixed by the lead; parsing owned by the rig work.)
+//!
+//! A rig file is parsed in two steps: TOML into a raw form whose every value keeps its place in
+//! the text ([`toml::Spanned`]), then checked into a [`Rig`]. Every error is one line naming the
+//! file, the line and the field: `rig.toml:7: site.latitude_deg: 123 is outside [-90, 90]`.
 
-use crate::frames::SensorCalibration;
+use crate::frames::{Direction, SensorCalibration, SensorUnit};
 use crate::sky::Site;
-use serde::Serialize;
-use std::path::PathBuf;
+use serde::{Deserialize, Serialize};
+use std::path::{Path, PathBuf};
+use toml::Spanned;
 
 /// Whether the arena mark bearing was measured against magnetic or true north.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -32,4 +37,932 @@ pub struct Rig {
     pub settle_s: f64,
     /// Where sessions go.
     pub sessions_dir: PathBuf,
+    /// The heading sensor: where its lines come from and how they are read.
+    pub sensor: SensorConfig,
+    /// The turntable that turns the arena.
+    pub turntable: TurntableConfig,
+    /// The file the rig was read from (for error messages), "built-in demo rig" otherwise.
+    #[serde(skip)]
+    pub source_name: String,
+}
+
+/// Where heading lines come from.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case", tag = "kind")]
+pub enum SensorSource {
+    /// A serial port (USB adapter, microcontroller).
+    Serial {
+        /// Port path such as /dev/ttyUSB0.
+        path: PathBuf,
+        /// Baud rate.
+        baud: u32,
+    },
+    /// Lines on standard input.
+    Stdin,
+    /// A recorded file of lines.
+    Replay {
+        /// The file.
+        path: PathBuf,
+        /// Whether lines come at their recorded times or as fast as they can be read.
+        pace: ReplayPace,
+    },
+    /// The built-in simulator (in-process).
+    Sim,
+}
+
+/// How fast a replay file is played.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ReplayPace {
+    /// Each line at its recorded device time (needs a time column).
+    Recorded,
+    /// As fast as lines can be read, each stamped when read.
+    Fast,
+}
+
+/// Unit of the device time column.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum TimeUnit {
+    /// Milliseconds.
+    #[default]
+    Ms,
+    /// Microseconds.
+    Us,
+}
+
+impl TimeUnit {
+    /// Seconds per unit.
+    pub fn seconds(self) -> f64 {
+        match self {
+            TimeUnit::Ms => 1e-3,
+            TimeUnit::Us => 1e-6,
+        }
+    }
+}
+
+/// How one line of the sensor becomes a value.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DecoderConfig {
+    /// Column separator; a space or tab means "any run of blanks".
+    pub delimiter: char,
+    /// 1-based column of the heading value.
+    pub value_column: usize,
+    /// 1-based column of the device's own time stamp, if any.
+    pub time_column: Option<usize>,
+    /// Unit of the device time column.
+    pub time_unit: TimeUnit,
+    /// Largest accepted magnitude of a value, in revolutions (anything larger is out of range).
+    pub max_abs_revolutions: f64,
+}
+
+impl Default for DecoderConfig {
+    fn default() -> Self {
+        Self {
+            delimiter: ',',
+            value_column: 1,
+            time_column: None,
+            time_unit: TimeUnit::Ms,
+            max_abs_revolutions: 1000.0,
+        }
+    }
+}
+
+/// The heading sensor as configured.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SensorConfig {
+    /// Where lines come from.
+    pub source: SensorSource,
+    /// How lines are read.
+    pub decoder: DecoderConfig,
+    /// No line for this long declares the sensor lost, seconds.
+    pub lost_after_s: f64,
+    /// Line of `sensor.path` in the rig file (for open-time errors).
+    #[serde(skip)]
+    pub path_line: Option<usize>,
+}
+
+/// The turntable as configured.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case", tag = "kind")]
+pub enum TurntableConfig {
+    /// A motor controller on a serial port speaking docs/turntable-protocol.md.
+    Serial {
+        /// Port path.
+        path: PathBuf,
+        /// Baud rate.
+        baud: u32,
+        /// Seconds to wait for a reply before the one retry, and again before a fault.
+        timeout_s: f64,
+        /// Line of `turntable.path` in the rig file (for open-time errors).
+        #[serde(skip)]
+        path_line: Option<usize>,
+    },
+    /// Turned by hand: the engine prompts the operator.
+    Manual,
+    /// The built-in simulator (in-process).
+    Sim,
+}
+
+/// A rig file that could not be read or checked. Always one line.
+#[derive(Debug, thiserror::Error)]
+pub enum RigFileError {
+    /// The file could not be read.
+    #[error("{file}: cannot read rig file: {source}")]
+    Read {
+        /// The file.
+        file: String,
+        /// Why.
+        source: std::io::Error,
+    },
+    /// A field is missing, unknown or wrong.
+    #[error("{file}:{line}: {field}: {message}")]
+    Field {
+        /// The file.
+        file: String,
+        /// 1-based line.
+        line: usize,
+        /// Dotted field name such as `site.latitude_deg`.
+        field: String,
+        /// What is wrong.
+        message: String,
+    },
+    /// The TOML itself is broken (no field to name).
+    #[error("{file}:{line}: {message}")]
+    Syntax {
+        /// The file.
+        file: String,
+        /// 1-based line.
+        line: usize,
+        /// What is wrong.
+        message: String,
+    },
+}
+
+// ---------------------------------------------------------------------------------------------
+// Raw form
+
+type S<T> = Spanned<T>;
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawRig {
+    site: Option<S<RawSite>>,
+    arena: Option<S<RawArena>>,
+    sensor: Option<S<RawSensor>>,
+    turntable: Option<S<RawTurntable>>,
+    settle_s: Option<S<f64>>,
+    sessions_dir: Option<S<String>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSite {
+    name: Option<S<String>>,
+    latitude_deg: Option<S<f64>>,
+    longitude_deg: Option<S<f64>>,
+    elevation_m: Option<S<f64>>,
+    time_zone: Option<S<String>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawArena {
+    mark_bearing_deg: Option<S<f64>>,
+    mark_reference: Option<S<String>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSensor {
+    source: Option<S<String>>,
+    path: Option<S<String>>,
+    baud: Option<S<i64>>,
+    pace: Option<S<String>>,
+    delimiter: Option<S<String>>,
+    value_column: Option<S<i64>>,
+    time_column: Option<S<i64>>,
+    time_unit: Option<S<String>>,
+    unit: Option<S<String>>,
+    counts_per_rev: Option<S<f64>>,
+    direction: Option<S<String>>,
+    zero_offset_deg: Option<S<f64>>,
+    lost_after_s: Option<S<f64>>,
+    max_abs_revolutions: Option<S<f64>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTurntable {
+    kind: Option<S<String>>,
+    path: Option<S<String>>,
+    baud: Option<S<i64>>,
+    timeout_s: Option<S<f64>>,
+}
+
+/// 1-based line of a byte offset.
+fn line_of(text: &str, offset: usize) -> usize {
+    let end = offset.min(text.len());
+    text.as_bytes()[..end]
+        .iter()
+        .filter(|&&b| b == b'\n')
+        .count()
+        + 1
+}
+
+/// The dotted table name in force at a byte offset (from the nearest `[header]` above it).
+fn table_at(text: &str, offset: usize) -> String {
+    let end = offset.min(text.len());
+    let mut current = String::new();
+    let mut pos = 0usize;
+    for line in text.split_inclusive('\n') {
+        if pos > end {
+            break;
+        }
+        let t = line.trim();
+        if let Some(rest) = t.strip_prefix('[')
+            && let Some(close) = rest.find(']')
+        {
+            current = rest[..close].trim().trim_matches('[').trim().to_string();
+        }
+        pos += line.len();
+    }
+    current
+}
+
+/// The key written on the line holding `offset`, if the line is `key = ...`.
+fn key_on_line(text: &str, offset: usize) -> Option<String> {
+    let end = offset.min(text.len());
+    let start = text[..end].rfind('\n').map_or(0, |i| i + 1);
+    let line = text[start..].lines().next().unwrap_or("");
+    let (k, _) = line.split_once('=')?;
+    let k = k.trim().trim_matches('"');
+    if k.is_empty() || k.starts_with('[') || k.starts_with('#') {
+        None
+    } else {
+        Some(k.to_string())
+    }
+}
+
+struct Checker<'a> {
+    text: &'a str,
+    file: &'a str,
+}
+
+impl Checker<'_> {
+    fn err(&self, offset: usize, field: &str, message: impl Into<String>) -> RigFileError {
+        RigFileError::Field {
+            file: self.file.to_string(),
+            line: line_of(self.text, offset),
+            field: field.to_string(),
+            message: message.into(),
+        }
+    }
+
+    fn req<'v, T>(
+        &self,
+        v: &'v Option<S<T>>,
+        table_start: usize,
+        field: &str,
+    ) -> Result<&'v S<T>, RigFileError> {
+        v.as_ref()
+            .ok_or_else(|| self.err(table_start, field, "missing (required)"))
+    }
+
+    fn finite(&self, v: &S<f64>, field: &str) -> Result<f64, RigFileError> {
+        let x = *v.get_ref();
+        if x.is_finite() {
+            Ok(x)
+        } else {
+            Err(self.err(v.span().start, field, format!("{x} is not a finite number")))
+        }
+    }
+
+    fn range(&self, v: &S<f64>, field: &str, lo: f64, hi: f64) -> Result<f64, RigFileError> {
+        let x = self.finite(v, field)?;
+        if (lo..=hi).contains(&x) {
+            Ok(x)
+        } else {
+            Err(self.err(
+                v.span().start,
+                field,
+                format!("{x} is outside [{lo}, {hi}]"),
+            ))
+        }
+    }
+
+    fn positive(&self, v: &S<f64>, field: &str) -> Result<f64, RigFileError> {
+        let x = self.finite(v, field)?;
+        if x > 0.0 {
+            Ok(x)
+        } else {
+            Err(self.err(v.span().start, field, format!("{x} must be > 0")))
+        }
+    }
+
+    fn choice<'c>(
+        &self,
+        v: &S<String>,
+        field: &str,
+        what: &str,
+        allowed: &[&'c str],
+    ) -> Result<&'c str, RigFileError> {
+        let s = v.get_ref().as_str();
+        allowed.iter().copied().find(|a| *a == s).ok_or_else(|| {
+            self.err(
+                v.span().start,
+                field,
+                format!("unknown {what} \"{s}\" (expected {})", allowed.join(", ")),
+            )
+        })
+    }
+
+    fn baud(&self, v: &S<i64>, field: &str) -> Result<u32, RigFileError> {
+        let b = *v.get_ref();
+        if (50..=4_000_000).contains(&b) {
+            Ok(b as u32)
+        } else {
+            Err(self.err(
+                v.span().start,
+                field,
+                format!("{b} is outside [50, 4000000]"),
+            ))
+        }
+    }
+
+    fn column(&self, v: &S<i64>, field: &str) -> Result<usize, RigFileError> {
+        let c = *v.get_ref();
+        if (1..=64).contains(&c) {
+            Ok(c as usize)
+        } else {
+            Err(self.err(
+                v.span().start,
+                field,
+                format!("{c} is outside [1, 64] (columns count from 1)"),
+            ))
+        }
+    }
+
+    fn path(&self, v: &S<String>, field: &str) -> Result<PathBuf, RigFileError> {
+        if v.get_ref().trim().is_empty() {
+            Err(self.err(v.span().start, field, "empty path"))
+        } else {
+            Ok(PathBuf::from(v.get_ref()))
+        }
+    }
+
+    fn not_for(
+        &self,
+        v: &Option<S<impl Sized>>,
+        field: &str,
+        why: &str,
+    ) -> Result<(), RigFileError> {
+        match v {
+            Some(v) => Err(self.err(v.span().start, field, format!("not used {why}"))),
+            None => Ok(()),
+        }
+    }
+}
+
+/// Reads and checks a rig file.
+pub fn load_rig(path: &Path) -> Result<Rig, RigFileError> {
+    let name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|source| RigFileError::Read {
+        file: name.clone(),
+        source,
+    })?;
+    parse_rig(&text, &name)
+}
+
+/// Parses and checks the text of a rig file; `source_name` names it in errors.
+pub fn parse_rig(text: &str, source_name: &str) -> Result<Rig, RigFileError> {
+    let raw: RawRig = toml::from_str(text).map_err(|e| {
+        let offset = e.span().map_or(0, |s| s.start);
+        let line = line_of(text, offset);
+        let mut message = e.message().trim().replace('\n', " ");
+        // Name the field: the table in force plus the key on that line (or the key named in the
+        // message for unknown/missing fields).
+        let table = table_at(text, offset);
+        let key = if message.starts_with("unknown field") {
+            message.split('`').nth(1).map(str::to_string)
+        } else {
+            key_on_line(text, offset)
+        };
+        if message.starts_with("unknown field") {
+            message = format!("unknown key ({})", message.replace('`', "\""));
+        }
+        match key {
+            Some(k) => RigFileError::Field {
+                file: source_name.to_string(),
+                line,
+                field: if table.is_empty() {
+                    k
+                } else {
+                    format!("{table}.{k}")
+                },
+                message,
+            },
+            None if !table.is_empty() => RigFileError::Field {
+                file: source_name.to_string(),
+                line,
+                field: table,
+                message,
+            },
+            None => RigFileError::Syntax {
+                file: source_name.to_string(),
+                line,
+                message,
+            },
+        }
+    })?;
+    check(raw, text, source_name)
+}
+
+fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
+    let c = Checker { text, file };
+    let top = |name: &str| -> RigFileError { c.err(text.len(), name, "missing table (required)") };
+
+    // [site]
+    let site_s = raw.site.as_ref().ok_or_else(|| top("[site]"))?;
+    let at = site_s.span().start;
+    let site = site_s.get_ref();
+    let name = c.req(&site.name, at, "site.name")?;
+    if name.get_ref().trim().is_empty() {
+        return Err(c.err(name.span().start, "site.name", "empty name"));
+    }
+    let latitude_deg = c.range(
+        c.req(&site.latitude_deg, at, "site.latitude_deg")?,
+        "site.latitude_deg",
+        -90.0,
+        90.0,
+    )?;
+    let longitude_deg = c.range(
+        c.req(&site.longitude_deg, at, "site.longitude_deg")?,
+        "site.longitude_deg",
+        -180.0,
+        180.0,
+    )?;
+    let elevation_m = c.range(
+        c.req(&site.elevation_m, at, "site.elevation_m")?,
+        "site.elevation_m",
+        -500.0,
+        9000.0,
+    )?;
+    let tz = c.req(&site.time_zone, at, "site.time_zone")?;
+    if tz.get_ref().parse::<chrono_tz::Tz>().is_err() {
+        return Err(c.err(
+            tz.span().start,
+            "site.time_zone",
+            format!(
+                "unknown time zone \"{}\" (expected an IANA name such as \"Europe/Paris\")",
+                tz.get_ref()
+            ),
+        ));
+    }
+
+    // [arena]
+    let arena_s = raw.arena.as_ref().ok_or_else(|| top("[arena]"))?;
+    let at = arena_s.span().start;
+    let arena = arena_s.get_ref();
+    let mark = c.range(
+        c.req(&arena.mark_bearing_deg, at, "arena.mark_bearing_deg")?,
+        "arena.mark_bearing_deg",
+        -360.0,
+        360.0,
+    )?;
+    let reference = match c.choice(
+        c.req(&arena.mark_reference, at, "arena.mark_reference")?,
+        "arena.mark_reference",
+        "reference",
+        &["true", "magnetic"],
+    )? {
+        "magnetic" => BearingReference::Magnetic,
+        _ => BearingReference::True,
+    };
+
+    // [sensor]
+    let sensor_s = raw.sensor.as_ref().ok_or_else(|| top("[sensor]"))?;
+    let at = sensor_s.span().start;
+    let s = sensor_s.get_ref();
+    let kind = c.choice(
+        c.req(&s.source, at, "sensor.source")?,
+        "sensor.source",
+        "source",
+        &["serial", "stdin", "replay", "sim"],
+    )?;
+    let mut path_line = None;
+    let source = match kind {
+        "serial" => {
+            let p = c.req(&s.path, at, "sensor.path")?;
+            path_line = Some(line_of(text, p.span().start));
+            c.not_for(&s.pace, "sensor.pace", "with source = \"serial\"")?;
+            SensorSource::Serial {
+                path: c.path(p, "sensor.path")?,
+                baud: c.baud(c.req(&s.baud, at, "sensor.baud")?, "sensor.baud")?,
+            }
+        }
+        "replay" => {
+            let p = c.req(&s.path, at, "sensor.path")?;
+            path_line = Some(line_of(text, p.span().start));
+            c.not_for(&s.baud, "sensor.baud", "with source = \"replay\"")?;
+            let pace = match &s.pace {
+                None => ReplayPace::Recorded,
+                Some(v) => match c.choice(v, "sensor.pace", "pace", &["recorded", "fast"])? {
+                    "fast" => ReplayPace::Fast,
+                    _ => ReplayPace::Recorded,
+                },
+            };
+            if pace == ReplayPace::Recorded && s.time_column.is_none() {
+                let off = s.pace.as_ref().map_or(at, |p| p.span().start);
+                return Err(c.err(
+                    off,
+                    "sensor.pace",
+                    "pace \"recorded\" needs sensor.time_column (or use pace = \"fast\")",
+                ));
+            }
+            SensorSource::Replay {
+                path: c.path(p, "sensor.path")?,
+                pace,
+            }
+        }
+        other => {
+            let why = format!("with source = \"{other}\"");
+            c.not_for(&s.path, "sensor.path", &why)?;
+            c.not_for(&s.baud, "sensor.baud", &why)?;
+            c.not_for(&s.pace, "sensor.pace", &why)?;
+            if other == "stdin" {
+                SensorSource::Stdin
+            } else {
+                SensorSource::Sim
+            }
+        }
+    };
+    let mut decoder = DecoderConfig::default();
+    if let Some(d) = &s.delimiter {
+        let mut chars = d.get_ref().chars();
+        match (chars.next(), chars.next()) {
+            (Some(ch), None)
+                if ch != '\n' && ch != '\r' && !ch.is_ascii_digit() && ch != '.' && ch != '-' =>
+            {
+                decoder.delimiter = ch
+            }
+            _ => {
+                return Err(c.err(
+                    d.span().start,
+                    "sensor.delimiter",
+                    format!(
+                        "\"{}\" is not one usable character (such as \",\", \";\", \" \" or \"\\t\")",
+                        d.get_ref().escape_debug()
+                    ),
+                ));
+            }
+        }
+    }
+    if let Some(v) = &s.value_column {
+        decoder.value_column = c.column(v, "sensor.value_column")?;
+    }
+    if let Some(v) = &s.time_column {
+        let col = c.column(v, "sensor.time_column")?;
+        if col == decoder.value_column {
+            return Err(c.err(
+                v.span().start,
+                "sensor.time_column",
+                "same column as sensor.value_column",
+            ));
+        }
+        decoder.time_column = Some(col);
+    }
+    if let Some(v) = &s.time_unit {
+        decoder.time_unit = match c.choice(v, "sensor.time_unit", "time unit", &["ms", "us"])? {
+            "us" => TimeUnit::Us,
+            _ => TimeUnit::Ms,
+        };
+    }
+    if let Some(v) = &s.max_abs_revolutions {
+        decoder.max_abs_revolutions = c.positive(v, "sensor.max_abs_revolutions")?;
+    }
+    let unit_s = c.req(&s.unit, at, "sensor.unit")?;
+    let unit = match c.choice(
+        unit_s,
+        "sensor.unit",
+        "unit",
+        &["degrees", "radians", "counts"],
+    )? {
+        "radians" => {
+            c.not_for(
+                &s.counts_per_rev,
+                "sensor.counts_per_rev",
+                "with unit = \"radians\"",
+            )?;
+            SensorUnit::Radians
+        }
+        "counts" => {
+            let v = s.counts_per_rev.as_ref().ok_or_else(|| {
+                c.err(
+                    unit_s.span().start,
+                    "sensor.counts_per_rev",
+                    "missing (required with unit = \"counts\")",
+                )
+            })?;
+            SensorUnit::Counts {
+                per_rev: c.positive(v, "sensor.counts_per_rev")?,
+            }
+        }
+        _ => {
+            c.not_for(
+                &s.counts_per_rev,
+                "sensor.counts_per_rev",
+                "with unit = \"degrees\"",
+            )?;
+            SensorUnit::Degrees
+        }
+    };
+    let direction = match &s.direction {
+        None => Direction::Clockwise,
+        Some(v) => match c.choice(
+            v,
+            "sensor.direction",
+            "direction",
+            &["clockwise", "counterclockwise"],
+        )? {
+            "counterclockwise" => Direction::Counterclockwise,
+            _ => Direction::Clockwise,
+        },
+    };
+    let zero_offset_deg = match &s.zero_offset_deg {
+        None => 0.0,
+        Some(v) => c.range(v, "sensor.zero_offset_deg", -360.0, 360.0)?,
+    };
+    let lost_after_s = match &s.lost_after_s {
+        None => 1.0,
+        Some(v) => c.range(v, "sensor.lost_after_s", 0.01, 3600.0)?,
+    };
+
+    // [turntable]
+    let tt_s = raw.turntable.as_ref().ok_or_else(|| top("[turntable]"))?;
+    let at = tt_s.span().start;
+    let t = tt_s.get_ref();
+    let turntable = match c.choice(
+        c.req(&t.kind, at, "turntable.kind")?,
+        "turntable.kind",
+        "turntable kind",
+        &["serial", "manual", "sim"],
+    )? {
+        "serial" => {
+            let p = c.req(&t.path, at, "turntable.path")?;
+            TurntableConfig::Serial {
+                path: c.path(p, "turntable.path")?,
+                baud: c.baud(c.req(&t.baud, at, "turntable.baud")?, "turntable.baud")?,
+                timeout_s: match &t.timeout_s {
+                    None => 30.0,
+                    Some(v) => c.range(v, "turntable.timeout_s", 0.05, 600.0)?,
+                },
+                path_line: Some(line_of(text, p.span().start)),
+            }
+        }
+        other => {
+            let why = format!("with kind = \"{other}\"");
+            c.not_for(&t.path, "turntable.path", &why)?;
+            c.not_for(&t.baud, "turntable.baud", &why)?;
+            c.not_for(&t.timeout_s, "turntable.timeout_s", &why)?;
+            if other == "manual" {
+                TurntableConfig::Manual
+            } else {
+                TurntableConfig::Sim
+            }
+        }
+    };
+
+    let settle_s = match &raw.settle_s {
+        None => 5.0,
+        Some(v) => c.range(v, "settle_s", 0.0, 3600.0)?,
+    };
+    let sessions_dir = match &raw.sessions_dir {
+        None => PathBuf::from("sessions"),
+        Some(v) => c.path(v, "sessions_dir")?,
+    };
+
+    Ok(Rig {
+        site: Site {
+            name: name.get_ref().clone(),
+            latitude_deg,
+            longitude_deg,
+            elevation_m,
+        },
+        time_zone: tz.get_ref().clone(),
+        arena_mark_bearing_deg: mark,
+        arena_mark_reference: reference,
+        calibration: SensorCalibration {
+            unit,
+            direction,
+            zero_offset_deg,
+        },
+        settle_s,
+        sessions_dir,
+        sensor: SensorConfig {
+            source,
+            decoder,
+            lost_after_s,
+            path_line,
+        },
+        turntable,
+        source_name: file.to_string(),
+    })
+}
+
+/// The built-in demo rig: the demo site, time zone Europe/Paris, arena mark at true 0,
+/// simulated sensor and turntable.
+pub fn demo_rig() -> Rig {
+    Rig {
+        site: crate::sky::demo_site(),
+        time_zone: "Europe/Paris".to_string(),
+        arena_mark_bearing_deg: 0.0,
+        arena_mark_reference: BearingReference::True,
+        calibration: SensorCalibration::default(),
+        settle_s: 5.0,
+        sessions_dir: PathBuf::from("sessions"),
+        sensor: SensorConfig {
+            source: SensorSource::Sim,
+            decoder: DecoderConfig {
+                time_column: Some(2),
+                ..DecoderConfig::default()
+            },
+            lost_after_s: 1.0,
+            path_line: None,
+        },
+        turntable: TurntableConfig::Sim,
+        source_name: "built-in demo rig".to_string(),
+    }
+}
+
+/// The commented template written by `skybearing rig init FILE`.
+pub const TEMPLATE: &str = r#"# skybearing rig file: the hardware set-up for tethered heading sessions.
+# Fill in every value marked REQUIRED. Angles are degrees, clockwise seen from above.
+# Unknown keys are errors, so a misspelt key is caught before a session starts.
+
+# Where session folders go (relative to the directory you run skybearing from).
+sessions_dir = "sessions"
+# Seconds after each arena turn left out of scores while the animal re-orients
+# (a protocol may override it).
+settle_s = 5.0
+
+[site]
+name = "Larkfield Meadow (demo)"     # REQUIRED: a name for people
+latitude_deg = 43.2170               # REQUIRED: WGS84, north positive, [-90, 90]
+longitude_deg = 5.4420               # REQUIRED: WGS84, east positive, [-180, 180]
+elevation_m = 210.0                  # REQUIRED: height above sea level, metres
+time_zone = "Europe/Paris"           # REQUIRED: IANA name, for local display only
+
+[arena]
+# Bearing of the arena's 0 mark, measured at set-up (never align anything by looking
+# at the sun). "magnetic" bearings are corrected with the WMM declination for the
+# site and date: true = magnetic + declination (east positive).
+mark_bearing_deg = 0.0               # REQUIRED
+mark_reference = "magnetic"          # REQUIRED: "magnetic" or "true"
+
+[sensor]
+# Where heading lines come from: "serial", "stdin", "replay" or "sim".
+source = "serial"                    # REQUIRED
+path = "/dev/ttyUSB0"                # serial port (serial) or recorded file (replay)
+baud = 115200                        # serial only
+# pace = "recorded"                  # replay only: "recorded" (needs time_column) or "fast"
+lost_after_s = 1.0                   # no line for this long: sensor lost
+
+# One line per sample, columns separated by the delimiter (" " or "\t": any blanks).
+delimiter = ","
+value_column = 1                     # 1-based column of the heading value
+# time_column = 2                    # optional 1-based column of the device's time stamp
+# time_unit = "ms"                   # "ms" or "us"
+# max_abs_revolutions = 1000.0       # larger values are rejected as out of range
+
+# How a value becomes an arena heading:
+#   arena heading = s * value_in_degrees + zero_offset_deg, s = +1 clockwise, -1 counterclockwise
+unit = "degrees"                     # REQUIRED: "degrees", "radians" or "counts"
+# counts_per_rev = 4096.0            # REQUIRED with unit = "counts"
+direction = "clockwise"              # "counterclockwise" for a mirrored view (camera from below)
+zero_offset_deg = 0.0                # arena heading at which the sensor reads zero
+# Check direction and offset before each day: turn the pin by hand clockwise through
+# the arena's 0 and 90 marks and watch the live arena heading follow.
+
+[turntable]
+# "serial" (a motor controller speaking docs/turntable-protocol.md), "manual"
+# (you turn the arena by hand when prompted) or "sim".
+kind = "manual"                      # REQUIRED
+# path = "/dev/ttyACM0"              # serial only
+# baud = 115200                      # serial only
+# timeout_s = 30.0                   # serial only: wait for a reply, retry once, then fault
+"#;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn good() -> String {
+        TEMPLATE.replace("kind = \"manual\"", "kind = \"sim\"")
+    }
+
+    #[test]
+    fn template_parses() {
+        let rig = parse_rig(TEMPLATE, "rig.toml").unwrap();
+        assert_eq!(rig.site.name, "Larkfield Meadow (demo)");
+        assert_eq!(rig.arena_mark_reference, BearingReference::Magnetic);
+        assert_eq!(
+            rig.sensor.source,
+            SensorSource::Serial {
+                path: "/dev/ttyUSB0".into(),
+                baud: 115200
+            }
+        );
+        assert_eq!(rig.sensor.path_line, Some(28));
+        assert_eq!(rig.turntable, TurntableConfig::Manual);
+        assert!(serde_json::to_string(&rig).is_ok());
+        let rig = parse_rig(&good(), "rig.toml").unwrap();
+        assert_eq!(rig.turntable, TurntableConfig::Sim);
+    }
+
+    fn err(text: &str) -> String {
+        parse_rig(text, "rig.toml").unwrap_err().to_string()
+    }
+
+    #[test]
+    fn latitude_out_of_range() {
+        let e = err(&TEMPLATE.replace("latitude_deg = 43.2170", "latitude_deg = 123"));
+        assert_eq!(
+            e,
+            "rig.toml:13: site.latitude_deg: 123 is outside [-90, 90]"
+        );
+    }
+
+    #[test]
+    fn missing_field_names_table_line() {
+        let e = err(&TEMPLATE.replace("elevation_m = 210.0", ""));
+        assert_eq!(e, "rig.toml:11: site.elevation_m: missing (required)");
+    }
+
+    #[test]
+    fn unknown_unit() {
+        let e = err(&TEMPLATE.replace("unit = \"degrees\"", "unit = \"grads\""));
+        assert!(
+            e.starts_with("rig.toml:42: sensor.unit: unknown unit \"grads\""),
+            "{e}"
+        );
+        assert!(!e.contains('\n'));
+    }
+
+    #[test]
+    fn unknown_key() {
+        let e = err(&TEMPLATE.replace("baud = 115200  ", "baudrate = 115200"));
+        assert!(
+            e.starts_with("rig.toml:29: sensor.baudrate: unknown key"),
+            "{e}"
+        );
+        assert!(!e.contains('\n'));
+    }
+
+    #[test]
+    fn wrong_type_and_syntax() {
+        let e = err(&TEMPLATE.replace("settle_s = 5.0", "settle_s = \"five\""));
+        assert!(e.starts_with("rig.toml:9: settle_s: "), "{e}");
+        assert!(!e.contains('\n'));
+        let e = err(&TEMPLATE.replace("[arena]", "[arena"));
+        assert!(e.starts_with("rig.toml:18:"), "{e}");
+        assert!(!e.contains('\n'));
+    }
+
+    #[test]
+    fn counts_need_counts_per_rev() {
+        let e = err(&TEMPLATE.replace("unit = \"degrees\"", "unit = \"counts\""));
+        assert!(
+            e.starts_with("rig.toml:42: sensor.counts_per_rev: missing"),
+            "{e}"
+        );
+        let rig = parse_rig(
+            &TEMPLATE
+                .replace("unit = \"degrees\"", "unit = \"counts\"")
+                .replace("# counts_per_rev = 4096.0", "counts_per_rev = 4096.0"),
+            "rig.toml",
+        )
+        .unwrap();
+        assert_eq!(rig.calibration.unit, SensorUnit::Counts { per_rev: 4096.0 });
+    }
+
+    #[test]
+    fn bad_time_zone_and_missing_table() {
+        let e = err(&TEMPLATE.replace("Europe/Paris", "Europe/Larkfield"));
+        assert!(
+            e.starts_with("rig.toml:16: site.time_zone: unknown time zone"),
+            "{e}"
+        );
+        let cut = TEMPLATE.find("[turntable]").unwrap();
+        let e = err(&TEMPLATE[..cut]);
+        assert!(e.contains("[turntable]: missing table"), "{e}");
+    }
+
+    #[test]
+    fn demo_rig_is_sim() {
+        let r = demo_rig();
+        assert_eq!(r.sensor.source, SensorSource::Sim);
+        assert_eq!(r.turntable, TurntableConfig::Sim);
+        assert_eq!(r.site, crate::sky::demo_site());
+    }
 }

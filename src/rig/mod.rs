@@ -6,6 +6,14 @@
 //! stamped when the line arrived (real devices) or when it was generated (simulator).
 
 pub mod config;
+pub mod decoder;
+pub mod pty;
+pub mod sim;
+pub mod source;
+pub mod turntable;
+
+pub use source::open_sensor;
+pub use turntable::open_turntable;
 
 use serde::Serialize;
 

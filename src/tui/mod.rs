@@ -1,1 +1,20 @@
 //! The live screen: renders engine snapshots, sends operator commands.
+//!
+//! - [`render::draw`] draws one [`Snapshot`](crate::engine::snapshot::Snapshot) into a ratatui
+//!   frame (pure: no clock, no I/O);
+//! - [`UiState::handle_key`] turns keys into [`Command`](crate::engine::snapshot::Command)s (a
+//!   pure state machine);
+//! - [`run_live`] owns the terminal: raw mode, alternate screen, at most ~30 frames per second,
+//!   and restores the terminal on every exit path.
+
+pub mod format;
+pub mod live;
+pub mod render;
+pub mod sample;
+pub mod state;
+pub mod theme;
+
+pub use live::{ScreenOptions, no_color_requested, run_live};
+pub use render::draw;
+pub use state::{HeadingFrame, Mode, UiState};
+pub use theme::{Theme, ThemeKind};

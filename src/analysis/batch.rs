@@ -1,0 +1,438 @@
+//! `batch`: many session folders → tidy tables and population statistics.
+//!
+//! Each session is read in one streaming pass (only per-epoch accumulators stay in memory),
+//! sessions in parallel with rayon. Unreadable folders are reported and skipped.
+
+use super::AnalysisError;
+use super::population::{
+    animal_key, animal_vectors, animals_table, comparisons_table, paired_tables, population_table,
+};
+use super::session::{SessionStats, analyse_session};
+use super::table::{Cell, Table};
+use chrono::NaiveDate;
+use rayon::prelude::*;
+use std::path::{Path, PathBuf};
+
+/// How deep `batch` looks for session folders below each folder it is given.
+const MAX_DEPTH: usize = 4;
+
+/// What to include.
+#[derive(Debug, Clone, Default)]
+pub struct Filters {
+    /// Keep only epochs with one of these conditions (empty: all).
+    pub conditions: Vec<String>,
+    /// Sessions started on or after this UTC date.
+    pub from: Option<NaiveDate>,
+    /// Sessions started on or before this UTC date.
+    pub to: Option<NaiveDate>,
+    /// Sessions with at least this many flying seconds.
+    pub min_flying_s: Option<f64>,
+    /// Sessions whose r over all scored world headings is at least this.
+    pub min_r: Option<f64>,
+    /// Also sessions that are not `complete` (running = interrupted, recovered, aborted).
+    pub include_incomplete: bool,
+}
+
+/// A folder left out, and why.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Skipped {
+    /// The folder.
+    pub folder: PathBuf,
+    /// Session id if known.
+    pub session_id: String,
+    /// `error` (unreadable) or `filtered`.
+    pub kind: &'static str,
+    /// One-line reason.
+    pub reason: String,
+}
+
+/// The outcome of a batch run.
+#[derive(Debug, Default)]
+pub struct BatchResult {
+    /// Sessions read and kept (filters applied; epochs of other conditions removed).
+    pub sessions: Vec<SessionStats>,
+    /// Folders read successfully (kept or filtered).
+    pub read_ok: usize,
+    /// Left out.
+    pub skipped: Vec<Skipped>,
+}
+
+fn is_session_dir(dir: &Path) -> bool {
+    dir.join("session.json").is_file() || dir.join("samples.csv").is_file()
+}
+
+/// Finds session folders: a folder that holds `session.json` or `samples.csv` is a session;
+/// any other folder is searched (up to a few levels, hidden folders left out). Folders given
+/// that do not exist or hold no session are reported in `skipped`.
+pub fn find_sessions(roots: &[PathBuf], skipped: &mut Vec<Skipped>) -> Vec<PathBuf> {
+    fn walk(dir: &Path, depth: usize, out: &mut Vec<PathBuf>) {
+        if is_session_dir(dir) {
+            out.push(dir.to_path_buf());
+            return;
+        }
+        if depth >= MAX_DEPTH {
+            return;
+        }
+        let Ok(rd) = std::fs::read_dir(dir) else {
+            return;
+        };
+        let mut kids: Vec<PathBuf> = rd
+            .filter_map(|e| e.ok())
+            .map(|e| e.path())
+            .filter(|p| {
+                p.is_dir()
+                    && !p
+                        .file_name()
+                        .is_some_and(|n| n.to_string_lossy().starts_with('.'))
+            })
+            .collect();
+        kids.sort();
+        for k in kids {
+            walk(&k, depth + 1, out);
+        }
+    }
+    let mut out = Vec::new();
+    for root in roots {
+        if !root.is_dir() {
+            skipped.push(Skipped {
+                folder: root.clone(),
+                session_id: String::new(),
+                kind: "error",
+                reason: "not a folder".into(),
+            });
+            continue;
+        }
+        let before = out.len();
+        walk(root, 0, &mut out);
+        if out.len() == before {
+            skipped.push(Skipped {
+                folder: root.clone(),
+                session_id: String::new(),
+                kind: "error",
+                reason: "no session folders (session.json or samples.csv) found".into(),
+            });
+        }
+    }
+    out.sort();
+    out.dedup();
+    out
+}
+
+/// Why a session fails the filters (None: it passes). Condition filtering of epochs is done
+/// separately.
+fn filter_reason(s: &SessionStats, f: &Filters) -> Option<String> {
+    if !f.include_incomplete && !s.info.is_complete() {
+        return Some(format!(
+            "status '{}' (not complete; use --include-incomplete)",
+            s.info.status
+        ));
+    }
+    if f.from.is_some() || f.to.is_some() {
+        match s.info.started_date {
+            None => return Some("no readable started_utc for --from/--to".into()),
+            Some(d) => {
+                if f.from.is_some_and(|from| d < from) {
+                    return Some(format!("started {d}, before --from"));
+                }
+                if f.to.is_some_and(|to| d > to) {
+                    return Some(format!("started {d}, after --to"));
+                }
+            }
+        }
+    }
+    if let Some(min) = f.min_flying_s
+        && s.flying_s < min
+    {
+        return Some(format!("flying {:.1} s < --min-flying-s {min}", s.flying_s));
+    }
+    if let Some(min) = f.min_r
+        && s.world.r() < min
+    {
+        return Some(format!("r_world {:.3} < --min-r {min}", s.world.r()));
+    }
+    if !f.conditions.is_empty() && !s.epochs.iter().any(|e| f.conditions.contains(&e.condition)) {
+        return Some("no epoch with a --condition".into());
+    }
+    None
+}
+
+/// Reads every session under `roots` (in parallel), applies the filters.
+/// `progress` is called once per session folder finished (from worker threads).
+pub fn run_batch(
+    roots: &[PathBuf],
+    filters: &Filters,
+    progress: &(dyn Fn() + Sync),
+    found: &dyn Fn(usize),
+) -> BatchResult {
+    let mut skipped = Vec::new();
+    let dirs = find_sessions(roots, &mut skipped);
+    found(dirs.len());
+    let results: Vec<(PathBuf, Result<SessionStats, AnalysisError>)> = dirs
+        .par_iter()
+        .map(|d| {
+            let r = analyse_session(d);
+            progress();
+            (d.clone(), r)
+        })
+        .collect();
+    let mut out = BatchResult {
+        skipped,
+        ..Default::default()
+    };
+    for (dir, r) in results {
+        match r {
+            Err(e) => out.skipped.push(Skipped {
+                folder: dir.clone(),
+                session_id: dir
+                    .file_name()
+                    .map(|n| n.to_string_lossy().to_string())
+                    .unwrap_or_default(),
+                kind: "error",
+                reason: e.to_string(),
+            }),
+            Ok(mut s) => {
+                out.read_ok += 1;
+                if let Some(reason) = filter_reason(&s, filters) {
+                    out.skipped.push(Skipped {
+                        folder: dir,
+                        session_id: s.info.id.clone(),
+                        kind: "filtered",
+                        reason,
+                    });
+                    continue;
+                }
+                if !filters.conditions.is_empty() {
+                    s.epochs
+                        .retain(|e| filters.conditions.contains(&e.condition));
+                }
+                out.sessions.push(s);
+            }
+        }
+    }
+    out.sessions
+        .sort_by(|a, b| (&a.info.id, &a.info.dir).cmp(&(&b.info.id, &b.info.dir)));
+    out
+}
+
+/// Columns of `sessions.csv`.
+pub const SESSION_COLUMNS: &[&str] = &[
+    "session_id",
+    "animal",
+    "started_utc",
+    "r_world",
+    "r_arena",
+    "status",
+    "protocol",
+    "conditions",
+    "epochs",
+    "n",
+    "mean_world_deg",
+    "mean_arena_deg",
+    "flying_s",
+    "duration_s",
+    "rows",
+    "torn_tail",
+    "folder",
+];
+
+/// Columns of `epochs.csv`.
+pub const EPOCH_COLUMNS: &[&str] = &[
+    "session_id",
+    "animal",
+    "epoch",
+    "condition",
+    "n",
+    "mean_world_deg",
+    "r",
+    "mean_arena_deg",
+    "r_arena",
+    "rayleigh_z",
+    "rayleigh_p",
+    "n_eff",
+    "rayleigh_p_eff",
+    "arena_bearing_deg",
+    "mean_sun_relative_deg",
+    "r_sun_relative",
+    "mean_sun_elevation_deg",
+    "flying_s",
+    "t_start_s",
+    "t_end_s",
+];
+
+/// Columns of `turns.csv`.
+pub const TURN_COLUMNS: &[&str] = &[
+    "session_id",
+    "animal",
+    "turn",
+    "from_epoch",
+    "to_epoch",
+    "condition_before",
+    "condition_after",
+    "turn_deg",
+    "world_shift_deg",
+    "arena_shift_deg",
+];
+
+/// `sessions.csv`.
+pub fn sessions_table(sessions: &[SessionStats]) -> Table {
+    let mut t = Table::new(SESSION_COLUMNS);
+    for s in sessions {
+        let n: u64 = s.epochs.iter().map(|e| e.world.n()).sum();
+        t.push(vec![
+            s.info.id.as_str().into(),
+            animal_key(s).into(),
+            s.info.started_utc.as_str().into(),
+            s.world.r().into(),
+            s.arena.r().into(),
+            s.info.status.as_str().into(),
+            s.info.protocol.as_str().into(),
+            s.conditions().join(";").into(),
+            s.epochs.len().into(),
+            n.into(),
+            s.world.mean_deg().into(),
+            s.arena.mean_deg().into(),
+            s.flying_s.into(),
+            s.duration_s.into(),
+            s.rows.into(),
+            s.torn_tail.into(),
+            s.info.dir.display().to_string().into(),
+        ]);
+    }
+    t
+}
+
+/// `epochs.csv`.
+pub fn epochs_table(sessions: &[SessionStats]) -> Table {
+    let mut t = Table::new(EPOCH_COLUMNS);
+    for s in sessions {
+        let animal = animal_key(s);
+        for e in &s.epochs {
+            let n = e.world.n();
+            let has = n > 0;
+            let (z, _) = crate::circular::rayleigh_test(n as f64, e.world.r());
+            t.push(vec![
+                s.info.id.as_str().into(),
+                animal.as_str().into(),
+                e.index.into(),
+                e.condition.as_str().into(),
+                n.into(),
+                e.world.mean_deg().into(),
+                if has {
+                    Cell::Num(e.world.r())
+                } else {
+                    Cell::Empty
+                },
+                e.arena.mean_deg().into(),
+                if has {
+                    Cell::Num(e.arena.r())
+                } else {
+                    Cell::Empty
+                },
+                if has { Cell::Num(z) } else { Cell::Empty },
+                if has {
+                    Cell::Num(e.world.rayleigh_p())
+                } else {
+                    Cell::Empty
+                },
+                if has {
+                    Cell::Num(e.world.n_eff())
+                } else {
+                    Cell::Empty
+                },
+                if has {
+                    Cell::Num(e.world.rayleigh_p_eff())
+                } else {
+                    Cell::Empty
+                },
+                e.arena_bearing_deg.into(),
+                e.sun.mean_deg().into(),
+                if has {
+                    Cell::Num(e.sun.r())
+                } else {
+                    Cell::Empty
+                },
+                e.mean_sun_elevation_deg().into(),
+                e.flying_s.into(),
+                e.t_start_s.into(),
+                e.t_end_s.into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// `turns.csv` (a turn is listed when both its epochs are kept).
+pub fn turns_table(sessions: &[SessionStats]) -> Table {
+    let mut t = Table::new(TURN_COLUMNS);
+    for s in sessions {
+        let animal = animal_key(s);
+        for tr in &s.turns {
+            // After a condition filter, consecutive kept epochs may not be adjacent.
+            if tr.to_epoch != tr.from_epoch + 1 {
+                continue;
+            }
+            let cond = |i: usize| {
+                s.epochs
+                    .iter()
+                    .find(|e| e.index == i)
+                    .map(|e| e.condition.clone())
+                    .unwrap_or_default()
+            };
+            t.push(vec![
+                s.info.id.as_str().into(),
+                animal.as_str().into(),
+                tr.from_epoch.into(),
+                tr.from_epoch.into(),
+                tr.to_epoch.into(),
+                cond(tr.from_epoch).into(),
+                cond(tr.to_epoch).into(),
+                tr.turn_deg.into(),
+                tr.world_shift_deg.into(),
+                tr.arena_shift_deg.into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// Columns of `skipped.csv`.
+pub const SKIPPED_COLUMNS: &[&str] = &["folder", "session_id", "kind", "reason"];
+
+/// `skipped.csv`.
+pub fn skipped_table(skipped: &[Skipped]) -> Table {
+    let mut t = Table::new(SKIPPED_COLUMNS);
+    for s in skipped {
+        t.push(vec![
+            s.folder.display().to_string().into(),
+            s.session_id.as_str().into(),
+            s.kind.into(),
+            s.reason.as_str().into(),
+        ]);
+    }
+    t
+}
+
+/// Writes every table into `out` and returns the file names written.
+pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, AnalysisError> {
+    std::fs::create_dir_all(out).map_err(|e| AnalysisError::io(out, e))?;
+    let refs: Vec<&SessionStats> = result.sessions.iter().collect();
+    let vectors = animal_vectors(&refs);
+    let (paired, changes) = paired_tables(&vectors);
+    let tables: Vec<(&str, Table)> = vec![
+        ("sessions.csv", sessions_table(&result.sessions)),
+        ("epochs.csv", epochs_table(&result.sessions)),
+        ("turns.csv", turns_table(&result.sessions)),
+        ("population.csv", population_table(&vectors)),
+        ("comparisons.csv", comparisons_table(&vectors)),
+        ("paired.csv", paired),
+        ("paired_changes.csv", changes),
+        ("animals.csv", animals_table(&refs)),
+        ("skipped.csv", skipped_table(&result.skipped)),
+    ];
+    let mut names = Vec::new();
+    for (name, t) in tables {
+        t.write(&out.join(name))?;
+        names.push(name.to_string());
+    }
+    Ok(names)
+}

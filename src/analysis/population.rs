@@ -1,0 +1,314 @@
+//! Second-order statistics: one mean vector per animal and condition, then tests over animals.
+//!
+//! An animal's vector under a condition pools every scored world heading of that animal in
+//! epochs with that condition, over all its sessions that passed the filters: direction θ_i
+//! (its preferred heading) and length r_i (how steadily it held it). Population tests then
+//! treat the animals, not the samples, as the observations (Batschelet 1981, ch. 7; Zar 2010,
+//! §27.1), which also sidesteps the autocorrelation of samples. A session without an animal id
+//! counts as an animal of its own (its session id).
+
+use super::session::SessionStats;
+use super::table::{Cell, Table};
+use crate::circular::{
+    HeadingAccumulator, describe_deg, hotelling_one_sample_test, moore_rayleigh_test,
+    rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
+};
+use crate::frames::signed_difference_deg;
+use std::collections::{BTreeMap, BTreeSet};
+
+/// Mean direction and mean vector length of directions in degrees.
+fn mean_and_r(angles_deg: &[f64]) -> (Option<f64>, f64) {
+    let s = describe_deg(angles_deg);
+    (s.mean_deg, s.r)
+}
+
+/// The animal key of a session.
+pub fn animal_key(s: &SessionStats) -> String {
+    if s.info.animal.is_empty() {
+        s.info.id.clone()
+    } else {
+        s.info.animal.clone()
+    }
+}
+
+/// One animal's vector under one condition.
+#[derive(Debug, Clone)]
+pub struct AnimalVector {
+    /// Animal id.
+    pub animal: String,
+    /// Sessions contributing.
+    pub sessions: usize,
+    /// Pooled scored world headings.
+    pub acc: HeadingAccumulator,
+}
+
+/// condition → animal → vector (both ordered by name).
+pub type AnimalVectors = BTreeMap<String, BTreeMap<String, AnimalVector>>;
+
+/// Pools the sessions' epochs into one vector per condition and animal.
+pub fn animal_vectors(sessions: &[&SessionStats]) -> AnimalVectors {
+    let mut out: AnimalVectors = BTreeMap::new();
+    for s in sessions {
+        let animal = animal_key(s);
+        let mut seen: BTreeSet<&str> = BTreeSet::new();
+        for e in &s.epochs {
+            if e.world.n() == 0 {
+                continue;
+            }
+            let v = out
+                .entry(e.condition.clone())
+                .or_default()
+                .entry(animal.clone())
+                .or_insert_with(|| AnimalVector {
+                    animal: animal.clone(),
+                    sessions: 0,
+                    acc: HeadingAccumulator::new(),
+                });
+            v.acc.merge(&e.world);
+            if seen.insert(e.condition.as_str()) {
+                v.sessions += 1;
+            }
+        }
+    }
+    out
+}
+
+/// (directions, lengths) of the animals with a defined mean direction.
+fn directions(vs: &BTreeMap<String, AnimalVector>) -> (Vec<f64>, Vec<f64>, Vec<String>) {
+    let (mut d, mut l, mut names) = (Vec::new(), Vec::new(), Vec::new());
+    for v in vs.values() {
+        if let Some(m) = v.acc.mean_deg() {
+            d.push(m);
+            l.push(v.acc.r());
+            names.push(v.animal.clone());
+        }
+    }
+    (d, l, names)
+}
+
+/// Columns of `population.csv`.
+pub const POPULATION_COLUMNS: &[&str] = &[
+    "condition",
+    "animals",
+    "sessions",
+    "mean_deg",
+    "r",
+    "rayleigh_z",
+    "rayleigh_p",
+    "moore_r_star",
+    "moore_p",
+    "hotelling_f",
+    "hotelling_df2",
+    "hotelling_p",
+    "mean_vector_deg",
+    "mean_vector_length",
+];
+
+/// `population.csv`: one row per condition.
+pub fn population_table(vectors: &AnimalVectors) -> Table {
+    let mut t = Table::new(POPULATION_COLUMNS);
+    for (cond, vs) in vectors {
+        let (d, l, _) = directions(vs);
+        let n = d.len();
+        let sessions: usize = vs.values().map(|v| v.sessions).sum();
+        let (mean, r) = mean_and_r(&d);
+        let (z, p) = if n > 0 {
+            let (z, p) = rayleigh_test(n as f64, r);
+            (Some(z), Some(p))
+        } else {
+            (None, None)
+        };
+        let moore = moore_rayleigh_test(&d, &l).ok().map(|m| (m.r_star, m.p));
+        let hot = hotelling_one_sample_test(&d, &l).ok().map(|h| (h.f, h.p));
+        // Second-order mean vector: the mean of the animals' vectors r_i (cos θ_i, sin θ_i).
+        let (mv_deg, mv_len) = match second_order_mean(&d, &l) {
+            Ok((m, len)) => (m, Some(len)),
+            Err(_) => (None, None),
+        };
+        t.push(vec![
+            cond.clone().into(),
+            n.into(),
+            sessions.into(),
+            mean.into(),
+            if n > 0 { Cell::Num(r) } else { Cell::Empty },
+            z.into(),
+            p.into(),
+            moore.map(|m| m.0).into(),
+            moore.map(|m| m.1).into(),
+            hot.map(|h| h.0).into(),
+            if hot.is_some() {
+                Cell::Num(n as f64 - 2.0)
+            } else {
+                Cell::Empty
+            },
+            hot.map(|h| h.1).into(),
+            mv_deg.into(),
+            mv_len.into(),
+        ]);
+    }
+    t
+}
+
+/// Columns of `comparisons.csv`.
+pub const COMPARISON_COLUMNS: &[&str] = &[
+    "condition_a",
+    "condition_b",
+    "animals_a",
+    "animals_b",
+    "mean_a_deg",
+    "mean_b_deg",
+    "ww_f",
+    "ww_df1",
+    "ww_df2",
+    "ww_p",
+];
+
+/// `comparisons.csv`: Watson–Williams test between the animals' preferred headings under
+/// every pair of conditions (conditions in name order, a < b).
+pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
+    let mut t = Table::new(COMPARISON_COLUMNS);
+    let conds: Vec<&String> = vectors.keys().collect();
+    for (i, a) in conds.iter().enumerate() {
+        for b in &conds[i + 1..] {
+            let (da, _, _) = directions(&vectors[*a]);
+            let (db, _, _) = directions(&vectors[*b]);
+            let ww = watson_williams_test(&[&da, &db]).ok();
+            t.push(vec![
+                a.as_str().into(),
+                b.as_str().into(),
+                da.len().into(),
+                db.len().into(),
+                mean_and_r(&da).0.into(),
+                mean_and_r(&db).0.into(),
+                ww.as_ref().map(|w| w.f).into(),
+                ww.as_ref().map(|w| w.df.0).into(),
+                ww.as_ref().map(|w| w.df.1).into(),
+                ww.as_ref().map(|w| w.p).into(),
+            ]);
+        }
+    }
+    t
+}
+
+/// Columns of `paired.csv`.
+pub const PAIRED_COLUMNS: &[&str] = &[
+    "condition_a",
+    "condition_b",
+    "animals",
+    "mean_change_deg",
+    "r",
+    "v",
+    "v_u",
+    "v_p",
+];
+
+/// Columns of `paired_changes.csv`.
+pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
+    "animal",
+    "condition_a",
+    "condition_b",
+    "heading_a_deg",
+    "heading_b_deg",
+    "change_deg",
+];
+
+/// `paired.csv` (one row per pair of conditions: the change of preferred heading of each
+/// animal seen under both, b − a in (-180, 180], with a V-test toward 0, i.e. "the heading
+/// did not change") and `paired_changes.csv` (one row per animal and pair).
+pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
+    let mut t = Table::new(PAIRED_COLUMNS);
+    let mut detail = Table::new(PAIRED_CHANGE_COLUMNS);
+    let conds: Vec<&String> = vectors.keys().collect();
+    for (i, a) in conds.iter().enumerate() {
+        for b in &conds[i + 1..] {
+            let mut changes = Vec::new();
+            for (animal, va) in &vectors[*a] {
+                let Some(vb) = vectors[*b].get(animal) else {
+                    continue;
+                };
+                let (Some(ma), Some(mb)) = (va.acc.mean_deg(), vb.acc.mean_deg()) else {
+                    continue;
+                };
+                let ch = signed_difference_deg(ma, mb);
+                changes.push(ch);
+                detail.push(vec![
+                    animal.as_str().into(),
+                    a.as_str().into(),
+                    b.as_str().into(),
+                    ma.into(),
+                    mb.into(),
+                    ch.into(),
+                ]);
+            }
+            if changes.is_empty() {
+                continue;
+            }
+            let (mean, r) = mean_and_r(&changes);
+            let v = Some(v_test_deg(&changes, 0.0));
+            t.push(vec![
+                a.as_str().into(),
+                b.as_str().into(),
+                changes.len().into(),
+                mean.map(crate::frames::wrap_signed_deg).into(),
+                r.into(),
+                v.map(|v| v.v).into(),
+                v.map(|v| v.u).into(),
+                v.map(|v| v.p).into(),
+            ]);
+        }
+    }
+    (t, detail)
+}
+
+/// Columns of `animals.csv`.
+pub const ANIMAL_COLUMNS: &[&str] = &[
+    "animal",
+    "sessions",
+    "conditions",
+    "mean_world_deg",
+    "r_between_sessions",
+    "rayleigh_p_between_sessions",
+    "mean_r_world",
+    "flying_s",
+];
+
+/// `animals.csv`: how consistent each animal's heading is across its sessions: the sessions'
+/// mean world headings (all scored samples of a session) as unit vectors, their mean
+/// direction and length, and a Rayleigh test when there are at least two sessions.
+pub fn animals_table(sessions: &[&SessionStats]) -> Table {
+    let mut by: BTreeMap<String, Vec<&SessionStats>> = BTreeMap::new();
+    for s in sessions {
+        by.entry(animal_key(s)).or_default().push(s);
+    }
+    let mut t = Table::new(ANIMAL_COLUMNS);
+    for (animal, ss) in by {
+        let means: Vec<f64> = ss.iter().filter_map(|s| s.world.mean_deg()).collect();
+        let (mean, r) = mean_and_r(&means);
+        let p = (means.len() >= 2).then(|| rayleigh_test(means.len() as f64, r).1);
+        let mut conds: Vec<String> = Vec::new();
+        for s in &ss {
+            for c in s.conditions() {
+                if !conds.contains(&c) {
+                    conds.push(c);
+                }
+            }
+        }
+        conds.sort();
+        let mean_r = ss.iter().map(|s| s.world.r()).sum::<f64>() / ss.len() as f64;
+        t.push(vec![
+            animal.into(),
+            ss.len().into(),
+            conds.join(";").into(),
+            mean.into(),
+            if means.len() >= 2 {
+                Cell::Num(r)
+            } else {
+                Cell::Empty
+            },
+            p.into(),
+            mean_r.into(),
+            ss.iter().map(|s| s.flying_s).sum::<f64>().into(),
+        ]);
+    }
+    t
+}

@@ -1,0 +1,716 @@
+//! Checking and repairing session folders (`skybearing check`).
+
+use std::fs::{File, OpenOptions};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use serde::Serialize;
+
+use super::fmt::push_fixed;
+use super::read::{self, ReadStats};
+use super::writer::{sync_dir, write_json_atomic};
+use super::{
+    ArchiveError, EVENT_COLUMNS, EVENTS_FILE, LOCK_FILE, PlannedEpoch, SAMPLE_COLUMNS,
+    SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SessionMeta, SessionStatus, Summary, SummaryBuilder,
+    T_S_DECIMALS, format_utc_millis, parse_utc, read_json,
+};
+
+/// The content of a session's `.lock` file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LockInfo {
+    /// The writer's process id.
+    pub pid: u32,
+    /// The writer's start time in clock ticks since boot (Linux `/proc/<pid>/stat` field 22).
+    pub start_ticks: Option<u64>,
+}
+
+/// Reads `dir/.lock`; None when there is no lock or it cannot be read.
+pub fn read_lock(dir: &Path) -> Option<LockInfo> {
+    let text = std::fs::read_to_string(dir.join(LOCK_FILE)).ok()?;
+    let mut parts = text.split_whitespace();
+    let pid = parts.next()?.parse().ok()?;
+    let start_ticks = parts.next().and_then(|t| t.parse().ok());
+    Some(LockInfo { pid, start_ticks })
+}
+
+/// Start time of a process in clock ticks since boot, from `/proc/<pid>/stat` (Linux only;
+/// None elsewhere or when the process does not exist).
+pub fn process_start_ticks(pid: u32) -> Option<u64> {
+    let stat = std::fs::read_to_string(format!("/proc/{pid}/stat")).ok()?;
+    let after = &stat[stat.rfind(')')? + 1..];
+    // Fields after the command: state is field 3, starttime is field 22.
+    after.split_whitespace().nth(19)?.parse().ok()
+}
+
+/// Whether the process holding a lock is still alive (a zombie, or a different process that
+/// reuses the pid, counts as dead).
+pub fn lock_holder_alive(lock: &LockInfo) -> bool {
+    let Ok(pid) = i32::try_from(lock.pid) else {
+        return false;
+    };
+    if pid <= 0 {
+        return false;
+    }
+    // SAFETY: kill with signal 0 only checks whether the process exists.
+    let r = unsafe { libc::kill(pid, 0) };
+    let exists = r == 0 || std::io::Error::last_os_error().raw_os_error() == Some(libc::EPERM);
+    if !exists {
+        return false;
+    }
+    if let Ok(stat) = std::fs::read_to_string(format!("/proc/{pid}/stat"))
+        && let Some(close) = stat.rfind(')')
+    {
+        let mut fields = stat[close + 1..].split_whitespace();
+        if fields.next() == Some("Z") {
+            return false;
+        }
+        if let (Some(want), Some(have)) = (lock.start_ticks, process_start_ticks(lock.pid))
+            && want != have
+        {
+            return false;
+        }
+    }
+    true
+}
+
+/// Who holds a session's lock.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LockState {
+    /// No `.lock` file.
+    Free,
+    /// A `.lock` whose writer is alive.
+    Alive(LockInfo),
+    /// A `.lock` whose writer is gone (stale).
+    Dead(LockInfo),
+    /// A `.lock` that cannot be read (treated as stale).
+    Unreadable,
+}
+
+/// The lock state of a session folder.
+pub fn lock_state(dir: &Path) -> LockState {
+    if !dir.join(LOCK_FILE).exists() {
+        return LockState::Free;
+    }
+    match read_lock(dir) {
+        Some(l) if lock_holder_alive(&l) => LockState::Alive(l),
+        Some(l) => LockState::Dead(l),
+        None => LockState::Unreadable,
+    }
+}
+
+/// The findings of [`check_session`] on one folder.
+#[derive(Debug, Clone, Serialize)]
+pub struct CheckReport {
+    /// The folder.
+    pub dir: PathBuf,
+    /// Session id from `session.json`.
+    pub id: Option<String>,
+    /// Status from `session.json`.
+    pub status: Option<SessionStatus>,
+    /// Good sample rows.
+    pub samples: u64,
+    /// Good event rows.
+    pub events: u64,
+    /// The session is `running` and its writer is alive.
+    pub live: bool,
+    /// The session is `running` and no live writer holds it.
+    pub interrupted: bool,
+    /// What is wrong (empty: the folder is fine).
+    pub problems: Vec<String>,
+    /// Remarks that do not make the folder bad.
+    pub notes: Vec<String>,
+}
+
+impl CheckReport {
+    /// True when nothing is wrong.
+    pub fn ok(&self) -> bool {
+        self.problems.is_empty()
+    }
+}
+
+/// Absolute tolerance (scaled up for values above 1) when comparing `summary.json` with the
+/// summary recomputed from `samples.csv`.
+pub const SUMMARY_TOLERANCE: f64 = 1e-6;
+
+fn close(a: f64, b: f64) -> bool {
+    (a.is_nan() && b.is_nan()) || (a - b).abs() <= SUMMARY_TOLERANCE * b.abs().max(1.0)
+}
+
+fn close_angle(a: f64, b: f64) -> bool {
+    (a.is_nan() && b.is_nan()) || crate::frames::wrap_signed_deg(a - b).abs() <= SUMMARY_TOLERANCE
+}
+
+fn close_opt_angle(a: Option<f64>, b: Option<f64>) -> bool {
+    match (a, b) {
+        (None, None) => true,
+        (Some(a), Some(b)) => close_angle(a, b),
+        _ => false,
+    }
+}
+
+fn show_opt(v: Option<f64>) -> String {
+    v.map_or("null".into(), |v| v.to_string())
+}
+
+/// Differences between a stored summary and a recomputed one, one line each (empty: they
+/// agree within [`SUMMARY_TOLERANCE`]).
+pub fn compare_summaries(stored: &Summary, computed: &Summary) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut num = |what: String, a: f64, b: f64, angle: bool| {
+        let same = if angle {
+            close_angle(a, b)
+        } else {
+            close(a, b)
+        };
+        if !same {
+            out.push(format!("{what} is {a} but the samples give {b}"));
+        }
+    };
+    num("r_world".into(), stored.r_world, computed.r_world, false);
+    num("r_arena".into(), stored.r_arena, computed.r_arena, false);
+    let mut lines = Vec::new();
+    if stored.epochs.len() != computed.epochs.len() {
+        lines.push(format!(
+            "{} epochs but the plan has {}",
+            stored.epochs.len(),
+            computed.epochs.len()
+        ));
+    }
+    for (a, b) in stored.epochs.iter().zip(&computed.epochs) {
+        let p = format!("epochs[{}]", a.index);
+        if a.index != b.index || a.condition != b.condition {
+            lines.push(format!(
+                "{p}: index/condition {}/{:?} but the plan has {}/{:?}",
+                a.index, a.condition, b.index, b.condition
+            ));
+        }
+        if a.n != b.n {
+            lines.push(format!("{p}.n is {} but the samples give {}", a.n, b.n));
+        }
+        num(
+            format!("{p}.arena_bearing_deg"),
+            a.arena_bearing_deg,
+            b.arena_bearing_deg,
+            true,
+        );
+        if !close_opt_angle(a.mean_arena_deg, b.mean_arena_deg) {
+            lines.push(format!(
+                "{p}.mean_arena_deg is {} but the samples give {}",
+                show_opt(a.mean_arena_deg),
+                show_opt(b.mean_arena_deg)
+            ));
+        }
+        if !close_opt_angle(a.mean_world_deg, b.mean_world_deg) {
+            lines.push(format!(
+                "{p}.mean_world_deg is {} but the samples give {}",
+                show_opt(a.mean_world_deg),
+                show_opt(b.mean_world_deg)
+            ));
+        }
+        num(format!("{p}.r"), a.r, b.r, false);
+        num(format!("{p}.rayleigh_p"), a.rayleigh_p, b.rayleigh_p, false);
+        num(format!("{p}.n_eff"), a.n_eff, b.n_eff, false);
+        num(
+            format!("{p}.rayleigh_p_eff"),
+            a.rayleigh_p_eff,
+            b.rayleigh_p_eff,
+            false,
+        );
+    }
+    if stored.turns.len() != computed.turns.len() {
+        lines.push(format!(
+            "{} turns but the plan has {}",
+            stored.turns.len(),
+            computed.turns.len()
+        ));
+    }
+    for (a, b) in stored.turns.iter().zip(&computed.turns) {
+        let p = format!("turns[{}]", a.index);
+        num(format!("{p}.turn_deg"), a.turn_deg, b.turn_deg, false);
+        if !close_opt_angle(a.world_shift_deg, b.world_shift_deg) {
+            lines.push(format!(
+                "{p}.world_shift_deg is {} but the samples give {}",
+                show_opt(a.world_shift_deg),
+                show_opt(b.world_shift_deg)
+            ));
+        }
+    }
+    out.extend(lines);
+    out
+}
+
+/// The contract's fields of `session.json` (nested `site.*` included).
+const CONTRACT_SESSION_FIELDS: &[&str] = &[
+    "id",
+    "status",
+    "started_utc",
+    "ended_utc",
+    "site",
+    "site.name",
+    "site.latitude_deg",
+    "site.longitude_deg",
+    "site.elevation_m",
+    "arena_mark_bearing_deg",
+    "declination_deg",
+    "protocol",
+    "rig",
+    "program_version",
+];
+
+fn missing_contract_fields(v: &serde_json::Value) -> Vec<&'static str> {
+    CONTRACT_SESSION_FIELDS
+        .iter()
+        .copied()
+        .filter(|f| {
+            let mut cur = Some(v);
+            for part in f.split('.') {
+                cur = cur.and_then(|c| c.get(part));
+            }
+            cur.is_none()
+        })
+        .collect()
+}
+
+/// Everything a pass over `samples.csv` learns.
+#[derive(Debug, Default)]
+struct SamplePass {
+    stats: ReadStats,
+    last_t_utc: String,
+    first_t_utc: String,
+    first_t_s: f64,
+    last_t_s: f64,
+    problems: Vec<String>,
+    summary: Option<Summary>,
+}
+
+/// Frames tolerance: world = arena + bearing within rounding of three 3-decimal numbers.
+const FRAME_TOLERANCE_DEG: f64 = 0.0016;
+
+fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass, ArchiveError> {
+    let path = dir.join(SAMPLES_FILE);
+    let mut pass = SamplePass {
+        first_t_s: f64::NAN,
+        last_t_s: f64::NAN,
+        ..Default::default()
+    };
+    let mut builder = epochs.map(SummaryBuilder::new);
+    let max_epoch = epochs
+        .map(|e| e.iter().map(|e| e.index).max().unwrap_or(0))
+        .unwrap_or(usize::MAX);
+    let mut prev_t_s = f64::NEG_INFINITY;
+    let mut t_s_bad: (u64, Option<u64>) = (0, None);
+    let mut utc_bad: (u64, Option<u64>) = (0, None);
+    let mut frame_bad: (u64, Option<u64>) = (0, None);
+    let mut epoch_bad: (u64, Option<u64>) = (0, None);
+    let note = |c: &mut (u64, Option<u64>), line: u64| {
+        c.0 += 1;
+        c.1.get_or_insert(line);
+    };
+    let stats = read::for_each_sample(&path, |s| {
+        if s.t_s.partial_cmp(&prev_t_s) != Some(std::cmp::Ordering::Greater) {
+            note(&mut t_s_bad, s.line);
+        }
+        prev_t_s = s.t_s;
+        if !read::is_utc_millis(s.t_utc.as_bytes()) || s.t_utc < pass.last_t_utc.as_str() {
+            note(&mut utc_bad, s.line);
+        }
+        let d = crate::frames::wrap_signed_deg(
+            s.arena_heading_deg + s.arena_bearing_deg - s.world_heading_deg,
+        );
+        if d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG {
+            note(&mut frame_bad, s.line);
+        }
+        if s.epoch > max_epoch {
+            note(&mut epoch_bad, s.line);
+        }
+        if pass.first_t_utc.is_empty() {
+            pass.first_t_utc.push_str(s.t_utc);
+            pass.first_t_s = s.t_s;
+        }
+        pass.last_t_utc.clear();
+        pass.last_t_utc.push_str(s.t_utc);
+        pass.last_t_s = s.t_s;
+        if let Some(b) = builder.as_mut() {
+            b.push_fields(s);
+        }
+    })?;
+    let mut report = |c: (u64, Option<u64>), what: &str| {
+        if let (n, Some(first)) = c {
+            let rows = if n == 1 { "row" } else { "rows" };
+            pass.problems
+                .push(format!("samples.csv:{first}: {what} ({n} {rows} in all)"));
+        }
+    };
+    report(t_s_bad, "t_s does not increase strictly");
+    report(
+        utc_bad,
+        "t_utc is not RFC 3339 UTC with milliseconds or goes back in time",
+    );
+    report(
+        frame_bad,
+        "world_heading_deg differs from arena_heading_deg + arena_bearing_deg",
+    );
+    report(epoch_bad, "epoch is not in the plan");
+    pass.stats = stats;
+    pass.summary = builder.map(|b| b.summary());
+    Ok(pass)
+}
+
+/// Checks one session folder against the archive contract.
+pub fn check_session(dir: &Path) -> CheckReport {
+    let mut r = CheckReport {
+        dir: dir.to_path_buf(),
+        id: None,
+        status: None,
+        samples: 0,
+        events: 0,
+        live: false,
+        interrupted: false,
+        problems: Vec::new(),
+        notes: Vec::new(),
+    };
+    if !dir.is_dir() {
+        r.problems.push("not a folder".into());
+        return r;
+    }
+    // session.json
+    let session_path = dir.join(SESSION_FILE);
+    let meta: Option<SessionMeta> = match read_json::<serde_json::Value>(&session_path) {
+        Err(e) => {
+            r.problems.push(e.to_string());
+            None
+        }
+        Ok(v) => {
+            let missing = missing_contract_fields(&v);
+            if !missing.is_empty() {
+                r.problems.push(format!(
+                    "session.json: missing field(s) {}",
+                    missing.join(", ")
+                ));
+            }
+            match serde_json::from_value::<SessionMeta>(v) {
+                Ok(m) => Some(m),
+                Err(e) => {
+                    r.problems.push(format!("session.json: {e}"));
+                    None
+                }
+            }
+        }
+    };
+    if let Some(m) = &meta {
+        r.id = Some(m.id.clone());
+        r.status = Some(m.status);
+        if dir.file_name().and_then(|n| n.to_str()) != Some(m.id.as_str()) {
+            r.notes.push(format!(
+                "folder name differs from the session id {:?}",
+                m.id
+            ));
+        }
+        if m.status.is_closed() && m.ended_utc.is_none() {
+            r.problems.push(format!(
+                "session.json: status {} but no ended_utc",
+                m.status.as_str()
+            ));
+        }
+    }
+    // Lock and liveness.
+    let lock = lock_state(dir);
+    match (meta.as_ref().map(|m| m.status), lock) {
+        (Some(SessionStatus::Running), LockState::Alive(l)) => {
+            r.live = true;
+            r.notes
+                .push(format!("being recorded now by process {}", l.pid));
+        }
+        (Some(SessionStatus::Running), other) => {
+            r.interrupted = true;
+            let why = match other {
+                LockState::Dead(l) => format!("writer process {} is gone", l.pid),
+                LockState::Unreadable => "lock file unreadable".into(),
+                _ => "no lock file".into(),
+            };
+            r.problems.push(format!(
+                "interrupted: status running but {why}; 'skybearing check --repair' makes it whole"
+            ));
+        }
+        (Some(_), LockState::Alive(l)) => r.problems.push(format!(
+            "closed session still locked by live process {}",
+            l.pid
+        )),
+        (Some(_), LockState::Dead(_) | LockState::Unreadable) => r
+            .problems
+            .push("stale lock file (.lock) in a closed session".into()),
+        _ => {}
+    }
+    // samples.csv
+    let pass = match sample_pass(dir, meta.as_ref().map(|m| m.epochs.as_slice())) {
+        Ok(p) => Some(p),
+        Err(e) => {
+            r.problems.push(e.to_string());
+            None
+        }
+    };
+    if let Some(p) = &pass {
+        r.samples = p.stats.rows;
+        r.problems.extend(p.problems.iter().cloned());
+        if let Some(t) = &p.stats.torn {
+            let what = format!(
+                "samples.csv:{}: torn last line ({} bytes): {}",
+                t.line, t.len, t.reason
+            );
+            // A live writer's last line may simply be in flight.
+            if r.live {
+                r.notes.push(what);
+            } else {
+                r.problems.push(what);
+            }
+        }
+        if let Some(m) = &meta
+            && !p.first_t_utc.is_empty()
+        {
+            for (t_utc, t_s) in [(&p.first_t_utc, p.first_t_s), (&p.last_t_utc, p.last_t_s)] {
+                if let Some(t) = parse_utc(t_utc) {
+                    let want =
+                        m.started_utc + chrono::Duration::microseconds((t_s * 1e6).round() as i64);
+                    let off_ms = (t - want).num_milliseconds().abs();
+                    if off_ms > 2 {
+                        r.problems.push(format!(
+                            "samples.csv: t_utc {t_utc} is {off_ms} ms off started_utc + t_s"
+                        ));
+                    }
+                }
+            }
+        }
+    }
+    // events.csv
+    match read::read_events(&dir.join(EVENTS_FILE)) {
+        Err(e) => r.problems.push(e.to_string()),
+        Ok((ev, st)) => {
+            r.events = st.rows;
+            if let Some(t) = &st.torn {
+                let what = format!(
+                    "events.csv:{}: torn last line ({} bytes): {}",
+                    t.line, t.len, t.reason
+                );
+                if r.live {
+                    r.notes.push(what);
+                } else {
+                    r.problems.push(what);
+                }
+            }
+            let closed = meta.as_ref().is_some_and(|m| m.status.is_closed());
+            if closed && !ev.iter().any(|e| e.kind == "session_end") {
+                r.notes.push("events.csv has no session_end event".into());
+            }
+        }
+    }
+    // summary.json
+    let summary_path = dir.join(SUMMARY_FILE);
+    if let Some(m) = &meta {
+        if m.status.is_closed() {
+            match read_json::<Summary>(&summary_path) {
+                Err(e) => r.problems.push(e.to_string()),
+                Ok(stored) => {
+                    if let Some(computed) = pass.as_ref().and_then(|p| p.summary.as_ref()) {
+                        for d in compare_summaries(&stored, computed) {
+                            r.problems.push(format!("summary.json: {d}"));
+                        }
+                    }
+                }
+            }
+        } else if summary_path.exists() {
+            r.problems
+                .push("summary.json exists but the session is not closed".into());
+        }
+    }
+    r
+}
+
+/// What [`repair_session`] did.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct RepairOutcome {
+    /// One line per action.
+    pub actions: Vec<String>,
+}
+
+fn torn_copy_path(path: &Path) -> PathBuf {
+    let base = format!("{}.torn", path.display());
+    let mut candidate = PathBuf::from(&base);
+    let mut k = 2;
+    while candidate.exists() {
+        candidate = PathBuf::from(format!("{base}.{k}"));
+        k += 1;
+    }
+    candidate
+}
+
+/// Cuts a file at `good_bytes`, first saving the dropped bytes to `<file>.torn` (or
+/// `.torn.2`...). Returns the copy's path.
+fn cut_torn_tail(path: &Path, good_bytes: u64) -> Result<PathBuf, ArchiveError> {
+    let bytes = std::fs::read(path).map_err(|e| ArchiveError::io(path, e))?;
+    let start = usize::try_from(good_bytes)
+        .unwrap_or(usize::MAX)
+        .min(bytes.len());
+    let copy = torn_copy_path(path);
+    {
+        let mut f = File::create(&copy).map_err(|e| ArchiveError::io(&copy, e))?;
+        f.write_all(&bytes[start..])
+            .and_then(|()| f.sync_all())
+            .map_err(|e| ArchiveError::io(&copy, e))?;
+    }
+    let f = OpenOptions::new()
+        .write(true)
+        .open(path)
+        .map_err(|e| ArchiveError::io(path, e))?;
+    f.set_len(start as u64)
+        .and_then(|()| f.sync_all())
+        .map_err(|e| ArchiveError::io(path, e))?;
+    Ok(copy)
+}
+
+fn ensure_csv(path: &Path, columns: &[&str]) -> Result<bool, ArchiveError> {
+    if path.exists() {
+        return Ok(false);
+    }
+    let mut f = File::create(path).map_err(|e| ArchiveError::io(path, e))?;
+    let mut header = columns.join(",");
+    header.push('\n');
+    f.write_all(header.as_bytes())
+        .and_then(|()| f.sync_all())
+        .map_err(|e| ArchiveError::io(path, e))?;
+    Ok(true)
+}
+
+/// Makes an interrupted session whole: drops torn last lines (keeping `.torn` copies of the
+/// dropped bytes), recomputes and writes `summary.json`, sets status `recovered` with
+/// `ended_utc` the last sample's t_utc, appends a `session_end` event with detail `recovered`
+/// and removes the stale lock. A closed session only gets its torn tails cut, a missing or
+/// wrong `summary.json` rewritten and a stale lock removed. Refuses a session whose writer is
+/// alive, and one whose files have a bad line before the last (nothing is changed then).
+/// Never drops a complete sample row.
+pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
+    let mut out = RepairOutcome::default();
+    let lock_path = dir.join(LOCK_FILE);
+    let lock = lock_state(dir);
+    if let LockState::Alive(l) = lock {
+        return Err(ArchiveError::Locked {
+            path: lock_path,
+            pid: l.pid,
+        });
+    }
+    let mut meta = SessionMeta::load(dir)?;
+    let samples_path = dir.join(SAMPLES_FILE);
+    let events_path = dir.join(EVENTS_FILE);
+    // Read everything first: refuse before changing anything.
+    let samples_created = !samples_path.exists();
+    if samples_created {
+        ensure_csv(&samples_path, SAMPLE_COLUMNS)?;
+        out.actions
+            .push("samples.csv was missing: created it with its header".into());
+    }
+    let pass = sample_pass(dir, Some(&meta.epochs))?;
+    if !events_path.exists() {
+        ensure_csv(&events_path, EVENT_COLUMNS)?;
+        out.actions
+            .push("events.csv was missing: created it with its header".into());
+    }
+    let (events, ev_stats) = read::read_events(&events_path)?;
+
+    if let Some(t) = &pass.stats.torn {
+        let copy = cut_torn_tail(&samples_path, pass.stats.good_bytes)?;
+        out.actions.push(format!(
+            "samples.csv: dropped torn line {} ({} bytes, kept in {})",
+            t.line,
+            t.len,
+            copy.display()
+        ));
+    }
+    if let Some(t) = &ev_stats.torn {
+        let copy = cut_torn_tail(&events_path, ev_stats.good_bytes)?;
+        out.actions.push(format!(
+            "events.csv: dropped torn line {} ({} bytes, kept in {})",
+            t.line,
+            t.len,
+            copy.display()
+        ));
+    }
+
+    let computed = pass
+        .summary
+        .clone()
+        .unwrap_or_else(|| SummaryBuilder::new(&meta.epochs).summary());
+    let last_sample_utc = parse_utc(&pass.last_t_utc);
+    let last_event = events.last();
+    let write_summary = match (meta.status, read_json::<Summary>(&dir.join(SUMMARY_FILE))) {
+        (SessionStatus::Running, _) => true,
+        (_, Err(_)) => true,
+        (_, Ok(stored)) => !compare_summaries(&stored, &computed).is_empty(),
+    };
+
+    if meta.status == SessionStatus::Running {
+        let ended = last_sample_utc
+            .or_else(|| last_event.and_then(|e| parse_utc(&e.t_utc)))
+            .unwrap_or(meta.started_utc);
+        let already =
+            last_event.is_some_and(|e| e.kind == "session_end" && e.detail == "recovered");
+        if !already {
+            let mut t_s = if pass.last_t_s.is_finite() {
+                pass.last_t_s
+            } else {
+                0.0
+            };
+            if let Some(e) = last_event
+                && e.t_s.is_finite()
+            {
+                t_s = t_s.max(e.t_s);
+            }
+            let mut line = Vec::new();
+            line.extend_from_slice(format_utc_millis(&ended).as_bytes());
+            line.push(b',');
+            push_fixed(&mut line, t_s, T_S_DECIMALS);
+            line.extend_from_slice(b",session_end,recovered\n");
+            let mut f = OpenOptions::new()
+                .append(true)
+                .open(&events_path)
+                .map_err(|e| ArchiveError::io(&events_path, e))?;
+            f.write_all(&line)
+                .and_then(|()| f.sync_all())
+                .map_err(|e| ArchiveError::io(&events_path, e))?;
+            out.actions
+                .push("events.csv: appended session_end (recovered)".into());
+        }
+        write_json_atomic(dir, SUMMARY_FILE, &computed)?;
+        out.actions.push(format!(
+            "summary.json: written from {} samples",
+            pass.stats.rows
+        ));
+        meta.status = SessionStatus::Recovered;
+        meta.ended_utc = Some(ended);
+        if meta.end_reason.is_none() {
+            meta.end_reason = Some("interrupted; recovered by skybearing check --repair".into());
+        }
+        write_json_atomic(dir, SESSION_FILE, &meta)?;
+        out.actions.push(format!(
+            "session.json: status recovered, ended_utc {}",
+            format_utc_millis(&ended)
+        ));
+    } else {
+        if write_summary {
+            write_json_atomic(dir, SUMMARY_FILE, &computed)?;
+            out.actions.push(format!(
+                "summary.json: rewritten from {} samples",
+                pass.stats.rows
+            ));
+        }
+        if meta.ended_utc.is_none() {
+            meta.ended_utc = Some(last_sample_utc.unwrap_or(meta.started_utc));
+            write_json_atomic(dir, SESSION_FILE, &meta)?;
+            out.actions.push("session.json: ended_utc set".into());
+        }
+    }
+    if !matches!(lock, LockState::Free) {
+        std::fs::remove_file(&lock_path).map_err(|e| ArchiveError::io(&lock_path, e))?;
+        sync_dir(dir)?;
+        out.actions.push("removed the stale lock".into());
+    }
+    Ok(out)
+}

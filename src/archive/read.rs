@@ -1,0 +1,810 @@
+//! Reading a session folder back: a fast streaming reader of `samples.csv`, and readers of
+//! `events.csv`, `session.json` and `summary.json`.
+//!
+//! Columns are found by header name; extra columns are allowed. A last line that was torn by
+//! an interruption (no trailing newline, or a last line that does not parse) is reported in
+//! [`ReadStats::torn`], not an error; a bad line anywhere else is an error naming the file and
+//! the line.
+
+use std::fs::File;
+use std::io::Read;
+use std::path::Path;
+
+use super::fmt::parse_f64;
+use super::{ArchiveError, EVENT_COLUMNS, SAMPLE_COLUMNS};
+use crate::frames::wrap_360_deg;
+
+/// The numeric columns of one sample row (and its UTC text, unparsed).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SampleFields<'a> {
+    /// 1-based line number in the file (the header is line 1).
+    pub line: u64,
+    /// `t_utc` as written (RFC 3339), not parsed.
+    pub t_utc: &'a str,
+    /// Seconds since the session started.
+    pub t_s: f64,
+    /// Epoch index.
+    pub epoch: usize,
+    /// Heading relative to the arena's 0 mark.
+    pub arena_heading_deg: f64,
+    /// True bearing of the arena mark.
+    pub arena_bearing_deg: f64,
+    /// Heading relative to true north.
+    pub world_heading_deg: f64,
+    /// Sun azimuth.
+    pub sun_azimuth_deg: f64,
+    /// Apparent sun elevation.
+    pub sun_elevation_deg: f64,
+    /// Flying (0/1).
+    pub flying: bool,
+    /// Scored (0/1).
+    pub scored: bool,
+    /// World heading minus sun azimuth; computed from those two when the column is absent.
+    pub sun_relative_heading_deg: f64,
+    /// Zenith e-vector axis; NaN when the column is absent.
+    pub zenith_evector_deg: f64,
+}
+
+/// A torn tail found at the end of a file.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TornTail {
+    /// 1-based line number of the torn line.
+    pub line: u64,
+    /// Byte offset where it starts (the file's good part ends here).
+    pub offset: u64,
+    /// Its length in bytes.
+    pub len: u64,
+    /// Why it is considered torn.
+    pub reason: String,
+}
+
+/// What a read found besides the rows.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct ReadStats {
+    /// Good data rows.
+    pub rows: u64,
+    /// Bytes up to the end of the last good line (header included).
+    pub good_bytes: u64,
+    /// A torn last line, if any.
+    pub torn: Option<TornTail>,
+    /// The header's column names.
+    pub columns: Vec<String>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Role {
+    TUtc,
+    TS,
+    Epoch,
+    ArenaHeading,
+    ArenaBearing,
+    World,
+    SunAz,
+    SunEl,
+    Flying,
+    Scored,
+    SunRel,
+    Evector,
+    Skip,
+}
+
+fn role_of(name: &str) -> Role {
+    match name {
+        "t_utc" => Role::TUtc,
+        "t_s" => Role::TS,
+        "epoch" => Role::Epoch,
+        "arena_heading_deg" => Role::ArenaHeading,
+        "arena_bearing_deg" => Role::ArenaBearing,
+        "world_heading_deg" => Role::World,
+        "sun_azimuth_deg" => Role::SunAz,
+        "sun_elevation_deg" => Role::SunEl,
+        "flying" => Role::Flying,
+        "scored" => Role::Scored,
+        "sun_relative_heading_deg" => Role::SunRel,
+        "zenith_evector_deg" => Role::Evector,
+        _ => Role::Skip,
+    }
+}
+
+/// The contract's required columns of `samples.csv` (the first ten of [`SAMPLE_COLUMNS`]).
+pub fn required_sample_columns() -> &'static [&'static str] {
+    &SAMPLE_COLUMNS[..10]
+}
+
+/// Splits one CSV record (no line terminator) into fields per RFC 4180.
+/// Returns None for a malformed quoted field.
+pub fn split_csv_record(line: &str) -> Option<Vec<String>> {
+    let mut fields = Vec::new();
+    let mut cur = String::new();
+    let mut chars = line.chars().peekable();
+    let mut at_start = true;
+    loop {
+        if at_start && chars.peek() == Some(&'"') {
+            chars.next();
+            loop {
+                match chars.next() {
+                    Some('"') => {
+                        if chars.peek() == Some(&'"') {
+                            chars.next();
+                            cur.push('"');
+                        } else {
+                            break;
+                        }
+                    }
+                    Some(c) => cur.push(c),
+                    None => return None,
+                }
+            }
+            match chars.next() {
+                Some(',') => {
+                    fields.push(std::mem::take(&mut cur));
+                    at_start = true;
+                    continue;
+                }
+                None => {
+                    fields.push(cur);
+                    return Some(fields);
+                }
+                Some(_) => return None,
+            }
+        }
+        at_start = false;
+        match chars.next() {
+            Some(',') => {
+                fields.push(std::mem::take(&mut cur));
+                at_start = true;
+            }
+            Some('"') => return None,
+            Some(c) => cur.push(c),
+            None => {
+                fields.push(cur);
+                return Some(fields);
+            }
+        }
+    }
+}
+
+struct Layout {
+    roles: Vec<Role>,
+    has_sun_rel: bool,
+}
+
+fn layout_from_header(path: &Path, header: &str) -> Result<(Layout, Vec<String>), ArchiveError> {
+    let columns = split_csv_record(header).ok_or_else(|| ArchiveError::Format {
+        path: path.to_path_buf(),
+        line: 1,
+        message: "header is not valid CSV".into(),
+    })?;
+    let columns: Vec<String> = columns.into_iter().map(|c| c.trim().to_string()).collect();
+    for req in required_sample_columns() {
+        if !columns.iter().any(|c| c == req) {
+            return Err(ArchiveError::Format {
+                path: path.to_path_buf(),
+                line: 1,
+                message: format!("missing column {req:?}"),
+            });
+        }
+    }
+    let mut roles: Vec<Role> = Vec::with_capacity(columns.len());
+    for c in &columns {
+        let r = role_of(c);
+        // A repeated column name: only the first counts.
+        roles.push(if r != Role::Skip && roles.contains(&r) {
+            Role::Skip
+        } else {
+            r
+        });
+    }
+    let has_sun_rel = roles.contains(&Role::SunRel);
+    Ok((Layout { roles, has_sun_rel }, columns))
+}
+
+fn empty_fields(line: u64) -> SampleFields<'static> {
+    SampleFields {
+        line,
+        t_utc: "",
+        t_s: f64::NAN,
+        epoch: 0,
+        arena_heading_deg: f64::NAN,
+        arena_bearing_deg: f64::NAN,
+        world_heading_deg: f64::NAN,
+        sun_azimuth_deg: f64::NAN,
+        sun_elevation_deg: f64::NAN,
+        flying: false,
+        scored: false,
+        sun_relative_heading_deg: f64::NAN,
+        zenith_evector_deg: f64::NAN,
+    }
+}
+
+fn column_name(role: Role) -> &'static str {
+    match role {
+        Role::TUtc => "t_utc",
+        Role::TS => "t_s",
+        Role::Epoch => "epoch",
+        Role::ArenaHeading => "arena_heading_deg",
+        Role::ArenaBearing => "arena_bearing_deg",
+        Role::World => "world_heading_deg",
+        Role::SunAz => "sun_azimuth_deg",
+        Role::SunEl => "sun_elevation_deg",
+        Role::Flying => "flying",
+        Role::Scored => "scored",
+        Role::SunRel => "sun_relative_heading_deg",
+        Role::Evector => "zenith_evector_deg",
+        Role::Skip => "(extra)",
+    }
+}
+
+fn set_t_utc<'a>(f: &mut SampleFields<'a>, text: &'a [u8]) -> Result<(), String> {
+    f.t_utc = std::str::from_utf8(text).map_err(|_| "column t_utc: not UTF-8".to_string())?;
+    Ok(())
+}
+
+/// Stores one numeric field's text into `f` by role (t_utc goes through [`set_t_utc`]).
+#[inline]
+fn set_field(f: &mut SampleFields<'_>, role: Role, text: &[u8]) -> Result<(), String> {
+    let num = |text: &[u8]| {
+        parse_f64(text).ok_or_else(|| {
+            format!(
+                "column {}: not a number: {:?}",
+                column_name(role),
+                String::from_utf8_lossy(text)
+            )
+        })
+    };
+    let flag = |text: &[u8]| match text {
+        b"0" => Ok(false),
+        b"1" => Ok(true),
+        _ => Err(format!(
+            "column {}: must be 0 or 1, found {:?}",
+            column_name(role),
+            String::from_utf8_lossy(text)
+        )),
+    };
+    match role {
+        Role::TUtc | Role::Skip => {}
+        Role::TS => f.t_s = num(text)?,
+        Role::Epoch => {
+            let mut v: usize = 0;
+            if text.is_empty() || text.len() > 9 {
+                return Err(format!(
+                    "column epoch: not an epoch number: {:?}",
+                    String::from_utf8_lossy(text)
+                ));
+            }
+            for &b in text {
+                if !b.is_ascii_digit() {
+                    return Err(format!(
+                        "column epoch: not an epoch number: {:?}",
+                        String::from_utf8_lossy(text)
+                    ));
+                }
+                v = v * 10 + (b - b'0') as usize;
+            }
+            f.epoch = v;
+        }
+        Role::ArenaHeading => f.arena_heading_deg = num(text)?,
+        Role::ArenaBearing => f.arena_bearing_deg = num(text)?,
+        Role::World => f.world_heading_deg = num(text)?,
+        Role::SunAz => f.sun_azimuth_deg = num(text)?,
+        Role::SunEl => f.sun_elevation_deg = num(text)?,
+        Role::Flying => f.flying = flag(text)?,
+        Role::Scored => f.scored = flag(text)?,
+        Role::SunRel => f.sun_relative_heading_deg = num(text)?,
+        Role::Evector => f.zenith_evector_deg = num(text)?,
+    }
+    Ok(())
+}
+
+/// Whether `t` has the shape `YYYY-MM-DDTHH:MM:SS.mmmZ` (RFC 3339 UTC with milliseconds, as
+/// the writer spells it).
+#[inline]
+pub fn is_utc_millis(t: &[u8]) -> bool {
+    t.len() == 24
+        && t.iter().enumerate().all(|(i, &c)| match i {
+            4 | 7 => c == b'-',
+            10 => c == b'T',
+            13 | 16 => c == b':',
+            19 => c == b'.',
+            23 => c == b'Z',
+            _ => c.is_ascii_digit(),
+        })
+}
+
+/// End of the field starting at `pos` (the index of the comma after it, or the line's end).
+/// Numbers and the 24-byte UTC stamp are found by scanning their own characters, which is
+/// faster than searching for the comma in such short fields.
+#[inline(always)]
+fn field_end(line: &[u8], pos: usize, role: Role) -> usize {
+    let by_search = |pos: usize| memchr::memchr(b',', &line[pos..]).map_or(line.len(), |k| pos + k);
+    match role {
+        Role::Skip => by_search(pos),
+        Role::TUtc => {
+            let e = pos + 24;
+            if e <= line.len()
+                && line.get(e).is_none_or(|&b| b == b',')
+                && is_utc_millis(&line[pos..e])
+            {
+                e
+            } else {
+                by_search(pos)
+            }
+        }
+        _ => {
+            let mut j = pos;
+            while j < line.len() && matches!(line[j], b'0'..=b'9' | b'.' | b'-' | b'+') {
+                j += 1;
+            }
+            if j == line.len() || line[j] == b',' {
+                j
+            } else {
+                by_search(pos)
+            }
+        }
+    }
+}
+
+/// Parses one data line (without its terminator) into fields.
+#[inline]
+fn parse_line<'a>(
+    layout: &Layout,
+    line: &'a [u8],
+    line_no: u64,
+) -> Result<SampleFields<'a>, String> {
+    let mut f = empty_fields(line_no);
+    let n = layout.roles.len();
+    let mut pos = 0usize;
+    for (i, &role) in layout.roles.iter().enumerate() {
+        if line.get(pos) == Some(&b'"') {
+            return parse_line_quoted(layout, line, line_no);
+        }
+        let end = field_end(line, pos, role);
+        let last = i + 1 == n;
+        if end == line.len() && !last {
+            return Err(format!("{} fields, the header has {n}", i + 1));
+        }
+        if end < line.len() && last {
+            return Err(format!(
+                "{} fields, the header has {n}",
+                line.iter().filter(|&&b| b == b',').count() + 1
+            ));
+        }
+        if role == Role::TUtc {
+            set_t_utc(&mut f, &line[pos..end])?;
+        } else {
+            set_field(&mut f, role, &line[pos..end])?;
+        }
+        pos = end + 1;
+    }
+    if !layout.has_sun_rel {
+        f.sun_relative_heading_deg = wrap_360_deg(f.world_heading_deg - f.sun_azimuth_deg);
+    }
+    Ok(f)
+}
+
+/// Byte spans of the fields of one RFC 4180 record: (start, end) of the field's content,
+/// quotes excluded, and whether it held doubled quotes (then the span is not the value).
+fn field_spans(line: &[u8]) -> Option<Vec<(usize, usize, bool)>> {
+    let mut spans = Vec::new();
+    let mut pos = 0usize;
+    loop {
+        if line.get(pos) == Some(&b'"') {
+            let start = pos + 1;
+            let mut i = start;
+            let mut escaped = false;
+            loop {
+                match line.get(i) {
+                    Some(b'"') if line.get(i + 1) == Some(&b'"') => {
+                        escaped = true;
+                        i += 2;
+                    }
+                    Some(b'"') => break,
+                    Some(_) => i += 1,
+                    None => return None,
+                }
+            }
+            spans.push((start, i, escaped));
+            match line.get(i + 1) {
+                None => return Some(spans),
+                Some(b',') => pos = i + 2,
+                Some(_) => return None,
+            }
+        } else {
+            let end = memchr::memchr(b',', &line[pos..]).map_or(line.len(), |k| pos + k);
+            if line[pos..end].contains(&b'"') {
+                return None;
+            }
+            spans.push((pos, end, false));
+            if end == line.len() {
+                return Some(spans);
+            }
+            pos = end + 1;
+        }
+    }
+}
+
+/// Slow path for a line with quoted fields.
+#[cold]
+fn parse_line_quoted<'a>(
+    layout: &Layout,
+    line: &'a [u8],
+    line_no: u64,
+) -> Result<SampleFields<'a>, String> {
+    let spans = field_spans(line).ok_or_else(|| "malformed quoted field".to_string())?;
+    if spans.len() != layout.roles.len() {
+        return Err(format!(
+            "{} fields, the header has {}",
+            spans.len(),
+            layout.roles.len()
+        ));
+    }
+    let mut f = empty_fields(line_no);
+    for (&role, &(s, e, escaped)) in layout.roles.iter().zip(&spans) {
+        match role {
+            Role::Skip => {}
+            _ if escaped => {
+                return Err(format!("column {}: unexpected quotes", column_name(role)));
+            }
+            Role::TUtc => set_t_utc(&mut f, &line[s..e])?,
+            _ => set_field(&mut f, role, &line[s..e])?,
+        }
+    }
+    if !layout.has_sun_rel {
+        f.sun_relative_heading_deg = wrap_360_deg(f.world_heading_deg - f.sun_azimuth_deg);
+    }
+    Ok(f)
+}
+
+fn strip_cr(line: &[u8]) -> &[u8] {
+    match line.last() {
+        Some(b'\r') => &line[..line.len() - 1],
+        _ => line,
+    }
+}
+
+const READ_CHUNK: usize = 1 << 20;
+
+/// Streams the data rows of a `samples.csv` through `f`, in file order.
+///
+/// Errors: the file cannot be read, the header misses a required column, or a line before the
+/// last one does not parse (the error names the file, the line and the column). A torn last
+/// line is skipped and described in the returned [`ReadStats`].
+pub fn for_each_sample<F>(path: &Path, mut f: F) -> Result<ReadStats, ArchiveError>
+where
+    F: FnMut(&SampleFields<'_>),
+{
+    let mut file = File::open(path).map_err(|e| ArchiveError::io(path, e))?;
+    let mut buf: Vec<u8> = vec![0u8; READ_CHUNK];
+    let mut start = 0usize; // first unprocessed byte in buf
+    let mut end = 0usize; // end of valid bytes in buf
+    let mut base: u64 = 0; // file offset of buf[0]
+    let mut line_no: u64 = 0;
+    let mut layout: Option<Layout> = None;
+    let mut stats = ReadStats::default();
+    // A line that failed to parse: an error unless it turns out to be the last one.
+    let mut pending: Option<(u64, u64, u64, String)> = None; // (line, offset, len, message)
+    let fmt_err = |line: u64, message: String| ArchiveError::Format {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+
+    loop {
+        while let Some(k) = memchr::memchr(b'\n', &buf[start..end]) {
+            let line = strip_cr(&buf[start..start + k]);
+            line_no += 1;
+            let offset = base + start as u64;
+            if let Some((l, _, _, msg)) = pending.take() {
+                return Err(fmt_err(l, msg));
+            }
+            match &layout {
+                None => {
+                    let text = std::str::from_utf8(line)
+                        .map_err(|_| fmt_err(1, "header is not UTF-8".into()))?;
+                    let (lay, cols) = layout_from_header(path, text)?;
+                    layout = Some(lay);
+                    stats.columns = cols;
+                    stats.good_bytes = offset + k as u64 + 1;
+                }
+                Some(lay) => match parse_line(lay, line, line_no) {
+                    Ok(fields) => {
+                        f(&fields);
+                        stats.rows += 1;
+                        stats.good_bytes = offset + k as u64 + 1;
+                    }
+                    Err(msg) => pending = Some((line_no, offset, k as u64 + 1, msg)),
+                },
+            }
+            start += k + 1;
+        }
+        // Keep the unfinished line, read more.
+        buf.copy_within(start..end, 0);
+        end -= start;
+        base += start as u64;
+        start = 0;
+        if end == buf.len() {
+            buf.resize(buf.len() * 2, 0);
+        }
+        let n = loop {
+            match file.read(&mut buf[end..]) {
+                Ok(n) => break n,
+                Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+                Err(e) => return Err(ArchiveError::io(path, e)),
+            }
+        };
+        if n == 0 {
+            break;
+        }
+        end += n;
+    }
+
+    if layout.is_none() {
+        return Err(fmt_err(1, "no complete header line".into()));
+    }
+    if end > 0 {
+        if let Some((l, _, _, msg)) = pending.take() {
+            return Err(fmt_err(l, msg));
+        }
+        stats.torn = Some(TornTail {
+            line: line_no + 1,
+            offset: base,
+            len: end as u64,
+            reason: "no newline at the end of the file".into(),
+        });
+    } else if let Some((line, offset, len, msg)) = pending {
+        stats.torn = Some(TornTail {
+            line,
+            offset,
+            len,
+            reason: format!("last line does not parse: {msg}"),
+        });
+    }
+    Ok(stats)
+}
+
+/// One row of `events.csv`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EventRecord {
+    /// 1-based line number where the record starts.
+    pub line: u64,
+    /// `t_utc` as written.
+    pub t_utc: String,
+    /// Seconds since the session started.
+    pub t_s: f64,
+    /// Event kind.
+    pub kind: String,
+    /// Free text.
+    pub detail: String,
+}
+
+/// All rows of an `events.csv` (RFC 4180: quoted fields may hold commas, quotes and line
+/// breaks), with the same torn-tail rule as [`for_each_sample`].
+pub fn read_events(path: &Path) -> Result<(Vec<EventRecord>, ReadStats), ArchiveError> {
+    let bytes = std::fs::read(path).map_err(|e| ArchiveError::io(path, e))?;
+    let fmt_err = |line: u64, message: String| ArchiveError::Format {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+    let mut stats = ReadStats::default();
+    // Split into records: a record ends at a newline outside quotes.
+    let mut records: Vec<(u64, usize, usize, bool)> = Vec::new(); // (line, start, end, terminated)
+    let mut in_quotes = false;
+    let mut line = 1u64;
+    let mut rec_line = 1u64;
+    let mut rec_start = 0usize;
+    for (i, &b) in bytes.iter().enumerate() {
+        match b {
+            b'"' => in_quotes = !in_quotes,
+            b'\n' => {
+                if !in_quotes {
+                    records.push((rec_line, rec_start, i, true));
+                    rec_start = i + 1;
+                    rec_line = line + 1;
+                }
+                line += 1;
+            }
+            _ => {}
+        }
+    }
+    if rec_start < bytes.len() {
+        records.push((rec_line, rec_start, bytes.len(), false));
+    }
+    let Some(&(_, hs, he, true)) = records.first() else {
+        return Err(fmt_err(1, "no complete header line".into()));
+    };
+    let header = std::str::from_utf8(strip_cr(&bytes[hs..he]))
+        .ok()
+        .and_then(split_csv_record)
+        .ok_or_else(|| fmt_err(1, "header is not valid CSV".into()))?;
+    let header: Vec<String> = header.into_iter().map(|c| c.trim().to_string()).collect();
+    let mut idx = [0usize; 4];
+    for (k, name) in EVENT_COLUMNS.iter().enumerate() {
+        idx[k] = header
+            .iter()
+            .position(|c| c == name)
+            .ok_or_else(|| fmt_err(1, format!("missing column {name:?}")))?;
+    }
+    stats.columns = header.clone();
+    stats.good_bytes = he as u64 + 1;
+    let mut out = Vec::new();
+    let last = records.len() - 1;
+    for (k, &(rline, s, e, terminated)) in records.iter().enumerate().skip(1) {
+        let parsed = std::str::from_utf8(strip_cr(&bytes[s..e]))
+            .map_err(|_| "not UTF-8".to_string())
+            .and_then(|t| split_csv_record(t).ok_or_else(|| "malformed quoted field".to_string()))
+            .and_then(|fields| {
+                if fields.len() != header.len() {
+                    return Err(format!(
+                        "{} fields, the header has {}",
+                        fields.len(),
+                        header.len()
+                    ));
+                }
+                let t_s = parse_f64(fields[idx[1]].as_bytes())
+                    .ok_or_else(|| format!("column t_s: not a number: {:?}", fields[idx[1]]))?;
+                if fields[idx[2]].is_empty() {
+                    return Err("column kind: empty".into());
+                }
+                Ok(EventRecord {
+                    line: rline,
+                    t_utc: fields[idx[0]].clone(),
+                    t_s,
+                    kind: fields[idx[2]].clone(),
+                    detail: fields[idx[3]].clone(),
+                })
+            });
+        match (parsed, terminated) {
+            (Ok(r), true) => {
+                out.push(r);
+                stats.rows += 1;
+                stats.good_bytes = e as u64 + 1;
+            }
+            (Ok(_), false) => {
+                stats.torn = Some(TornTail {
+                    line: rline,
+                    offset: s as u64,
+                    len: (e - s) as u64,
+                    reason: "no newline at the end of the file".into(),
+                });
+            }
+            (Err(msg), _) if k == last => {
+                stats.torn = Some(TornTail {
+                    line: rline,
+                    offset: s as u64,
+                    len: (bytes.len() - s) as u64,
+                    reason: format!("last line does not parse: {msg}"),
+                });
+            }
+            (Err(msg), _) => return Err(fmt_err(rline, msg)),
+        }
+    }
+    Ok((out, stats))
+}
+
+/// Reads `session.json` of a session folder.
+pub fn read_session(dir: &Path) -> Result<super::SessionMeta, ArchiveError> {
+    super::SessionMeta::load(dir)
+}
+
+/// Reads `summary.json` of a session folder.
+pub fn read_summary(dir: &Path) -> Result<super::Summary, ArchiveError> {
+    super::Summary::load(dir)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::io::Write;
+
+    fn write(dir: &Path, name: &str, text: &str) -> std::path::PathBuf {
+        let p = dir.join(name);
+        std::fs::File::create(&p)
+            .unwrap()
+            .write_all(text.as_bytes())
+            .unwrap();
+        p
+    }
+
+    const HEADER: &str = "t_utc,t_s,epoch,arena_heading_deg,arena_bearing_deg,world_heading_deg,sun_azimuth_deg,sun_elevation_deg,flying,scored";
+
+    #[test]
+    fn reads_by_header_name_with_extra_columns() {
+        let d = tempfile::tempdir().unwrap();
+        let text = format!(
+            "note,{HEADER}\n\"a, b\",2026-06-14T09:30:00.000Z,0.0100,1,10.000,20.000,30.000,100.000,40.000,1,1\nx,2026-06-14T09:30:00.010Z,0.0200,1,11.5,20.000,31.5,100.000,40.000,1,0\n"
+        );
+        let p = write(d.path(), "s.csv", &text);
+        let mut rows = Vec::new();
+        let st = for_each_sample(&p, |s| {
+            rows.push((
+                s.t_utc.to_string(),
+                s.t_s,
+                s.world_heading_deg,
+                s.scored,
+                s.sun_relative_heading_deg,
+            ))
+        })
+        .unwrap();
+        assert_eq!(st.rows, 2);
+        assert!(st.torn.is_none());
+        assert_eq!(st.good_bytes, text.len() as u64);
+        assert_eq!(rows[0].0, "2026-06-14T09:30:00.000Z");
+        assert_eq!(rows[1].2, 31.5);
+        assert!(!rows[1].3);
+        assert_eq!(rows[0].4, 290.0);
+    }
+
+    #[test]
+    fn missing_column_is_an_error() {
+        let d = tempfile::tempdir().unwrap();
+        let p = write(d.path(), "s.csv", "t_utc,t_s,epoch\n");
+        let e = for_each_sample(&p, |_| {}).unwrap_err().to_string();
+        assert!(
+            e.contains("s.csv") && e.contains("arena_heading_deg"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn torn_tail_and_bad_middle_line() {
+        let d = tempfile::tempdir().unwrap();
+        let row = "2026-06-14T09:30:00.000Z,0.0100,1,10.000,20.000,30.000,100.000,40.000,1,1";
+        let p = write(
+            d.path(),
+            "a.csv",
+            &format!("{HEADER}\n{row}\n{row}\n2026-06-14T09:3"),
+        );
+        let st = for_each_sample(&p, |_| {}).unwrap();
+        assert_eq!(st.rows, 2);
+        let torn = st.torn.unwrap();
+        assert_eq!(torn.line, 4);
+        assert_eq!(torn.len, 15);
+        assert_eq!(torn.offset, st.good_bytes);
+
+        // A complete but short last line counts as torn too.
+        let p = write(d.path(), "b.csv", &format!("{HEADER}\n{row}\n2026,1\n"));
+        let st = for_each_sample(&p, |_| {}).unwrap();
+        assert_eq!(st.rows, 1);
+        assert_eq!(st.torn.unwrap().line, 3);
+
+        // The same line in the middle is an error naming the line.
+        let p = write(
+            d.path(),
+            "c.csv",
+            &format!("{HEADER}\n{row}\n2026,1\n{row}\n"),
+        );
+        let e = for_each_sample(&p, |_| {}).unwrap_err().to_string();
+        assert!(e.contains("c.csv:3:"), "{e}");
+
+        let bad = row.replace(",1,1", ",2,1");
+        let p = write(d.path(), "d.csv", &format!("{HEADER}\n{bad}\n{row}\n"));
+        let e = for_each_sample(&p, |_| {}).unwrap_err().to_string();
+        assert!(e.contains("d.csv:2:") && e.contains("flying"), "{e}");
+    }
+
+    #[test]
+    fn events_with_quoted_details() {
+        let d = tempfile::tempdir().unwrap();
+        let p = write(
+            d.path(),
+            "e.csv",
+            "t_utc,t_s,kind,detail\n2026-06-14T09:30:00.000Z,0.0000,note,\"two\nlines, \"\"quoted\"\"\"\n2026-06-14T09:30:01.000Z,1.0000,epoch_start,1\n2026-06-14T09:30:0",
+        );
+        let (ev, st) = read_events(&p).unwrap();
+        assert_eq!(ev.len(), 2);
+        assert_eq!(ev[0].detail, "two\nlines, \"quoted\"");
+        assert_eq!(ev[1].line, 4);
+        assert_eq!(st.torn.unwrap().line, 5);
+    }
+
+    #[test]
+    fn split_records() {
+        assert_eq!(
+            split_csv_record("a,\"b,c\",,\"\"\"\"").unwrap(),
+            vec!["a", "b,c", "", "\""]
+        );
+        assert!(split_csv_record("a,\"b").is_none());
+        assert!(split_csv_record("a,b\"c").is_none());
+    }
+}

@@ -1,0 +1,426 @@
+//! The one place that turns sample rows into a [`Summary`].
+//!
+//! The engine feeds [`SummaryBuilder`] live, sample by sample; `check --repair` and `check`
+//! feed it from `samples.csv`. Every angle is first rounded exactly as the writer writes it
+//! (see [`super::fmt`]), so both paths see the same numbers in the same order and give the
+//! same summary.
+
+use serde::{Deserialize, Serialize};
+
+use super::fmt::quantize_angle_deg;
+use super::read::SampleFields;
+use super::{ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, TurnSummary};
+use crate::circular::HeadingAccumulator;
+use crate::frames::{wrap_360_deg, wrap_signed_deg};
+use crate::protocol::{ArenaMove, Protocol};
+
+/// One planned epoch as stored in `session.json` (`epochs`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PlannedEpoch {
+    /// 1-based index.
+    pub index: usize,
+    /// Condition label.
+    pub condition: String,
+    /// Planned turn of the arena before this epoch starts, degrees (positive clockwise seen
+    /// from above; 0 for the first epoch and for epochs that keep the bearing).
+    pub turn_before_deg: f64,
+    /// Planned duration, seconds.
+    pub duration_s: f64,
+}
+
+impl PlannedEpoch {
+    /// The planned epochs of an expanded protocol. `GoTo` moves become the shortest signed turn
+    /// from the arena's planned position (0 at the start) to the target position.
+    pub fn from_protocol(protocol: &Protocol) -> Vec<PlannedEpoch> {
+        let mut position_deg = 0.0f64;
+        protocol
+            .epochs
+            .iter()
+            .map(|e| {
+                let turn = match e.arena {
+                    ArenaMove::Stay => 0.0,
+                    ArenaMove::TurnBy { deg } => deg,
+                    ArenaMove::GoTo { position_deg: to } => wrap_signed_deg(to - position_deg),
+                };
+                position_deg = wrap_360_deg(position_deg + turn);
+                PlannedEpoch {
+                    index: e.index,
+                    condition: e.condition.clone(),
+                    turn_before_deg: turn,
+                    duration_s: e.duration_s,
+                }
+            })
+            .collect()
+    }
+}
+
+/// An accumulator that breaks its sample chain whenever samples it did not get came between
+/// two it got (non-scored samples, other epochs).
+#[derive(Debug, Clone, Default)]
+struct Chain {
+    acc: HeadingAccumulator,
+    last_seq: Option<u64>,
+}
+
+impl Chain {
+    #[inline]
+    fn push(&mut self, seq: u64, angle_deg: f64) {
+        if let Some(last) = self.last_seq
+            && last + 1 != seq
+        {
+            self.acc.mark_gap();
+        }
+        self.last_seq = Some(seq);
+        self.acc.push_deg(angle_deg);
+    }
+}
+
+#[derive(Debug, Clone)]
+struct EpochAcc {
+    planned: PlannedEpoch,
+    world: Chain,
+    arena: Chain,
+    bearing_scored_deg: Option<f64>,
+    bearing_any_deg: Option<f64>,
+}
+
+/// Builds a [`Summary`] from sample rows, O(1) per sample.
+///
+/// Only `scored` samples with finite headings count. Per-epoch `r`, `rayleigh_p`, `n_eff` and
+/// `rayleigh_p_eff` are of world headings; an epoch's `arena_bearing_deg` is the bearing of its
+/// first scored sample (else its first sample, else the previous epoch's bearing plus the
+/// planned turn, else NaN, written `null`). Turn k lies between epochs k and k + 1, one per
+/// pair of consecutive planned epochs (a pair without a turn has `turn_deg` 0): `turn_deg` is
+/// the planned turn before epoch k + 1, `world_shift_deg` the mean world heading of epoch
+/// k + 1 minus that of epoch k in (-180, 180], None when either mean is undefined.
+/// Samples of an epoch not in the plan count only in the session's `r_world` and `r_arena`.
+#[derive(Debug, Clone)]
+pub struct SummaryBuilder {
+    epochs: Vec<EpochAcc>,
+    /// Epoch index → position in `epochs`.
+    lookup: Vec<Option<usize>>,
+    world: Chain,
+    arena: Chain,
+    seq: u64,
+}
+
+impl SummaryBuilder {
+    /// A builder for the planned epochs.
+    pub fn new(epochs: &[PlannedEpoch]) -> Self {
+        let max = epochs.iter().map(|e| e.index).max().unwrap_or(0);
+        let mut lookup = vec![None; max + 1];
+        for (pos, e) in epochs.iter().enumerate() {
+            lookup[e.index] = Some(pos);
+        }
+        SummaryBuilder {
+            epochs: epochs
+                .iter()
+                .map(|e| EpochAcc {
+                    planned: e.clone(),
+                    world: Chain::default(),
+                    arena: Chain::default(),
+                    bearing_scored_deg: None,
+                    bearing_any_deg: None,
+                })
+                .collect(),
+            lookup,
+            world: Chain::default(),
+            arena: Chain::default(),
+            seq: 0,
+        }
+    }
+
+    /// Adds one sample as the engine hands it to the writer.
+    #[inline]
+    pub fn push(&mut self, row: &SampleRow) {
+        self.push_values(
+            row.epoch,
+            row.arena_heading_deg,
+            row.arena_bearing_deg,
+            row.world_heading_deg,
+            row.scored,
+        );
+    }
+
+    /// Adds one sample read back from `samples.csv`.
+    #[inline]
+    pub fn push_fields(&mut self, s: &SampleFields<'_>) {
+        self.push_values(
+            s.epoch,
+            s.arena_heading_deg,
+            s.arena_bearing_deg,
+            s.world_heading_deg,
+            s.scored,
+        );
+    }
+
+    /// Adds one sample from its values (rounded first to the archive's angle precision).
+    #[inline]
+    pub fn push_values(
+        &mut self,
+        epoch: usize,
+        arena_heading_deg: f64,
+        arena_bearing_deg: f64,
+        world_heading_deg: f64,
+        scored: bool,
+    ) {
+        self.seq += 1;
+        let seq = self.seq;
+        let arena = quantize_angle_deg(arena_heading_deg, ANGLE_DECIMALS);
+        let world = quantize_angle_deg(world_heading_deg, ANGLE_DECIMALS);
+        let counts = scored && arena.is_finite() && world.is_finite();
+        let pos = self.lookup.get(epoch).copied().flatten();
+        if let Some(pos) = pos {
+            let e = &mut self.epochs[pos];
+            if e.bearing_any_deg.is_none() || (counts && e.bearing_scored_deg.is_none()) {
+                let bearing = quantize_angle_deg(arena_bearing_deg, ANGLE_DECIMALS);
+                if bearing.is_finite() {
+                    if e.bearing_any_deg.is_none() {
+                        e.bearing_any_deg = Some(bearing);
+                    }
+                    if counts && e.bearing_scored_deg.is_none() {
+                        e.bearing_scored_deg = Some(bearing);
+                    }
+                }
+            }
+            if counts {
+                e.world.push(seq, world);
+                e.arena.push(seq, arena);
+            }
+        }
+        if counts {
+            self.world.push(seq, world);
+            self.arena.push(seq, arena);
+        }
+    }
+
+    /// The planned epochs.
+    pub fn planned(&self) -> impl Iterator<Item = &PlannedEpoch> {
+        self.epochs.iter().map(|e| &e.planned)
+    }
+
+    /// Accumulators (world, arena) of scored headings of epoch `index`.
+    pub fn epoch_accumulators(
+        &self,
+        index: usize,
+    ) -> Option<(&HeadingAccumulator, &HeadingAccumulator)> {
+        let pos = self.lookup.get(index).copied().flatten()?;
+        let e = &self.epochs[pos];
+        Some((&e.world.acc, &e.arena.acc))
+    }
+
+    /// Scored samples of epoch `index` (0 if unknown).
+    pub fn epoch_n(&self, index: usize) -> u64 {
+        self.epoch_accumulators(index)
+            .map(|(w, _)| w.n())
+            .unwrap_or(0)
+    }
+
+    /// Mean world heading of epoch `index`.
+    pub fn epoch_mean_world_deg(&self, index: usize) -> Option<f64> {
+        self.epoch_accumulators(index)
+            .and_then(|(w, _)| w.mean_deg())
+    }
+
+    /// The summary line of epoch `index` as it stands now.
+    pub fn epoch_summary(&self, index: usize) -> Option<EpochSummary> {
+        let pos = self.lookup.get(index).copied().flatten()?;
+        Some(self.epoch_summary_at(pos, self.bearing_at(pos)))
+    }
+
+    /// World shift across turn k (between epoch k and k + 1) as it stands now.
+    pub fn turn_shift_deg(&self, k: usize) -> Option<f64> {
+        let before = self.epoch_mean_world_deg(k)?;
+        let after = self.epoch_mean_world_deg(k + 1)?;
+        Some(wrap_signed_deg(after - before))
+    }
+
+    /// Accumulator of all scored world headings.
+    pub fn world(&self) -> &HeadingAccumulator {
+        &self.world.acc
+    }
+
+    /// Accumulator of all scored arena headings.
+    pub fn arena(&self) -> &HeadingAccumulator {
+        &self.arena.acc
+    }
+
+    /// Mean vector length of all scored world headings.
+    pub fn r_world(&self) -> f64 {
+        self.world.acc.r()
+    }
+
+    /// Mean vector length of all scored arena headings.
+    pub fn r_arena(&self) -> f64 {
+        self.arena.acc.r()
+    }
+
+    /// Samples pushed so far (scored or not).
+    pub fn samples_seen(&self) -> u64 {
+        self.seq
+    }
+
+    fn bearing_at(&self, pos: usize) -> f64 {
+        // Walk back to the last epoch with a known bearing, adding planned turns forward.
+        let mut k = pos;
+        let mut turns = 0.0;
+        loop {
+            let e = &self.epochs[k];
+            if let Some(b) = e.bearing_scored_deg.or(e.bearing_any_deg) {
+                return wrap_360_deg(b + turns);
+            }
+            if k == 0 {
+                return f64::NAN;
+            }
+            turns += e.planned.turn_before_deg;
+            k -= 1;
+        }
+    }
+
+    fn epoch_summary_at(&self, pos: usize, bearing: f64) -> EpochSummary {
+        let e = &self.epochs[pos];
+        let w = &e.world.acc;
+        EpochSummary {
+            index: e.planned.index,
+            condition: e.planned.condition.clone(),
+            arena_bearing_deg: bearing,
+            n: w.n(),
+            mean_arena_deg: e.arena.acc.mean_deg(),
+            mean_world_deg: w.mean_deg(),
+            r: w.r(),
+            rayleigh_p: w.rayleigh_p(),
+            n_eff: w.n_eff(),
+            rayleigh_p_eff: w.rayleigh_p_eff(),
+        }
+    }
+
+    /// The summary as it stands now.
+    pub fn summary(&self) -> Summary {
+        let epochs: Vec<EpochSummary> = (0..self.epochs.len())
+            .map(|pos| self.epoch_summary_at(pos, self.bearing_at(pos)))
+            .collect();
+        let turns = (1..self.epochs.len())
+            .map(|k| {
+                let shift = match (epochs[k - 1].mean_world_deg, epochs[k].mean_world_deg) {
+                    (Some(a), Some(b)) => Some(wrap_signed_deg(b - a)),
+                    _ => None,
+                };
+                TurnSummary {
+                    index: k,
+                    turn_deg: self.epochs[k].planned.turn_before_deg,
+                    world_shift_deg: shift,
+                }
+            })
+            .collect();
+        Summary {
+            epochs,
+            turns,
+            r_world: self.world.acc.r(),
+            r_arena: self.arena.acc.r(),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn plan() -> Vec<PlannedEpoch> {
+        vec![
+            PlannedEpoch {
+                index: 1,
+                condition: "open sky".into(),
+                turn_before_deg: 0.0,
+                duration_s: 1.0,
+            },
+            PlannedEpoch {
+                index: 2,
+                condition: "diffuser".into(),
+                turn_before_deg: 90.0,
+                duration_s: 1.0,
+            },
+            PlannedEpoch {
+                index: 3,
+                condition: "open sky".into(),
+                turn_before_deg: -90.0,
+                duration_s: 1.0,
+            },
+        ]
+    }
+
+    #[test]
+    fn counts_only_scored_samples_per_epoch() {
+        let mut b = SummaryBuilder::new(&plan());
+        // Epoch 1: world 350 (scored ×3), one unscored sample at 10 with another bearing.
+        b.push_values(1, 340.0, 5.0, 345.0, false);
+        for _ in 0..3 {
+            b.push_values(1, 340.0, 10.0, 350.0, true);
+        }
+        // Epoch 2: world 10, i.e. a shift of +20 across the turn, wrapped.
+        for _ in 0..4 {
+            b.push_values(2, 280.0, 90.0, 10.0, true);
+        }
+        // Epoch 3: nothing scored; an unknown epoch 7 counts only for the session.
+        b.push_values(3, 0.0, 0.0, 0.0, false);
+        b.push_values(7, 10.0, 0.0, 10.0, true);
+        // Non-finite headings never count.
+        b.push_values(2, f64::NAN, 90.0, f64::NAN, true);
+        let s = b.summary();
+        assert_eq!(s.epochs.len(), 3);
+        assert_eq!(s.epochs[0].n, 3);
+        assert_eq!(s.epochs[0].arena_bearing_deg, 10.0); // first scored, not first sample
+        assert!((s.epochs[0].mean_world_deg.unwrap() - 350.0).abs() < 1e-9);
+        assert_eq!(s.epochs[1].n, 4);
+        assert_eq!(s.epochs[1].condition, "diffuser");
+        assert_eq!(s.epochs[2].n, 0);
+        assert_eq!(s.epochs[2].mean_world_deg, None);
+        assert_eq!(s.epochs[2].arena_bearing_deg, 0.0); // first sample's bearing
+        assert_eq!(s.turns.len(), 2);
+        assert_eq!(s.turns[0].index, 1);
+        assert_eq!(s.turns[0].turn_deg, 90.0);
+        assert!((s.turns[0].world_shift_deg.unwrap() - 20.0).abs() < 1e-9);
+        assert_eq!(s.turns[1].turn_deg, -90.0);
+        assert_eq!(s.turns[1].world_shift_deg, None);
+        assert!((b.turn_shift_deg(1).unwrap() - 20.0).abs() < 1e-9);
+        assert_eq!(b.world().n(), 8);
+        assert_eq!(b.epoch_n(2), 4);
+        assert_eq!(b.samples_seen(), 11);
+        assert_eq!(
+            serde_json::to_string(&b.epoch_summary(2).unwrap()).unwrap(),
+            serde_json::to_string(&s.epochs[1]).unwrap()
+        );
+    }
+
+    #[test]
+    fn bearing_of_an_empty_epoch_follows_the_plan() {
+        let mut b = SummaryBuilder::new(&plan());
+        b.push_values(1, 0.0, 350.0, 350.0, true);
+        let s = b.summary();
+        assert_eq!(s.epochs[1].arena_bearing_deg, 80.0);
+        assert_eq!(s.epochs[2].arena_bearing_deg, 350.0);
+        let empty = SummaryBuilder::new(&plan()).summary();
+        assert!(empty.epochs[0].arena_bearing_deg.is_nan());
+    }
+
+    #[test]
+    fn rounds_like_the_writer() {
+        let mut a = SummaryBuilder::new(&plan());
+        let mut b = SummaryBuilder::new(&plan());
+        a.push_values(1, 12.345_678, 0.0, 12.345_678, true);
+        b.push_values(1, 12.346, 0.0, 12.346, true);
+        a.push_values(1, 359.999_7, 0.0, 359.999_7, true);
+        b.push_values(1, 0.0, 0.0, 0.0, true);
+        // (JSON text: NaN statistics of empty epochs compare equal as null.)
+        let json = |b: &SummaryBuilder| serde_json::to_string(&b.summary()).unwrap();
+        assert_eq!(json(&a), json(&b));
+    }
+
+    #[test]
+    fn planned_epochs_from_a_protocol() {
+        let p = crate::protocol::smoke_protocol();
+        let planned = PlannedEpoch::from_protocol(&p);
+        assert_eq!(planned.len(), p.epochs.len());
+        assert_eq!(planned[0].turn_before_deg, 0.0);
+        assert!(planned.iter().skip(1).any(|e| e.turn_before_deg != 0.0));
+    }
+}

@@ -1,0 +1,341 @@
+//! The terminal loop: the only part of the screen that does I/O.
+//!
+//! The terminal is restored on every way out: normal end, error (a drop guard), panic in any
+//! thread (a hook that restores, then calls the previous hook; the loop then returns an error
+//! instead of drawing over the message), and SIGTERM / SIGHUP / SIGINT (a flag that
+//! makes the loop send [`Command::EndSession`] and keep drawing until the engine has closed the
+//! session; a second such signal terminates at once, and once the screen has returned they
+//! terminate as they would by default). In raw mode Ctrl-C arrives as a key and
+//! is handled by [`UiState::handle_key`].
+
+use crate::engine::snapshot::{Command, Snapshot, SnapshotCell};
+use crate::tui::render;
+use crate::tui::state::UiState;
+use crate::tui::theme::{Theme, ThemeKind};
+use anyhow::{Context, anyhow};
+use crossterm::event::{self, Event, KeyCode, KeyEventKind, KeyModifiers};
+use crossterm::terminal::{
+    EnterAlternateScreen, LeaveAlternateScreen, disable_raw_mode, enable_raw_mode,
+};
+use ratatui::Terminal;
+use ratatui::backend::CrosstermBackend;
+use ratatui::text::{Line, Span};
+use ratatui::widgets::Paragraph;
+use std::io::{Stdout, stdout};
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::mpsc::Sender;
+use std::sync::{Arc, Once, OnceLock};
+use std::time::{Duration, Instant};
+
+/// How the live screen looks and behaves.
+#[derive(Debug, Clone)]
+pub struct ScreenOptions {
+    /// No colours at all (also forced by a non-empty `NO_COLOR` environment variable).
+    pub mono: bool,
+    /// Starting theme when colours are allowed.
+    pub theme: ThemeKind,
+    /// Upper bound on frames drawn per second (rendering is decoupled from the sample rate).
+    pub max_fps: u32,
+    /// Seconds the final "session saved" frame stays up (a key closes it sooner).
+    pub final_frame_s: f64,
+    /// Set by the caller to make the screen return at once (for example when the engine thread
+    /// failed and will never publish an ended snapshot).
+    pub stop: Option<Arc<AtomicBool>>,
+}
+
+impl Default for ScreenOptions {
+    fn default() -> Self {
+        ScreenOptions {
+            mono: false,
+            theme: ThemeKind::Sunlight,
+            max_fps: 30,
+            final_frame_s: 1.0,
+            stop: None,
+        }
+    }
+}
+
+impl ScreenOptions {
+    /// The theme the screen starts with: mono when asked for or when `no_color` is true.
+    pub fn starting_theme(&self, no_color: bool) -> ThemeKind {
+        if self.mono || no_color {
+            ThemeKind::Mono
+        } else {
+            self.theme
+        }
+    }
+}
+
+/// True when the `NO_COLOR` convention asks for no colour (set and not empty; no-color.org).
+pub fn no_color_requested() -> bool {
+    std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty())
+}
+
+/// True while this process has the terminal in raw mode / alternate screen.
+static TERMINAL_ACTIVE: AtomicBool = AtomicBool::new(false);
+static PANIC_HOOK: Once = Once::new();
+
+/// Flags set from signal handlers (registered once per process).
+struct SignalFlags {
+    /// A termination signal arrived while a screen was up.
+    term_seen: Arc<AtomicBool>,
+}
+
+static SIGNALS: OnceLock<Option<SignalFlags>> = OnceLock::new();
+
+fn signal_flags() -> Option<&'static SignalFlags> {
+    SIGNALS
+        .get_or_init(|| {
+            let term_seen = Arc::new(AtomicBool::new(false));
+            for sig in [
+                signal_hook::consts::SIGTERM,
+                signal_hook::consts::SIGHUP,
+                signal_hook::consts::SIGINT,
+            ] {
+                // Actions run in registration order: a second signal (flag already set)
+                // terminates the default way; the first only sets the flag.
+                let a = signal_hook::flag::register_conditional_default(sig, term_seen.clone());
+                let b = signal_hook::flag::register(sig, term_seen.clone());
+                if a.is_err() || b.is_err() {
+                    return None;
+                }
+            }
+            Some(SignalFlags { term_seen })
+        })
+        .as_ref()
+}
+
+/// When the screen is gone, termination signals take their default action again (the flag
+/// being set arms the conditional default registered in [`signal_flags`]).
+struct SignalsIdle(Option<&'static SignalFlags>);
+
+impl Drop for SignalsIdle {
+    fn drop(&mut self) {
+        if let Some(s) = self.0 {
+            s.term_seen.store(true, Ordering::SeqCst);
+        }
+    }
+}
+
+/// Leaves raw mode and the alternate screen if this process entered them. Safe to call twice.
+fn restore_terminal() {
+    if TERMINAL_ACTIVE.swap(false, Ordering::SeqCst) {
+        let _ = disable_raw_mode();
+        let _ = crossterm::execute!(stdout(), LeaveAlternateScreen, crossterm::cursor::Show);
+    }
+}
+
+fn install_panic_hook() {
+    PANIC_HOOK.call_once(|| {
+        let previous = std::panic::take_hook();
+        std::panic::set_hook(Box::new(move |info| {
+            restore_terminal();
+            previous(info);
+        }));
+    });
+}
+
+/// Restores the terminal when dropped (error returns and unwinding).
+struct TerminalGuard;
+
+impl TerminalGuard {
+    fn enter() -> anyhow::Result<(Self, Terminal<CrosstermBackend<Stdout>>)> {
+        install_panic_hook();
+        enable_raw_mode().context("cannot switch the terminal to raw mode")?;
+        TERMINAL_ACTIVE.store(true, Ordering::SeqCst);
+        let guard = TerminalGuard;
+        // No cursor-position query anywhere (ratatui's `Terminal::clear` would send one and
+        // wait for the answer): clear with a plain escape sequence instead.
+        crossterm::execute!(
+            stdout(),
+            EnterAlternateScreen,
+            crossterm::cursor::Hide,
+            crossterm::terminal::Clear(crossterm::terminal::ClearType::All)
+        )
+        .context("cannot enter the alternate screen")?;
+        let terminal =
+            Terminal::new(CrosstermBackend::new(stdout())).context("cannot start the screen")?;
+        Ok((guard, terminal))
+    }
+}
+
+impl Drop for TerminalGuard {
+    fn drop(&mut self) {
+        restore_terminal();
+    }
+}
+
+fn send(commands: &Sender<Command>, command: Command) -> anyhow::Result<()> {
+    commands
+        .send(command)
+        .map_err(|_| anyhow!("the session engine stopped before the screen closed"))
+}
+
+fn draw_waiting(frame: &mut ratatui::Frame, theme: &Theme) {
+    let area = frame.area();
+    frame.buffer_mut().set_style(area, theme.base());
+    let lines = vec![
+        Line::from(Span::styled("skybearing", theme.strong())),
+        Line::from(Span::styled(
+            "waiting for the session engine…",
+            theme.strong(),
+        )),
+        Line::from(Span::styled("Ctrl-C ends", theme.base())),
+    ];
+    frame.render_widget(Paragraph::new(lines).style(theme.base()), area);
+}
+
+/// Runs the live screen until the engine publishes a snapshot with `ended == true`.
+///
+/// Draws the latest snapshot from `cell` at most `options.max_fps` times per second, turns
+/// keys into commands sent on `commands`, and after the end shows a "session saved" frame for
+/// `options.final_frame_s` seconds (or until a key). Errors when the terminal cannot be used
+/// or when the engine has gone away (the command channel is closed).
+pub fn run_live(
+    cell: SnapshotCell,
+    commands: Sender<Command>,
+    options: ScreenOptions,
+) -> anyhow::Result<()> {
+    let signals = signal_flags();
+    if let Some(s) = signals {
+        s.term_seen.store(false, Ordering::SeqCst);
+    }
+    let _signals_idle = SignalsIdle(signals);
+    let theme_kind = options.starting_theme(no_color_requested());
+    let (_guard, mut terminal) = TerminalGuard::enter()?;
+
+    let frame_dt = Duration::from_secs_f64(1.0 / f64::from(options.max_fps.clamp(1, 120)));
+    let final_frame = Duration::from_secs_f64(options.final_frame_s.clamp(0.0, 60.0));
+    let mut ui = UiState::with_theme(theme_kind);
+    let mut last: Option<Arc<Snapshot>> = None;
+    let mut dirty = true;
+    let mut signal_handled = false;
+    let mut ended_at: Option<Instant> = None;
+    let mut next_draw = Instant::now();
+
+    loop {
+        if !TERMINAL_ACTIVE.load(Ordering::SeqCst) {
+            // A panic somewhere in the process restored the terminal (so its message can be
+            // read); drawing on would scribble over it.
+            return Err(anyhow!(
+                "the screen closed after a panic (see the message above)"
+            ));
+        }
+        if let Some(stop) = &options.stop
+            && stop.load(Ordering::SeqCst)
+        {
+            return Ok(());
+        }
+        if !signal_handled
+            && let Some(s) = signals
+            && s.term_seen.load(Ordering::SeqCst)
+        {
+            signal_handled = true;
+            ui.end_requested = true;
+            if ended_at.is_none() {
+                send(&commands, Command::EndSession)?;
+            }
+            dirty = true;
+        }
+
+        let latest = cell.latest();
+        let changed = match (&latest, &last) {
+            (Some(a), Some(b)) => !Arc::ptr_eq(a, b),
+            (None, None) => false,
+            _ => true,
+        };
+        if changed {
+            dirty = true;
+            last = latest;
+        }
+        if ended_at.is_none() && last.as_ref().is_some_and(|s| s.ended) {
+            ended_at = Some(Instant::now());
+            ui.mode = crate::tui::state::Mode::Normal;
+            dirty = true;
+        }
+        if let Some(t) = ended_at
+            && t.elapsed() >= final_frame
+        {
+            // Make sure the final frame was shown at least once.
+            if !dirty {
+                return Ok(());
+            }
+        }
+
+        let now = Instant::now();
+        if dirty && now >= next_draw {
+            match &last {
+                Some(snap) => terminal
+                    .draw(|f| render::draw(f, snap, &ui))
+                    .context("cannot draw the screen")?,
+                None => terminal
+                    .draw(|f| draw_waiting(f, &Theme::new(ui.theme)))
+                    .context("cannot draw the screen")?,
+            };
+            dirty = false;
+            next_draw = now + frame_dt;
+        }
+
+        let timeout = if dirty {
+            next_draw.saturating_duration_since(Instant::now())
+        } else {
+            frame_dt
+        };
+        if !event::poll(timeout).context("cannot read the keyboard")? {
+            continue;
+        }
+        match event::read().context("cannot read the keyboard")? {
+            Event::Key(key) if key.kind != KeyEventKind::Release => {
+                if ended_at.is_some() {
+                    return Ok(());
+                }
+                match &last {
+                    Some(snap) => {
+                        for command in ui.handle_key(key, snap) {
+                            send(&commands, command)?;
+                        }
+                    }
+                    None => {
+                        let ctrl_c = key.modifiers.contains(KeyModifiers::CONTROL)
+                            && matches!(key.code, KeyCode::Char('c') | KeyCode::Char('C'));
+                        if ctrl_c {
+                            ui.end_requested = true;
+                            send(&commands, Command::EndSession)?;
+                        }
+                    }
+                }
+                dirty = true;
+            }
+            Event::Resize(_, _) => dirty = true,
+            _ => {}
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn mono_wins_over_theme() {
+        let o = ScreenOptions {
+            theme: ThemeKind::Dark,
+            ..ScreenOptions::default()
+        };
+        assert_eq!(o.starting_theme(false), ThemeKind::Dark);
+        assert_eq!(o.starting_theme(true), ThemeKind::Mono);
+        let o = ScreenOptions {
+            mono: true,
+            ..ScreenOptions::default()
+        };
+        assert_eq!(o.starting_theme(false), ThemeKind::Mono);
+    }
+
+    #[test]
+    fn restore_is_idempotent_when_inactive() {
+        // Not in raw mode: must do nothing and not panic.
+        restore_terminal();
+        restore_terminal();
+        assert!(!TERMINAL_ACTIVE.load(Ordering::SeqCst));
+    }
+}

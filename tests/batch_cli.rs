@@ -1,0 +1,234 @@
+//! `skybearing batch` as a user runs it, on synthetic session folders.
+
+mod batch_support;
+
+use batch_support::{Mode, col, read_csv, write_session};
+use std::process::Command;
+
+fn batch(args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_skybearing"))
+        .arg("batch")
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn tables_have_the_contract_columns_and_bad_folders_are_skipped_by_name() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("sessions");
+    write_session(&root, "a1", "lm-01", "complete", Mode::Sky, 40.0, 3, 200);
+    write_session(&root, "a2", "lm-02", "complete", Mode::Sky, 60.0, 3, 200);
+    write_session(&root, "a3", "lm-03", "complete", Mode::Arena, 300.0, 3, 200);
+    write_session(
+        &root,
+        "a4-rec",
+        "lm-04",
+        "recovered",
+        Mode::Sky,
+        10.0,
+        3,
+        200,
+    );
+    // Bad: no samples.csv.
+    let d = write_session(
+        &root,
+        "bad-missing",
+        "lm-05",
+        "complete",
+        Mode::Sky,
+        0.0,
+        2,
+        50,
+    );
+    std::fs::remove_file(d.join("samples.csv")).unwrap();
+    // Bad: a torn line in the middle.
+    let d = write_session(
+        &root,
+        "bad-torn",
+        "lm-06",
+        "complete",
+        Mode::Sky,
+        0.0,
+        2,
+        50,
+    );
+    let text = std::fs::read_to_string(d.join("samples.csv")).unwrap();
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    lines[30].truncate(25);
+    std::fs::write(d.join("samples.csv"), lines.join("\n") + "\n").unwrap();
+    // Bad: written by a newer program.
+    let d = write_session(
+        &root,
+        "bad-newer",
+        "lm-07",
+        "complete",
+        Mode::Sky,
+        0.0,
+        2,
+        50,
+    );
+    let mut meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.join("session.json")).unwrap()).unwrap();
+    meta["format_version"] = 99.into();
+    std::fs::write(d.join("session.json"), meta.to_string()).unwrap();
+
+    let out = tmp.path().join("out");
+    let o = batch(&[root.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(0), "{stderr}");
+    for name in ["bad-missing", "bad-torn", "bad-newer"] {
+        assert!(
+            stderr.contains(name),
+            "{name} not named on stderr: {stderr}"
+        );
+    }
+    assert!(
+        stderr.contains("samples.csv:31"),
+        "torn line number: {stderr}"
+    );
+    assert!(stderr.contains("format_version 99"), "{stderr}");
+    // No progress bar when stderr is not a terminal.
+    assert!(!stderr.contains("sessions 0"), "{stderr}");
+
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    for c in ["session_id", "animal", "started_utc", "r_world", "r_arena"] {
+        assert!(h.iter().any(|x| x == c), "sessions.csv lacks {c}");
+    }
+    let ids: Vec<&str> = rows.iter().map(|r| col(&h, r, "session_id")).collect();
+    assert_eq!(ids, ["a1", "a2", "a3"], "recovered left out by default");
+    // A sky animal holds its world heading, an arena animal its arena heading.
+    let rw = |i: usize| col(&h, &rows[i], "r_world").parse::<f64>().unwrap();
+    let ra = |i: usize| col(&h, &rows[i], "r_arena").parse::<f64>().unwrap();
+    assert!(rw(0) > 0.9 && ra(0) < 0.5, "{} {}", rw(0), ra(0));
+    assert!(ra(2) > 0.9 && rw(2) < 0.5);
+
+    let (h, rows) = read_csv(&out.join("epochs.csv"));
+    for c in [
+        "session_id",
+        "animal",
+        "epoch",
+        "condition",
+        "n",
+        "mean_world_deg",
+        "r",
+    ] {
+        assert!(h.iter().any(|x| x == c), "epochs.csv lacks {c}");
+    }
+    assert_eq!(rows.len(), 9);
+    assert_eq!(col(&h, &rows[1], "condition"), "diffuser");
+    assert_eq!(col(&h, &rows[0], "n"), "180");
+
+    let (h, rows) = read_csv(&out.join("turns.csv"));
+    for c in ["session_id", "turn", "turn_deg", "world_shift_deg"] {
+        assert!(h.iter().any(|x| x == c), "turns.csv lacks {c}");
+    }
+    assert_eq!(rows.len(), 6);
+    assert_eq!(col(&h, &rows[0], "turn_deg"), "90");
+    let shift: f64 = col(&h, &rows[0], "world_shift_deg").parse().unwrap();
+    assert!(shift.abs() < 1e-6, "sky animal compensates: {shift}");
+    let shift: f64 = col(&h, &rows[5], "world_shift_deg").parse().unwrap();
+    assert!(
+        (shift - 90.0).abs() < 1e-6,
+        "arena animal follows the turn: {shift}"
+    );
+
+    let (h, rows) = read_csv(&out.join("population.csv"));
+    for c in [
+        "condition",
+        "animals",
+        "rayleigh_p",
+        "moore_r_star",
+        "hotelling_f",
+    ] {
+        assert!(h.iter().any(|x| x == c), "population.csv lacks {c}");
+    }
+    assert_eq!(rows.len(), 2);
+    assert_eq!(col(&h, &rows[0], "condition"), "diffuser");
+    assert_eq!(col(&h, &rows[0], "animals"), "3");
+
+    let (h, rows) = read_csv(&out.join("skipped.csv"));
+    let skipped: Vec<(&str, &str)> = rows
+        .iter()
+        .map(|r| (col(&h, r, "session_id"), col(&h, r, "kind")))
+        .collect();
+    assert!(skipped.contains(&("bad-missing", "error")), "{skipped:?}");
+    assert!(skipped.contains(&("bad-torn", "error")));
+    assert!(skipped.contains(&("bad-newer", "error")));
+    assert!(skipped.contains(&("a4-rec", "filtered")));
+    for f in ["comparisons.csv", "paired.csv", "animals.csv"] {
+        assert!(out.join(f).is_file(), "{f}");
+    }
+}
+
+#[test]
+fn filters_and_include_incomplete() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path();
+    write_session(root, "b1", "lm-01", "complete", Mode::Sky, 40.0, 2, 100);
+    write_session(root, "b2", "lm-01", "recovered", Mode::Sky, 50.0, 2, 100);
+    write_session(root, "b3", "lm-02", "complete", Mode::Arena, 50.0, 2, 100);
+    let out = root.join("out");
+    let o = batch(&[
+        root.join("b1").to_str().unwrap(),
+        root.join("b2").to_str().unwrap(),
+        root.join("b3").to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--include-incomplete",
+        "--condition",
+        "open sky",
+        "--min-r",
+        "0.8",
+    ]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let ids: Vec<&str> = rows.iter().map(|r| col(&h, r, "session_id")).collect();
+    assert_eq!(
+        ids,
+        ["b1", "b2"],
+        "b3 (arena animal, low r_world) filtered by --min-r"
+    );
+    let (h, rows) = read_csv(&out.join("epochs.csv"));
+    assert!(rows.iter().all(|r| col(&h, r, "condition") == "open sky"));
+    assert_eq!(rows.len(), 2);
+    // --from after every session: nothing kept, but the folders were read: exit 0.
+    let o = batch(&[
+        root.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--from",
+        "2030-01-01",
+    ]);
+    assert_eq!(o.status.code(), Some(0));
+    let (_, rows) = read_csv(&out.join("sessions.csv"));
+    assert!(rows.is_empty());
+}
+
+#[test]
+fn nothing_readable_is_an_error_and_bad_flags_are_named() {
+    let tmp = tempfile::tempdir().unwrap();
+    let o = batch(&[
+        tmp.path().join("nope").to_str().unwrap(),
+        "--out",
+        tmp.path().join("out").to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(stderr.contains("nope"), "{stderr}");
+    assert!(stderr.contains("skybearing: error:"), "{stderr}");
+    let o = batch(&[
+        tmp.path().to_str().unwrap(),
+        "--out",
+        "x",
+        "--from",
+        "yesterday",
+    ]);
+    assert_ne!(o.status.code(), Some(0));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("yesterday"));
+}

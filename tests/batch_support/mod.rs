@@ -1,0 +1,162 @@
+//! Synthetic session folders for the batch and report command tests: written in the contract's
+//! layout with a deterministic heading pattern, so the tests need neither the engine nor
+//! Python. (The demo archive under tests/data is checked separately against the reference.)
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+
+/// How the synthetic animal steers.
+#[derive(Clone, Copy, PartialEq)]
+pub enum Mode {
+    /// Keeps a world heading.
+    Sky,
+    /// Keeps an arena heading.
+    Arena,
+}
+
+/// Writes a session folder `root/id` through the archive's own writer: `epochs` epochs of `n`
+/// samples at 10 Hz, arena turns of +90 between epochs, conditions alternating "open sky" /
+/// "diffuser", the first 20 samples of each epoch not scored (a settle window). Returns the
+/// folder.
+#[allow(clippy::too_many_arguments)]
+pub fn write_session(
+    root: &Path,
+    id: &str,
+    animal: &str,
+    status: &str,
+    mode: Mode,
+    preferred_deg: f64,
+    epochs: usize,
+    n: usize,
+) -> PathBuf {
+    use skybearing::archive::{
+        FORMAT_VERSION, PlannedEpoch, SampleRow, SessionMeta, SessionStatus, SessionWriter,
+        SiteMeta, SummaryBuilder,
+    };
+    let conds = ["open sky", "diffuser"];
+    let planned: Vec<PlannedEpoch> = (0..epochs)
+        .map(|i| PlannedEpoch {
+            index: i + 1,
+            condition: conds[i % 2].to_string(),
+            turn_before_deg: if i == 0 { 0.0 } else { 90.0 },
+            duration_s: n as f64 / 10.0,
+        })
+        .collect();
+    let day = 1 + (id.len() % 5) as u32;
+    let start = chrono::TimeZone::with_ymd_and_hms(&chrono::Utc, 2026, 6, day, 9, 0, 0).unwrap();
+    let mut meta = SessionMeta {
+        format_version: FORMAT_VERSION,
+        id: id.to_string(),
+        status: SessionStatus::Running,
+        started_utc: start,
+        ended_utc: None,
+        animal: animal.to_string(),
+        site: SiteMeta {
+            name: "Larkfield Meadow (demo)".into(),
+            latitude_deg: 52.1,
+            longitude_deg: 5.2,
+            elevation_m: 10.0,
+        },
+        time_zone: "UTC".into(),
+        arena_mark_bearing_deg: 20.0,
+        arena_mark_bearing_measured_deg: 20.0,
+        arena_mark_reference: "true".into(),
+        declination_deg: Some(2.0),
+        protocol: serde_json::json!({"name": "synthetic"}),
+        epochs: planned.clone(),
+        rig: serde_json::json!({}),
+        program_version: skybearing::VERSION.into(),
+        mode: "demo".into(),
+        seed: None,
+        end_reason: None,
+        notes: 0,
+    };
+    let mut w = SessionWriter::create(root, &meta).unwrap();
+    let mut summary = SummaryBuilder::new(&planned);
+    let mut t = 0.0;
+    let mut bearing: f64 = 20.0;
+    for e in 0..epochs {
+        if e > 0 {
+            bearing = (bearing + 90.0) % 360.0;
+        }
+        for i in 0..n {
+            t += 0.1;
+            // A deterministic wobble of about ±27° around the preferred heading.
+            let wobble = 20.0 * ((i as f64) * 0.37).sin() + 7.0 * ((i as f64) * 1.3).cos();
+            let (world, arena) = match mode {
+                Mode::Sky => {
+                    let w = (preferred_deg + wobble).rem_euclid(360.0);
+                    (w, (w - bearing).rem_euclid(360.0))
+                }
+                Mode::Arena => {
+                    let a = (preferred_deg + wobble).rem_euclid(360.0);
+                    ((a + bearing).rem_euclid(360.0), a)
+                }
+            };
+            let sun = 130.0 + t / 240.0;
+            let row = SampleRow {
+                t_utc: start + chrono::Duration::milliseconds((t * 1000.0) as i64),
+                t_s: t,
+                epoch: e + 1,
+                arena_heading_deg: arena,
+                arena_bearing_deg: bearing,
+                world_heading_deg: world,
+                sun_azimuth_deg: sun,
+                sun_elevation_deg: 35.0,
+                flying: true,
+                scored: i >= 20,
+                sun_relative_heading_deg: (world - sun).rem_euclid(360.0),
+                zenith_evector_deg: 40.0,
+                raw: arena,
+            };
+            summary.push(&row);
+            w.append_sample(&row).unwrap();
+        }
+    }
+    meta.status = match status {
+        "complete" => SessionStatus::Complete,
+        "recovered" => SessionStatus::Recovered,
+        "aborted" => SessionStatus::Aborted,
+        _ => SessionStatus::Running,
+    };
+    meta.ended_utc = Some(start + chrono::Duration::milliseconds((t * 1000.0) as i64));
+    w.finish(&meta, &summary.summary()).unwrap()
+}
+
+/// Reads a CSV written by batch into (header, rows) with a small quote-aware splitter.
+pub fn read_csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
+    let text = std::fs::read_to_string(path).unwrap();
+    let mut lines = text.lines();
+    let header = split(lines.next().unwrap());
+    let rows = lines.map(split).collect();
+    (header, rows)
+}
+
+fn split(line: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut cur = String::new();
+    let mut q = false;
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '"' if q && chars.peek() == Some(&'"') => {
+                cur.push('"');
+                chars.next();
+            }
+            '"' => q = !q,
+            ',' if !q => out.push(std::mem::take(&mut cur)),
+            c => cur.push(c),
+        }
+    }
+    out.push(cur);
+    out
+}
+
+/// The value of column `name` in `row`.
+pub fn col<'a>(header: &[String], row: &'a [String], name: &str) -> &'a str {
+    let i = header
+        .iter()
+        .position(|h| h == name)
+        .unwrap_or_else(|| panic!("no column {name} in {header:?}"));
+    &row[i]
+}

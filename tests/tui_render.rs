@@ -1,0 +1,437 @@
+//! Screen rendering on ratatui's TestBackend with an invented, realistic snapshot
+//! (demo site "Larkfield Meadow (demo)", animal lm-07).
+
+use ratatui::Terminal;
+use ratatui::backend::TestBackend;
+use ratatui::style::{Color, Modifier};
+use skybearing::engine::snapshot::Snapshot;
+use skybearing::tui::sample::SnapshotBuilder;
+use skybearing::tui::{HeadingFrame, Mode, ThemeKind, UiState, draw};
+
+/// Renders `snap` at `w`×`h` and returns the screen as lines of text.
+fn screen(snap: &Snapshot, ui: &UiState, w: u16, h: u16) -> Vec<String> {
+    let buf = buffer(snap, ui, w, h);
+    (0..h)
+        .map(|y| {
+            let mut line = String::new();
+            for x in 0..w {
+                line.push_str(buf[(x, y)].symbol());
+            }
+            line
+        })
+        .collect()
+}
+
+fn buffer(snap: &Snapshot, ui: &UiState, w: u16, h: u16) -> ratatui::buffer::Buffer {
+    let mut terminal = Terminal::new(TestBackend::new(w, h)).unwrap();
+    terminal.draw(|f| draw(f, snap, ui)).unwrap();
+    terminal.backend().buffer().clone()
+}
+
+fn dump(lines: &[String]) -> String {
+    lines.join("\n")
+}
+
+/// A table line without the panel's left border.
+fn row_text(line: &str) -> &str {
+    line.trim_start_matches(['│', ' '])
+}
+
+fn find(lines: &[String], needle: &str) -> Option<usize> {
+    lines.iter().position(|l| l.contains(needle))
+}
+
+fn must_find(lines: &[String], needle: &str) -> usize {
+    find(lines, needle).unwrap_or_else(|| panic!("{needle:?} not on screen:\n{}", dump(lines)))
+}
+
+/// Checks shared by both main-screen sizes.
+fn main_screen_checks(lines: &[String], snap: &Snapshot) {
+    // Session line: animal, site, UTC clock, sun azimuth, countdown to the next turn.
+    let s = must_find(lines, "lm-07");
+    assert!(s <= 1, "session line not at the top:\n{}", dump(lines));
+    must_find(lines, "Larkfield Meadow (demo)");
+    must_find(lines, "07:42:30 UTC");
+    must_find(lines, "09:42:30 local");
+    must_find(lines, "az 121.1°");
+    must_find(lines, "el 43.9°");
+    must_find(lines, "elapsed 12:30");
+    must_find(lines, "left 12:30");
+    must_find(lines, "next turn +180° in 2:30");
+    // Glance line: flight state in words, heading in the chosen frame.
+    let g = must_find(lines, "FLYING");
+    assert!(g <= 3);
+    let world = skybearing::tui::format::deg(snap.world_heading_deg);
+    must_find(lines, &format!("world {world}"));
+    // Dial with world-frame cardinal labels, trace axis.
+    must_find(lines, "dial · world");
+    must_find(lines, "heading trace · world");
+    must_find(lines, "360");
+    // Epoch table: one row per epoch with its condition and bearing, in order.
+    let header = must_find(lines, "condition");
+    let mut last = header;
+    for e in &snap.epochs {
+        let row = lines
+            .iter()
+            .enumerate()
+            .skip(header + 1)
+            .find(|(_, l)| row_text(l).starts_with(&format!("{} ", e.index)))
+            .map(|(i, _)| i)
+            .unwrap_or_else(|| panic!("epoch {} missing:\n{}", e.index, dump(lines)));
+        assert!(row > last, "epoch rows out of order");
+        last = row;
+        let bearing = format!("{:.0}°", e.arena_bearing_deg);
+        assert!(lines[row].contains(&bearing), "row {row}: {}", lines[row]);
+    }
+    must_find(lines, "► now");
+    // Turn 2 (-90°) led into epoch 3 and its world shift is shown with a verdict mark.
+    let r3 = lines
+        .iter()
+        .find(|l| row_text(l).starts_with("3 "))
+        .unwrap();
+    assert!(
+        r3.contains("-90°") && r3.contains("-1°") && r3.contains('✓'),
+        "{r3}"
+    );
+    // Health: archive sync age, sensor rate, samples written.
+    must_find(lines, "saved 0.4 s ago");
+    must_find(lines, "99.8 Hz");
+    must_find(lines, "74 850 samples");
+    must_find(lines, "±0.6 ms");
+    must_find(lines, "malformed 2");
+    must_find(lines, "lost 0");
+    // Footer: the keys.
+    let footer = lines.last().unwrap();
+    for k in [" f ", " n ", " p ", " w ", " s ", " q ", " ? "] {
+        assert!(footer.contains(k), "footer lacks {k:?}: {footer}");
+    }
+    assert!(footer.contains("flight stop") && footer.contains("end") && footer.contains("help"));
+}
+
+#[test]
+fn main_screen_80x24() {
+    let snap = SnapshotBuilder::new().build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    main_screen_checks(&lines, &snap);
+    // Every line stays within the screen, the dial has its north label.
+    must_find(&lines, " N ");
+}
+
+#[test]
+fn main_screen_160x48_uses_the_room() {
+    let snap = SnapshotBuilder::new().build();
+    let lines = screen(&snap, &UiState::default(), 160, 48);
+    main_screen_checks(&lines, &snap);
+    // Wide extras: both means, the device panel with descriptions, recent events, last turn.
+    must_find(&lines, "arena°");
+    must_find(&lines, "devices · archive");
+    must_find(&lines, "simulated sensor on /dev/pts/4");
+    must_find(&lines, "recent events");
+    must_find(&lines, "note: wind gust");
+    must_find(&lines, "turn 2 -90° shift -1° ✓ kept");
+    must_find(&lines, "epoch 3/5 diffuser");
+    // The dial is taller than in the compact layout.
+    let n = must_find(&lines, " N ");
+    let s = lines.iter().rposition(|l| l.contains(" S ")).unwrap();
+    assert!(s - n >= 20, "dial only {} rows tall", s - n);
+}
+
+#[test]
+fn frames_switch_trace_and_dial() {
+    let snap = SnapshotBuilder::new().build();
+    for (frame, key) in [
+        (HeadingFrame::Arena, snap.arena_heading_deg),
+        (HeadingFrame::Sun, snap.sun_relative_heading_deg),
+    ] {
+        let ui = UiState {
+            frame,
+            ..UiState::default()
+        };
+        let lines = screen(&snap, &ui, 80, 24);
+        let name = frame.name();
+        must_find(&lines, &format!("dial · {name}"));
+        must_find(&lines, &format!("heading trace · {name}"));
+        must_find(
+            &lines,
+            &format!("{name} {}", skybearing::tui::format::deg(key)),
+        );
+    }
+}
+
+#[test]
+fn trace_shows_flight_stop_gap_and_turns() {
+    let snap = SnapshotBuilder::new().build();
+    let lines = screen(&snap, &UiState::default(), 160, 48);
+    let strip = lines[must_find(&lines, "fly ")].clone();
+    assert!(strip.contains('×'), "no stop marked: {strip}");
+    assert!(strip.contains('─'), "no flight marked: {strip}");
+    // Two turns fall within the last 10 minutes (at 5:00 and 10:00).
+    let top = lines[must_find(&lines, "360")].clone();
+    assert_eq!(top.matches('┆').count(), 2, "{top}");
+}
+
+#[test]
+fn help_overlay_lists_keys() {
+    let snap = SnapshotBuilder::new().build();
+    let ui = UiState {
+        mode: Mode::Help,
+        ..UiState::default()
+    };
+    for (w, h) in [(80, 24), (160, 48)] {
+        let lines = screen(&snap, &ui, w, h);
+        must_find(&lines, "HELP");
+        must_find(&lines, "mark a flight stop");
+        must_find(&lines, "write a note");
+        must_find(&lines, "end the session (asks; y confirms)");
+        must_find(&lines, "confirm the pending prompt");
+        must_find(&lines, "* sun");
+    }
+}
+
+#[test]
+fn turn_prompt_is_centered_with_countdown() {
+    let snap = SnapshotBuilder::new().prompt(true).build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    let title = must_find(&lines, "ACTION NEEDED");
+    assert!(
+        (6..=14).contains(&title),
+        "prompt box not near the middle:\n{}",
+        dump(&lines)
+    );
+    must_find(&lines, "Turn the arena +180°");
+    must_find(&lines, "next epoch due in 0:11");
+    must_find(&lines, "Enter");
+    // The footer offers Enter first.
+    assert!(lines.last().unwrap().contains("Enter"));
+    // Late prompts say so in words.
+    let mut late = snap.clone();
+    if let Some(p) = late.prompt.as_mut() {
+        p.countdown_s = -5.0;
+    }
+    let lines = screen(&late, &UiState::default(), 80, 24);
+    must_find(&lines, "LATE by 0:05");
+}
+
+#[test]
+fn confirm_and_note_boxes() {
+    let snap = SnapshotBuilder::new().build();
+    let ui = UiState {
+        mode: Mode::ConfirmEnd,
+        ..UiState::default()
+    };
+    let lines = screen(&snap, &ui, 80, 24);
+    must_find(&lines, "END SESSION?");
+    must_find(&lines, "any other key: go on");
+    let ui = UiState {
+        mode: Mode::Note("wind gust".into()),
+        ..UiState::default()
+    };
+    let lines = screen(&snap, &ui, 80, 24);
+    must_find(&lines, "> wind gust");
+    let ui = UiState {
+        mode: Mode::ConfirmSkip,
+        ..UiState::default()
+    };
+    let lines = screen(&snap, &ui, 80, 24);
+    must_find(&lines, "Skip the rest of epoch 3 (diffuser)?");
+}
+
+#[test]
+fn late_archive_sync_is_flagged_in_words() {
+    let snap = SnapshotBuilder::new().sync_age_s(Some(4.2)).build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "SAVED 4 s AGO");
+    must_find(&lines, "LAST SAVE 4.2 s AGO");
+    let snap = SnapshotBuilder::new().sync_age_s(None).build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "NOT SAVED YET");
+    // A fresh sync is not flagged.
+    let lines = screen(&SnapshotBuilder::new().build(), &UiState::default(), 80, 24);
+    assert!(find(&lines, "AGO").is_none());
+}
+
+#[test]
+fn late_sync_is_red_in_colour_and_reversed_in_mono() {
+    let snap = SnapshotBuilder::new().sync_age_s(Some(9.0)).build();
+    let pos = |buf: &ratatui::buffer::Buffer| {
+        let area = buf.area;
+        for y in 0..area.height {
+            for x in 0..area.width.saturating_sub(4) {
+                if buf[(x, y)].symbol() == "L"
+                    && buf[(x + 1, y)].symbol() == "A"
+                    && buf[(x + 2, y)].symbol() == "S"
+                {
+                    return (x, y);
+                }
+            }
+        }
+        panic!("no LAST SAVE flag");
+    };
+    let buf = buffer(&snap, &UiState::default(), 80, 24);
+    let (x, y) = pos(&buf);
+    assert_eq!(buf[(x, y)].bg, Color::Indexed(160));
+    let ui = UiState::with_theme(ThemeKind::Mono);
+    let buf = buffer(&snap, &ui, 80, 24);
+    let (x, y) = pos(&buf);
+    assert!(buf[(x, y)].modifier.contains(Modifier::REVERSED));
+}
+
+#[test]
+fn mono_theme_uses_no_colour_anywhere() {
+    let snap = SnapshotBuilder::new()
+        .prompt(true)
+        .sync_age_s(Some(8.0))
+        .sensor_lost(true)
+        .build();
+    let ui = UiState::with_theme(ThemeKind::Mono);
+    for (w, h) in [(80, 24), (160, 48)] {
+        let buf = buffer(&snap, &ui, w, h);
+        for cell in buf.content() {
+            assert_eq!(cell.fg, Color::Reset, "{cell:?}");
+            assert_eq!(cell.bg, Color::Reset, "{cell:?}");
+        }
+    }
+}
+
+#[test]
+fn sunlight_theme_has_no_grey_text() {
+    let snap = SnapshotBuilder::new().build();
+    let buf = buffer(&snap, &UiState::default(), 160, 48);
+    for cell in buf.content() {
+        assert!(
+            !matches!(
+                cell.fg,
+                Color::DarkGray | Color::Gray | Color::Indexed(232..=255)
+            ),
+            "{cell:?}"
+        );
+    }
+}
+
+#[test]
+fn sensor_lost_and_stops_in_words() {
+    let snap = SnapshotBuilder::new().sensor_lost(true).build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "SENSOR LOST");
+    must_find(&lines, "no heading");
+    let snap = SnapshotBuilder::new().flying(false).paused(true).build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "NOT FLYING");
+    must_find(&lines, "PAUSED");
+    assert!(lines.last().unwrap().contains("flight start"));
+    assert!(lines.last().unwrap().contains("resume"));
+}
+
+#[test]
+fn ended_frame_names_the_folder() {
+    let snap = SnapshotBuilder::new().ended(true).build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "SESSION ENDED");
+    must_find(&lines, "session saved to");
+    must_find(&lines, "sessions/20260614T073000Z-lm-07");
+}
+
+#[test]
+fn many_epochs_keep_the_current_row_visible() {
+    let snap = SnapshotBuilder::hour_of_history().build();
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "► now");
+    must_find(&lines, "epochs ");
+    must_find(&lines, " of 13 ");
+}
+
+#[test]
+fn odd_sizes_do_not_panic() {
+    let snaps = [
+        SnapshotBuilder::new().build(),
+        SnapshotBuilder::new().prompt(true).build(),
+        SnapshotBuilder::hour_of_history().build(),
+        SnapshotBuilder::new().t_s(0.0).trace_points(0).build(),
+        SnapshotBuilder::new().ended(true).build(),
+    ];
+    let modes = [
+        Mode::Normal,
+        Mode::Help,
+        Mode::ConfirmEnd,
+        Mode::Note("x".repeat(300)),
+    ];
+    for snap in &snaps {
+        for mode in &modes {
+            let ui = UiState {
+                mode: mode.clone(),
+                ..UiState::default()
+            };
+            for (w, h) in [
+                (1, 1),
+                (20, 10),
+                (43, 13),
+                (44, 14),
+                (60, 18),
+                (79, 23),
+                (119, 33),
+                (120, 34),
+                (300, 80),
+            ] {
+                let _ = screen(snap, &ui, w, h);
+            }
+        }
+    }
+}
+
+#[test]
+fn tiny_screen_keeps_the_essentials() {
+    let snap = SnapshotBuilder::new().build();
+    let lines = screen(&snap, &UiState::default(), 20, 10);
+    must_find(&lines, "FLYING");
+    must_find(&lines, "world");
+    must_find(&lines, "saved");
+    let lines = screen(&snap, &UiState::default(), 300, 80);
+    main_screen_checks(&lines, &snap);
+}
+
+#[test]
+fn numbers_are_never_cut_in_narrow_tables() {
+    let snap = SnapshotBuilder::hour_of_history().build();
+    for (w, h) in [(60, 18), (80, 24), (100, 30), (120, 34), (160, 48)] {
+        let lines = screen(&snap, &UiState::default(), w, h);
+        for l in &lines {
+            assert!(!l.contains("<0.00 "), "{w}x{h}: cut p-value: {l}");
+            assert!(!l.contains("<0.00│"), "{w}x{h}: cut p-value: {l}");
+        }
+        must_find(&lines, "0.001 ");
+    }
+}
+
+#[test]
+fn every_symbol_is_one_cell_wide() {
+    // Wide or emoji-presentation symbols break alignment on some terminals: none are used.
+    let snaps = [
+        SnapshotBuilder::new().build(),
+        SnapshotBuilder::new()
+            .prompt(true)
+            .sync_age_s(Some(9.0))
+            .sensor_lost(true)
+            .paused(true)
+            .build(),
+        SnapshotBuilder::new().ended(true).build(),
+    ];
+    for snap in &snaps {
+        for mode in [Mode::Normal, Mode::Help, Mode::ConfirmEnd] {
+            let ui = UiState {
+                mode,
+                ..UiState::default()
+            };
+            let buf = buffer(snap, &ui, 160, 48);
+            for cell in buf.content() {
+                let w = ratatui::text::Span::raw(cell.symbol()).width();
+                assert!(w <= 1, "{:?} is {w} cells wide", cell.symbol());
+                for ch in cell.symbol().chars() {
+                    assert!(
+                        !matches!(ch as u32, 0x2600..=0x26FF | 0x1F300..=0x1FAFF | 0x25B6),
+                        "emoji-capable symbol {ch:?}"
+                    );
+                }
+            }
+        }
+    }
+}
