@@ -17,8 +17,9 @@ Sources of each number:
 - n_eff: AR(1) rule n (1 - rho1) / (1 + rho1) on the lag-1 autocorrelation of the unit vectors,
   pairs only inside runs of consecutive scored samples (Bayley & Hammersley 1946), written out
   here with numpy: the same definition the program documents, computed independently;
-- Moore's modified Rayleigh test (Moore 1980; Zar 2010 27.1): R* from ranks (scipy rankdata),
-  p = exp(-|sum i u_i|^2 / sum i^2) (the large-sample chi-square(2) law of the ranked sum);
+- Moore's modified Rayleigh test (Moore 1980; Zar 2010 27.6): R* from ranks (scipy rankdata);
+  its p follows the moment-corrected tail documented in src/circular (no reference library
+  has Moore's test), written out here with numpy;
 - Hotelling's one-sample test (Batschelet 1981 7.2; Zar 2010 eq. 27.40) with numpy, p from
   scipy.stats.f;
 - Watson-Williams: pycircstat2.hypothesis.watson_williams_test;
@@ -223,7 +224,13 @@ def moore(means, lengths):
     ss = float((ranks * np.sin(rad)).sum())
     len2 = sc * sc + ss * ss
     r_star = math.sqrt(len2) / n**1.5
-    return r_star, math.exp(-len2 / float((ranks**2).sum()))
+    # p: the moment-corrected exponential tail that skybearing's circular module documents
+    # (t = |sum i u_i|^2 / sum i^2, delta = sum i^4 / (sum i^2)^2,
+    # p = exp(-t + delta (t/2 - t^2/4)); tends to Moore's exp(-3 R*^2) for large n).
+    s2, s4 = float((ranks**2).sum()), float((ranks**4).sum())
+    t = len2 / s2
+    delta = s4 / s2**2
+    return r_star, min(max(math.exp(-t + delta * (t / 2 - t * t / 4)), 0.0), 1.0)
 
 
 def hotelling(means, lengths):
