@@ -232,3 +232,61 @@ fn nothing_readable_is_an_error_and_bad_flags_are_named() {
     assert_ne!(o.status.code(), Some(0));
     assert!(String::from_utf8_lossy(&o.stderr).contains("yesterday"));
 }
+
+/// An interrupted session (status running, last line torn by the interruption) is left out by
+/// default and read, without its torn line, with --include-incomplete; a folder of folders of
+/// sessions works.
+#[test]
+fn interrupted_session_with_a_torn_tail() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("field-days");
+    let day1 = root.join("day1");
+    write_session(&day1, "c1", "lm-01", "complete", Mode::Sky, 40.0, 2, 100);
+    let d = write_session(&day1, "c2", "lm-02", "running", Mode::Sky, 80.0, 2, 100);
+    let text = std::fs::read_to_string(d.join("samples.csv")).unwrap();
+    let rows_before = text.lines().count() - 1;
+    std::fs::write(d.join("samples.csv"), &text[..text.len() - 20]).unwrap();
+    write_session(
+        &root.join("day2"),
+        "c3",
+        "lm-03",
+        "complete",
+        Mode::Arena,
+        10.0,
+        2,
+        100,
+    );
+
+    let out = tmp.path().join("out");
+    let o = batch(&[root.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let ids: Vec<&str> = rows.iter().map(|r| col(&h, r, "session_id")).collect();
+    assert_eq!(ids, ["c1", "c3"]);
+
+    let o = batch(&[
+        root.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--include-incomplete",
+    ]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let c2 = rows
+        .iter()
+        .find(|r| col(&h, r, "session_id") == "c2")
+        .unwrap();
+    assert_eq!(col(&h, c2, "status"), "running");
+    assert_eq!(col(&h, c2, "torn_tail"), "1");
+    assert_eq!(col(&h, c2, "rows"), (rows_before - 1).to_string());
+}
