@@ -312,3 +312,95 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
     }
     t
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::analysis::session::EpochStats;
+    use crate::analysis::table::format_cell;
+
+    fn epoch(index: usize, condition: &str, around_deg: f64) -> EpochStats {
+        let mut world = HeadingAccumulator::new();
+        for k in 0..50 {
+            world.push_deg(around_deg + (k % 5) as f64 * 4.0 - 8.0);
+        }
+        EpochStats {
+            index,
+            condition: condition.into(),
+            world,
+            ..Default::default()
+        }
+    }
+
+    fn session(id: &str, animal: &str, a_deg: f64, shift_deg: f64) -> SessionStats {
+        let mut s = SessionStats::default();
+        s.info.id = id.into();
+        s.info.animal = animal.into();
+        s.epochs = vec![
+            epoch(1, "open sky", a_deg),
+            epoch(2, "diffuser", a_deg + shift_deg),
+        ];
+        for e in &s.epochs {
+            s.world.merge(&e.world);
+        }
+        s
+    }
+
+    fn cell(t: &Table, row: usize, name: &str) -> String {
+        let i = t.header.iter().position(|h| h == name).unwrap();
+        format_cell(&t.rows[row][i])
+    }
+
+    #[test]
+    fn one_vector_per_animal_and_condition_and_the_tests_between_them() {
+        let ss = [
+            session("s1", "lm-01", 10.0, 90.0),
+            session("s2", "lm-02", 20.0, 95.0),
+            session("s3", "lm-03", 35.0, 85.0),
+            session("s4", "lm-01", 12.0, 90.0),
+        ];
+        let refs: Vec<&SessionStats> = ss.iter().collect();
+        let v = animal_vectors(&refs);
+        assert_eq!(v.len(), 2);
+        assert_eq!(
+            v["open sky"].len(),
+            3,
+            "lm-01's two sessions pool into one vector"
+        );
+        assert_eq!(v["open sky"]["lm-01"].sessions, 2);
+
+        let pop = population_table(&v);
+        // Conditions in name order: diffuser, open sky.
+        assert_eq!(cell(&pop, 1, "condition"), "open sky");
+        assert_eq!(cell(&pop, 1, "animals"), "3");
+        let mean: f64 = cell(&pop, 1, "mean_deg").parse().unwrap();
+        assert!((mean - 21.0).abs() < 5.0, "{mean}");
+        // Three animals: Hotelling (needs 3) is defined, with 1 denominator df.
+        assert_eq!(cell(&pop, 1, "hotelling_df2"), "1");
+
+        let cmp = comparisons_table(&v);
+        let p: f64 = cell(&cmp, 0, "ww_p").parse().unwrap();
+        assert!(p < 0.01, "90° apart: {p}");
+
+        let (paired, changes) = paired_tables(&v);
+        assert_eq!(cell(&paired, 0, "animals"), "3");
+        let change: f64 = cell(&paired, 0, "mean_change_deg").parse().unwrap();
+        // b − a with a = diffuser, b = open sky: about −90.
+        assert!((change + 90.0).abs() < 5.0, "{change}");
+        let vp: f64 = cell(&paired, 0, "v_p").parse().unwrap();
+        assert!(
+            vp > 0.3,
+            "changes of −90° are no evidence of 'no change': {vp}"
+        );
+        assert_eq!(changes.rows.len(), 3);
+
+        let animals = animals_table(&refs);
+        assert_eq!(cell(&animals, 0, "animal"), "lm-01");
+        assert_eq!(cell(&animals, 0, "sessions"), "2");
+        assert_eq!(
+            cell(&animals, 1, "r_between_sessions"),
+            "",
+            "one session: no spread"
+        );
+    }
+}
