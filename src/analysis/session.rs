@@ -217,7 +217,7 @@ impl SessionPass {
             e.world.push_deg(s.world_heading_deg);
             e.arena.push_deg(s.arena_heading_deg);
             let r = *e.sun_azimuth_ref_deg.get_or_insert(s.sun_azimuth_deg);
-            e.sum_sun_azimuth_offset_deg += signed_difference_deg(r, s.sun_azimuth_deg);
+            e.sum_sun_azimuth_offset_deg += offset_deg(r, s.sun_azimuth_deg);
             e.sum_sun_elevation_deg += s.sun_elevation_deg;
         }
     }
@@ -268,6 +268,24 @@ impl SessionPass {
     }
 }
 
+/// `to − from` in (-180, 180]: [`signed_difference_deg`] without its remainder operation for
+/// the usual case of two angles in [0, 360) (as the archive writes them).
+#[inline]
+fn offset_deg(from_deg: f64, to_deg: f64) -> f64 {
+    let d = to_deg - from_deg;
+    if (-360.0..360.0).contains(&d) {
+        if d > 180.0 {
+            d - 360.0
+        } else if d <= -180.0 {
+            d + 360.0
+        } else {
+            d
+        }
+    } else {
+        signed_difference_deg(from_deg, to_deg)
+    }
+}
+
 /// Reads a session folder: session.json, then one streaming pass over samples.csv (memory does
 /// not grow with the file).
 pub fn analyse_session(dir: &Path) -> Result<SessionStats, AnalysisError> {
@@ -314,4 +332,27 @@ fn analyse(
         also(&r);
     })?;
     Ok(pass.finish(stats.torn.is_some()))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn offset_matches_signed_difference() {
+        for a in [
+            0.0, 0.5, 90.0, 179.999, 180.0, 180.001, 270.0, 359.999, -10.0, 725.0,
+        ] {
+            for b in [
+                0.0, 0.5, 90.0, 179.999, 180.0, 180.001, 270.0, 359.999, 400.0,
+            ] {
+                // Equal up to the rounding of the remainder operation.
+                let (x, y) = (offset_deg(a, b), signed_difference_deg(a, b));
+                assert!(
+                    (x - y).abs() < 1e-9 && x > -180.0 && x <= 180.0,
+                    "{a} {b}: {x} {y}"
+                );
+            }
+        }
+    }
 }
