@@ -290,3 +290,31 @@ fn interrupted_session_with_a_torn_tail() {
     assert_eq!(col(&h, c2, "torn_tail"), "1");
     assert_eq!(col(&h, c2, "rows"), (rows_before - 1).to_string());
 }
+
+/// The fast path of batch reads what the archive's writer writes (no fall-back to the general
+/// reader), and finds the same rows, both for the writer's own files and the demo archive.
+#[test]
+fn fast_path_reads_archive_files_without_falling_back() {
+    use skybearing::analysis::scan::{ScanOutcome, scan_samples};
+    let tmp = tempfile::tempdir().unwrap();
+    let d = write_session(
+        tmp.path(),
+        "f1",
+        "lm-01",
+        "complete",
+        Mode::Sky,
+        40.0,
+        3,
+        500,
+    );
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data/sessions/2026-06-21_larkfield-meadow-demo_lm-01_001");
+    for dir in [d, demo] {
+        let path = dir.join("samples.csv");
+        let mut n = 0u64;
+        let out = scan_samples(&path, |_| n += 1);
+        let general = skybearing::archive::read::for_each_sample(&path, |_| {}).unwrap();
+        assert_eq!(out, ScanOutcome::Done(general.rows), "{}", path.display());
+        assert_eq!(n, general.rows);
+    }
+}
