@@ -226,9 +226,9 @@ pub struct VTestResult {
 /// V-test (modified Rayleigh test) for uniformity against a unimodal alternative with a
 /// specified mean direction (Durand & Greenwood 1958; Zar 2010 §27.1, eq. 27.5–27.6).
 ///
-/// V = R cos(θ̄ − expected), u = V·sqrt(2/n), p = 1 − Φ(u) by the normal approximation (not
-/// Zar's table of critical u; the table converges to the normal quantiles and differs from it
-/// by less than 0.01 in u for n ≥ 10, Zar 2010 Table B.35 (from memory)). This is the p of
+/// V = R cos(θ̄ − expected), u = V·sqrt(2/n), p = 1 − Φ(u) by the normal approximation, not
+/// Zar's table of critical u (Zar 2010 Table B.35), whose values approach the normal quantiles
+/// as n grows; for small n (below about 10) the approximation is rough. This is the p of
 /// `pycircstat2.hypothesis.V_test`; `astropy.stats.vtest` adds an Edgeworth correction and gives
 /// slightly different p for small n. n may be an effective, non-integer sample size. Angles in
 /// degrees, compass convention. With r = 0 (no mean direction) V = 0 and p = 0.5.

@@ -1,9 +1,12 @@
 //! Compensated summation used by every sum of sines and cosines in this module.
 
-/// Neumaier's improved Kahan–Babuška summation (Neumaier 1974, "Rundungsfehleranalyse einiger
-/// Verfahren zur Summation endlicher Summen", ZAMM 54). The error of the running sum stays at a
-/// few units in the last place independent of the number of terms, instead of growing like
-/// n·ε as for a plain running sum.
+/// Compensated summation: Neumaier's improved Kahan–Babuška summation (Neumaier 1974,
+/// "Rundungsfehleranalyse einiger Verfahren zur Summation endlicher Summen", ZAMM 54), with the
+/// rounding error of each addition obtained by Knuth's branch-free TwoSum, which is the
+/// cascaded "Sum2" of Ogita, Rump & Oishi 2005 (SIAM J. Sci. Comput. 26). The result is as
+/// accurate as if computed in twice the working precision and then rounded, so the error stays
+/// at a few units in the last place independent of the number of terms (a plain running sum
+/// grows like n·ε).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub(crate) struct Neumaier {
     sum: f64,
@@ -14,12 +17,12 @@ impl Neumaier {
     /// Adds one term.
     #[inline(always)]
     pub(crate) fn add(&mut self, x: f64) {
+        // TwoSum (Knuth, TAOCP vol. 2 §4.2.2): t + e == sum + x exactly, whatever the order
+        // of magnitudes, with no branch.
         let t = self.sum + x;
-        if self.sum.abs() >= x.abs() {
-            self.comp += (self.sum - t) + x;
-        } else {
-            self.comp += (x - t) + self.sum;
-        }
+        let bp = t - self.sum;
+        let e = (self.sum - (t - bp)) + (x - bp);
+        self.comp += e;
         self.sum = t;
     }
 

@@ -41,44 +41,57 @@ const C6: f64 = -1.135_964_755_778_819_482_65e-11;
 const ROUND_MAGIC: f64 = 6_755_399_441_055_744.0;
 const DEG_TO_RAD: f64 = std::f64::consts::PI / 180.0;
 
+/// Both kernels at once: the two degree-5 polynomials in z = x² are evaluated side by side
+/// (Horner, in lanes of a pair the compiler can keep in one SIMD register), then
+/// sin x = x + x·z·P_s(z) and cos x = (1 − z/2) + z²·P_c(z), with the exact-tail trick of
+/// fdlibm's __kernel_cos for 1 − z/2.
 #[inline(always)]
-fn kernel_sin(x: f64) -> f64 {
+fn kernel_sin_cos(x: f64) -> (f64, f64) {
     let z = x * x;
-    let w = z * z;
-    let r = S2 + z * (S3 + z * S4) + z * w * (S5 + z * S6);
-    let v = z * x;
-    x + v * (S1 + z * r)
-}
-
-#[inline(always)]
-fn kernel_cos(x: f64) -> f64 {
-    let z = x * x;
-    let w = z * z;
-    let r = z * (C1 + z * (C2 + z * C3)) + w * w * (C4 + z * (C5 + z * C6));
+    let p = horner_pair(z);
+    let sin = x + (x * z) * p[0];
     let hz = 0.5 * z;
     let w = 1.0 - hz;
-    w + (((1.0 - w) - hz) + z * r)
+    let cos = w + (((1.0 - w) - hz) + (z * z) * p[1]);
+    (sin, cos)
+}
+
+/// [P_s(z), P_c(z)] by Horner's rule, the two polynomials side by side.
+#[inline(always)]
+fn horner_pair(z: f64) -> [f64; 2] {
+    let mut p = [S6, C6];
+    for (cs, cc) in [(S5, C5), (S4, C4), (S3, C3), (S2, C2), (S1, C1)] {
+        p = [p[0] * z + cs, p[1] * z + cc];
+    }
+    p
 }
 
 /// (sin θ, cos θ) for θ in degrees (any finite value; NaN in, NaN out).
 #[inline(always)]
 pub(crate) fn sin_cos_deg(angle_deg: f64) -> (f64, f64) {
-    // Beyond 2^40 degrees first take the exact remainder modulo 360.
+    // Beyond 10^12 degrees first take the exact remainder modulo 360.
     let a = if angle_deg.abs() < 1.0e12 {
         angle_deg
     } else {
         angle_deg % 360.0
     };
-    let qf = (a * (1.0 / 90.0) + ROUND_MAGIC) - ROUND_MAGIC;
+    let shifted = a * (1.0 / 90.0) + ROUND_MAGIC;
+    let qf = shifted - ROUND_MAGIC;
+    // The quadrant k = round(a/90) mod 4 sits in the low mantissa bits of `shifted`
+    // (1.5·2^52 + k, two's complement modulo 4 also for negative k).
+    let q = shifted.to_bits();
     // Exact: a and 90·qf are both multiples of the unit in the last place of a.
     let x = (a - 90.0 * qf) * DEG_TO_RAD;
-    let (s, c) = (kernel_sin(x), kernel_cos(x));
-    match (qf as i64) & 3 {
-        0 => (s, c),
-        1 => (c, -s),
-        2 => (-s, -c),
-        _ => (-c, s),
-    }
+    let (s, c) = kernel_sin_cos(x);
+    // Quadrant k: (sin, cos) of θ = x + 90k is (s, c), (c, −s), (−s, −c), (−c, s); done
+    // without branches: swap on odd k, sign of sin from bit 1 of k, of cos from bit 1 of k+1.
+    let (ss, cc) = if q & 1 == 0 { (s, c) } else { (c, s) };
+    let sin_sign = (q & 2) << 62;
+    let cos_sign = (q.wrapping_add(1) & 2) << 62;
+    (
+        f64::from_bits(ss.to_bits() ^ sin_sign),
+        f64::from_bits(cc.to_bits() ^ cos_sign),
+    )
 }
 
 #[cfg(test)]

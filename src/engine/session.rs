@@ -14,7 +14,6 @@ use crate::engine::snapshot::{
 };
 use crate::frames::{
     arena_bearing_after_rotation_deg, sun_relative_heading_deg, world_heading_deg, wrap_360_deg,
-    wrap_signed_deg,
 };
 use crate::protocol::{ArenaMove, Protocol};
 use crate::rig::config::{BearingReference, Rig};
@@ -92,6 +91,9 @@ pub struct Outcome {
 
 /// Session seconds of sim time advanced per loop iteration at `--speed max`.
 const MAX_SPEED_STEP_S: f64 = 0.05;
+/// Resolution of `t_s` in the archive (4 decimals): consecutive samples are at least this far
+/// apart.
+const T_S_RESOLUTION_S: f64 = 1e-4;
 /// Spacing of trace points kept for screens, session seconds.
 const TRACE_SPACING_S: f64 = 0.25;
 /// Length of the trace kept for screens, session seconds.
@@ -232,7 +234,7 @@ impl Engine {
         let mut pos = 0.0;
         let mut epochs = Vec::with_capacity(setup.protocol.epochs.len());
         for e in &setup.protocol.epochs {
-            let turn = resolve_turn_deg(e.arena, pos);
+            let turn = e.arena.turn_from_deg(pos);
             pos += turn;
             epochs.push(EpochRt {
                 index: e.index,
@@ -404,7 +406,7 @@ impl Engine {
             };
             return Ok(());
         }
-        let by_deg = resolve_turn_deg(self.epochs[next].arena, self.position_deg);
+        let by_deg = self.epochs[next].arena.turn_from_deg(self.position_deg);
         if by_deg.abs() > 1e-9 {
             return self.start_turn(next, by_deg, t);
         }
@@ -747,8 +749,7 @@ impl Engine {
                     self.event(t, "prompt_confirmed", "")?;
                     match kind {
                         PromptKind::Protocol => {
-                            let by_deg =
-                                resolve_turn_deg(self.epochs[next].arena, self.position_deg);
+                            let by_deg = self.epochs[next].arena.turn_from_deg(self.position_deg);
                             if by_deg.abs() > 1e-9 {
                                 self.start_turn(next, by_deg, t)?;
                                 self.drive_turn(turntable)?;
@@ -837,16 +838,6 @@ impl Engine {
             }
             // A fault may have moved us on; loop in case a new turn is pending.
         }
-    }
-}
-
-/// The signed turn, degrees, that an arena move needs from position `current_deg`. A `GoTo`
-/// takes the shortest way round; exactly opposite positions turn +180.
-pub fn resolve_turn_deg(m: ArenaMove, current_deg: f64) -> f64 {
-    match m {
-        ArenaMove::Stay => 0.0,
-        ArenaMove::TurnBy { deg } => deg,
-        ArenaMove::GoTo { position_deg } => wrap_signed_deg(position_deg - current_deg),
     }
 }
 
@@ -1069,8 +1060,15 @@ impl Engine {
                 | SensorEvent::Lost { t_s }
                 | SensorEvent::Back { t_s } => *t_s,
             };
-            // Never let a late stamp bend time backwards.
-            let t = t.max(self.t_s);
+            // Never let a late stamp bend time backwards. Lines read from a serial port in one
+            // burst carry the same arrival stamp: samples are spread by the archive's time
+            // resolution (0.1 ms) so that t_s strictly increases.
+            let mut t = t.max(self.t_s);
+            if matches!(ev, SensorEvent::Sample { .. })
+                && let Some((last, ..)) = self.last_sample
+            {
+                t = t.max(last + T_S_RESOLUTION_S);
+            }
             self.poll_turntable(t, turntable, tt_buf)?;
             if let Some(op) = operator.as_deref_mut() {
                 marks.clear();
@@ -1236,7 +1234,7 @@ impl Engine {
         };
         let (next_turn_in_s, next_turn_deg) = match (&self.phase, k_opt) {
             (Phase::Running { .. }, Some(k)) if k + 1 < self.epochs.len() => {
-                let t = resolve_turn_deg(self.epochs[k + 1].arena, pos);
+                let t = self.epochs[k + 1].arena.turn_from_deg(pos);
                 if t.abs() > 1e-9 {
                     (Some(epoch_left), Some(t))
                 } else {
@@ -1321,5 +1319,341 @@ impl Engine {
             ended: false,
             end_reason: None,
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::protocol::{EpochPlan, FlightRules};
+
+    /// A turntable that replies after a fixed delay, faults, or is turned by hand.
+    struct FakeTable {
+        manual: bool,
+        fail: bool,
+        delay_s: f64,
+        pending: Option<(f64, f64)>,
+        commanded: Vec<f64>,
+    }
+
+    impl FakeTable {
+        fn motor(delay_s: f64) -> Self {
+            Self {
+                manual: false,
+                fail: false,
+                delay_s,
+                pending: None,
+                commanded: Vec::new(),
+            }
+        }
+    }
+
+    impl Turntable for FakeTable {
+        fn start_turn(&mut self, now_s: f64, by_deg: f64) -> Result<(), crate::rig::RigError> {
+            self.commanded.push(by_deg);
+            self.pending = Some((now_s + self.delay_s, by_deg));
+            Ok(())
+        }
+        fn poll(
+            &mut self,
+            now_s: f64,
+            out: &mut Vec<TurntableEvent>,
+        ) -> Result<(), crate::rig::RigError> {
+            if let Some((at, _)) = self.pending
+                && at <= now_s
+            {
+                self.pending = None;
+                out.push(if self.fail {
+                    TurntableEvent::Fault {
+                        t_s: at,
+                        text: "no reply".into(),
+                    }
+                } else {
+                    TurntableEvent::Done {
+                        t_s: at,
+                        position_deg: None,
+                    }
+                });
+            }
+            Ok(())
+        }
+        fn is_manual(&self) -> bool {
+            self.manual
+        }
+        fn describe(&self) -> String {
+            "fake".into()
+        }
+    }
+
+    fn epoch(index: usize, duration_s: f64, arena: ArenaMove, prompt: Option<&str>) -> EpochPlan {
+        EpochPlan {
+            index,
+            duration_s,
+            condition: "open sky".into(),
+            arena,
+            prompt: prompt.map(str::to_string),
+        }
+    }
+
+    fn engine(dir: &std::path::Path, epochs: Vec<EpochPlan>, flight: FlightRules) -> Engine {
+        let protocol = Protocol {
+            name: "test".into(),
+            description: String::new(),
+            settle_s: 2.0,
+            flight,
+            epochs,
+        };
+        let setup = SessionSetup {
+            mode: "demo".into(),
+            animal: "t-01".into(),
+            sessions_dir: dir.to_path_buf(),
+            protocol,
+            rig: crate::rig::config::demo_rig(),
+            start_utc: "2026-06-14T07:30:00Z".parse().expect("time"),
+            speed: Speed::Max,
+            seed: None,
+            extra: serde_json::Value::Null,
+        };
+        Engine::new(setup).expect("engine")
+    }
+
+    fn started(e: &Engine, k: usize) -> Option<f64> {
+        e.epochs[k].started_s
+    }
+
+    fn cmd(e: &mut Engine, t: f64, c: Command, tt: &mut FakeTable) {
+        e.on_command(t, c, tt).expect("command");
+        e.drive_turn(tt).expect("turn");
+    }
+
+    fn advance(e: &mut Engine, t: f64, tt: &mut FakeTable) {
+        let mut buf = Vec::new();
+        e.poll_turntable(t, tt, &mut buf).expect("poll");
+        e.advance_to(t).expect("advance");
+        e.drive_turn(tt).expect("turn");
+    }
+
+    #[test]
+    fn epoch_clock_pauses_while_not_flying() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let rules = FlightRules {
+            pause_clock_when_stopped: true,
+            ..Default::default()
+        };
+        let mut e = engine(
+            tmp.path(),
+            vec![
+                epoch(1, 10.0, ArenaMove::Stay, None),
+                epoch(2, 10.0, ArenaMove::Stay, None),
+            ],
+            rules,
+        );
+        let mut tt = FakeTable::motor(1.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        advance(&mut e, 3.0, &mut tt);
+        cmd(&mut e, 3.0, Command::FlightStop, &mut tt);
+        advance(&mut e, 8.0, &mut tt);
+        cmd(&mut e, 8.0, Command::FlightStart, &mut tt);
+        advance(&mut e, 14.9, &mut tt);
+        assert_eq!(started(&e, 1), None, "3 s + 6.9 s of clock is not yet 10 s");
+        advance(&mut e, 20.0, &mut tt);
+        // 3 s before the stop + 7 s after it: the epoch ends at exactly 15 s.
+        assert!((started(&e, 1).expect("epoch 2") - 15.0).abs() < 1e-9);
+        assert_eq!(e.epochs[0].state, EpochState::Done);
+    }
+
+    #[test]
+    fn epoch_is_extended_until_it_has_enough_flying_time() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let rules = FlightRules {
+            min_flying_s: Some(8.0),
+            ..Default::default()
+        };
+        let mut e = engine(
+            tmp.path(),
+            vec![
+                epoch(1, 10.0, ArenaMove::Stay, None),
+                epoch(2, 5.0, ArenaMove::Stay, None),
+            ],
+            rules,
+        );
+        let mut tt = FakeTable::motor(1.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        cmd(&mut e, 2.0, Command::FlightStop, &mut tt);
+        cmd(&mut e, 6.0, Command::FlightStart, &mut tt);
+        advance(&mut e, 11.0, &mut tt);
+        assert_eq!(started(&e, 1), None, "only 7 flying seconds at 11 s");
+        advance(&mut e, 30.0, &mut tt);
+        assert!((started(&e, 1).expect("epoch 2") - 12.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn session_aborts_after_too_long_without_flight() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let rules = FlightRules {
+            abort_after_stopped_s: Some(5.0),
+            ..Default::default()
+        };
+        let mut e = engine(
+            tmp.path(),
+            vec![epoch(1, 60.0, ArenaMove::Stay, None)],
+            rules,
+        );
+        let mut tt = FakeTable::motor(1.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        cmd(&mut e, 2.0, Command::FlightStop, &mut tt);
+        advance(&mut e, 6.9, &mut tt);
+        assert!(e.end.is_none());
+        advance(&mut e, 9.0, &mut tt);
+        assert_eq!(e.end.as_ref().map(|x| x.0.as_str()), Some("aborted"));
+        assert!(
+            (e.t_s - 7.0).abs() < 1e-9,
+            "aborted at exactly 7 s, not {}",
+            e.t_s
+        );
+    }
+
+    #[test]
+    fn turns_settle_and_skip() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let mut e = engine(
+            tmp.path(),
+            vec![
+                epoch(1, 10.0, ArenaMove::Stay, None),
+                epoch(2, 10.0, ArenaMove::TurnBy { deg: 90.0 }, None),
+                epoch(
+                    3,
+                    10.0,
+                    ArenaMove::GoTo {
+                        position_deg: 270.0,
+                    },
+                    None,
+                ),
+            ],
+            FlightRules::default(),
+        );
+        let mut tt = FakeTable::motor(3.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        advance(&mut e, 10.5, &mut tt);
+        assert!(
+            matches!(e.phase, Phase::Turning { .. }),
+            "turning after epoch 1"
+        );
+        assert_eq!(tt.commanded, vec![90.0]);
+        // A sample mid-turn is recorded but not scored.
+        e.on_sample(11.0, 0.0, 10.0, &tt).expect("sample");
+        advance(&mut e, 13.5, &mut tt);
+        assert!(
+            (started(&e, 1).expect("epoch 2") - 13.0).abs() < 1e-9,
+            "epoch 2 starts when the turn is done"
+        );
+        assert!((e.settle_until_s - 15.0).abs() < 1e-9);
+        // GoTo 270 from 90 is the shortest way: +180.
+        cmd(&mut e, 16.0, Command::SkipEpoch, &mut tt);
+        assert_eq!(e.epochs[1].state, EpochState::Skipped);
+        assert_eq!(tt.commanded, vec![90.0, 180.0]);
+        let s = e.summary.summary();
+        assert_eq!(
+            s.epochs.iter().map(|x| x.n).sum::<u64>(),
+            0,
+            "nothing scored yet"
+        );
+    }
+
+    #[test]
+    fn prompts_manual_turns_and_faults_wait_for_the_operator() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let mut e = engine(
+            tmp.path(),
+            vec![
+                epoch(1, 5.0, ArenaMove::Stay, None),
+                epoch(
+                    2,
+                    5.0,
+                    ArenaMove::TurnBy { deg: -90.0 },
+                    Some("place the diffuser"),
+                ),
+                epoch(3, 5.0, ArenaMove::TurnBy { deg: 90.0 }, None),
+            ],
+            FlightRules::default(),
+        );
+        let mut tt = FakeTable {
+            manual: true,
+            ..FakeTable::motor(0.0)
+        };
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        advance(&mut e, 6.0, &mut tt);
+        assert!(matches!(
+            &e.phase,
+            Phase::Prompt {
+                kind: PromptKind::Protocol,
+                ..
+            }
+        ));
+        advance(&mut e, 60.0, &mut tt);
+        assert_eq!(started(&e, 1), None, "a prompt waits however long it takes");
+        cmd(&mut e, 60.0, Command::ConfirmPrompt, &mut tt);
+        assert!(matches!(
+            &e.phase,
+            Phase::Prompt {
+                kind: PromptKind::ManualTurn { .. },
+                ..
+            }
+        ));
+        assert!(tt.commanded.is_empty(), "a manual table is never commanded");
+        cmd(&mut e, 70.0, Command::ConfirmPrompt, &mut tt);
+        assert_eq!(started(&e, 1), Some(70.0));
+        assert!((e.position_deg + 90.0).abs() < 1e-9);
+        // A motor that faults turns into a question to the operator.
+        tt.manual = false;
+        tt.fail = true;
+        advance(&mut e, 75.5, &mut tt);
+        advance(&mut e, 75.6, &mut tt);
+        assert!(
+            matches!(
+                &e.phase,
+                Phase::Prompt {
+                    kind: PromptKind::TurntableFault { .. },
+                    ..
+                }
+            ),
+            "{:?}",
+            e.phase
+        );
+        cmd(&mut e, 80.0, Command::ConfirmPrompt, &mut tt);
+        assert_eq!(started(&e, 2), Some(80.0));
+        assert!(e.position_deg.abs() < 1e-9);
+    }
+
+    #[test]
+    fn scored_only_when_flying_running_and_settled() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let mut e = engine(
+            tmp.path(),
+            vec![epoch(1, 100.0, ArenaMove::TurnBy { deg: 90.0 }, None)],
+            FlightRules::default(),
+        );
+        let mut tt = FakeTable::motor(1.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        e.drive_turn(&mut tt).expect("turn");
+        advance(&mut e, 1.5, &mut tt);
+        // Turn done at 1 s, settle until 3 s.
+        for (t, expect) in [(2.0, false), (3.5, true)] {
+            advance(&mut e, t, &mut tt);
+            e.on_sample(t, 0.0, 45.0, &tt).expect("sample");
+            assert_eq!(e.summary.summary().epochs[0].n, u64::from(expect), "at {t}");
+        }
+        cmd(&mut e, 4.0, Command::Pause, &mut tt);
+        e.on_sample(4.5, 0.0, 45.0, &tt).expect("sample");
+        cmd(&mut e, 5.0, Command::Resume, &mut tt);
+        cmd(&mut e, 5.0, Command::FlightStop, &mut tt);
+        e.on_sample(5.5, 0.0, 45.0, &tt).expect("sample");
+        assert_eq!(
+            e.summary.summary().epochs[0].n,
+            1,
+            "paused and stopped samples are not scored"
+        );
+        // World heading = arena heading + mark bearing (true 0) + arena position (90).
+        assert_eq!(e.last_sample.map(|s| s.2), Some(135.0));
     }
 }

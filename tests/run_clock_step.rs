@@ -1,0 +1,106 @@
+//! A wall-clock step of an hour during a live session leaves `t_s` continuous: the session is
+//! stamped from one UTC anchor plus a monotonic clock. The step is made for real with
+//! libfaketime (Debian package `faketime`, installed by `.ci/run`): the `run` process sees its
+//! wall clock jump by +1 h mid-session while the monotonic clock is left alone.
+
+use std::path::PathBuf;
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant};
+
+const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+const FAKETIME_LIB: &str = "/usr/lib/x86_64-linux-gnu/faketime/libfaketime.so.1";
+
+struct Killer(std::process::Child);
+
+impl Drop for Killer {
+    fn drop(&mut self) {
+        let _ = self.0.kill();
+        let _ = self.0.wait();
+    }
+}
+
+#[test]
+fn wall_clock_step_leaves_t_s_continuous() {
+    assert!(
+        std::path::Path::new(FAKETIME_LIB).exists(),
+        "{FAKETIME_LIB} is needed (apt-get install faketime; .ci/run does it)"
+    );
+    let tmp = tempfile::tempdir().expect("tmp");
+    let rig = tmp.path().join("rig.toml");
+    let sim = Command::new(BIN)
+        .args(["sim", "--seed", "9"])
+        .arg("--write-rig")
+        .arg(&rig)
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .expect("spawn sim");
+    let _sim = Killer(sim);
+    let until = Instant::now() + Duration::from_secs(10);
+    while !rig.is_file() {
+        assert!(Instant::now() < until, "no rig file");
+        std::thread::sleep(Duration::from_millis(50));
+    }
+    let stamp = tmp.path().join("faketime.txt");
+    std::fs::write(&stamp, "+0\n").expect("write");
+    let sessions = tmp.path().join("sessions");
+    let child = Command::new(BIN)
+        .args([
+            "run",
+            "--headless",
+            "--animal",
+            "lm-12",
+            "--protocol",
+            "protocols/smoke.toml",
+        ])
+        .arg("--rig")
+        .arg(&rig)
+        .arg("--sessions")
+        .arg(&sessions)
+        .env("LD_PRELOAD", FAKETIME_LIB)
+        .env("FAKETIME_TIMESTAMP_FILE", &stamp)
+        .env("FAKETIME_NO_CACHE", "1")
+        .env("FAKETIME_DONT_FAKE_MONOTONIC", "1")
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("run");
+    std::thread::sleep(Duration::from_secs(4));
+    std::fs::write(&stamp, "+1h\n").expect("step the wall clock");
+    let out = child.wait_with_output().expect("wait");
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{stdout}\n{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let dir = PathBuf::from(stdout.lines().last().expect("last").trim());
+    let samples = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");
+    let mut prev: Option<f64> = None;
+    let mut offset: Option<f64> = None;
+    let mut rows = 0;
+    for line in samples.lines().skip(1) {
+        let f: Vec<&str> = line.split(',').collect();
+        let t: f64 = f[1].parse().expect("t_s");
+        let utc = chrono::DateTime::parse_from_rfc3339(f[0]).expect("t_utc");
+        let o = utc.timestamp_millis() as f64 / 1000.0 - t;
+        if let Some(p) = prev {
+            assert!(t > p && t - p < 0.5, "t_s jumps from {p} to {t}");
+        }
+        if let Some(o0) = offset {
+            assert!(
+                (o - o0).abs() < 0.002,
+                "t_utc − t_s moved by {} s at t_s {t}",
+                o - o0
+            );
+        }
+        prev = Some(t);
+        offset = offset.or(Some(o));
+        rows += 1;
+    }
+    assert!(
+        rows > 1000 && prev.is_some_and(|p| p > 15.0),
+        "{rows} rows up to {prev:?}"
+    );
+}

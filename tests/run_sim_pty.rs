@@ -1,0 +1,104 @@
+//! `skybearing sim --write-rig` serves a simulated rig on pseudo-terminals; `skybearing run
+//! --headless` then completes the smoke protocol through the real serial code path, with
+//! malformed lines and an unplugged sensor recorded as events (issue "Done when").
+
+use std::path::PathBuf;
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant};
+
+const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+
+struct Killer(std::process::Child);
+
+impl Drop for Killer {
+    fn drop(&mut self) {
+        let _ = self.0.kill();
+        let _ = self.0.wait();
+    }
+}
+
+#[test]
+fn run_completes_against_the_pty_simulator_with_faults() {
+    let tmp = tempfile::tempdir().expect("tmp");
+    let rig = tmp.path().join("rig.toml");
+    let sim = Command::new(BIN)
+        .args([
+            "sim",
+            "--seed",
+            "3",
+            "--garbage",
+            "0.05",
+            "--unplug-at",
+            "7",
+            "--unplug-for",
+            "2",
+        ])
+        .arg("--write-rig")
+        .arg(&rig)
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .expect("spawn sim");
+    let _sim = Killer(sim);
+    let until = Instant::now() + Duration::from_secs(10);
+    while !rig.is_file() {
+        assert!(
+            Instant::now() < until,
+            "the simulator never wrote its rig file"
+        );
+        std::thread::sleep(Duration::from_millis(50));
+    }
+    std::thread::sleep(Duration::from_millis(200));
+    let sessions = tmp.path().join("sessions");
+    let out = Command::new(BIN)
+        .args([
+            "run",
+            "--headless",
+            "--animal",
+            "lm-11",
+            "--protocol",
+            "protocols/smoke.toml",
+        ])
+        .arg("--rig")
+        .arg(&rig)
+        .arg("--sessions")
+        .arg(&sessions)
+        .stdin(Stdio::null())
+        .output()
+        .expect("run");
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{stdout}\n{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let dir = PathBuf::from(stdout.lines().last().expect("last line").trim());
+    let meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("session.json")).expect("json"))
+            .expect("json");
+    assert_eq!(meta["status"], "complete");
+    let events = std::fs::read_to_string(dir.join("events.csv")).expect("events");
+    for kind in [
+        ",malformed_line,",
+        ",sensor_lost,",
+        ",sensor_back,",
+        ",turn_done,",
+        ",session_end,",
+    ] {
+        assert!(events.contains(kind), "no {kind} event:\n{events}");
+    }
+    let samples = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");
+    // About 15 s of epochs plus two turns at 100 Hz, minus the 2 s unplugged gap.
+    let n = samples.lines().count() - 1;
+    assert!(n > 1000, "{n} samples");
+    let check = Command::new(BIN)
+        .arg("check")
+        .arg(&dir)
+        .output()
+        .expect("check");
+    assert!(
+        check.status.success(),
+        "{}",
+        String::from_utf8_lossy(&check.stdout)
+    );
+}
