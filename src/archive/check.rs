@@ -280,6 +280,7 @@ struct SamplePass {
     first_t_s: f64,
     last_t_s: f64,
     problems: Vec<String>,
+    notes: Vec<String>,
     summary: Option<Summary>,
 }
 
@@ -317,7 +318,9 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
         let d = crate::frames::wrap_signed_deg(
             s.arena_heading_deg + s.arena_bearing_deg - s.world_heading_deg,
         );
-        if d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG {
+        // A sample without a heading (both NaN) has nothing to compare.
+        let no_heading = !s.arena_heading_deg.is_finite() && !s.world_heading_deg.is_finite();
+        if !no_heading && (d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG) {
             note(&mut frame_bad, s.line);
         }
         if s.epoch > max_epoch {
@@ -350,7 +353,11 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
         frame_bad,
         "world_heading_deg differs from arena_heading_deg + arena_bearing_deg",
     );
-    report(epoch_bad, "epoch is not in the plan");
+    if let (n, Some(first)) = epoch_bad {
+        pass.notes.push(format!(
+            "samples.csv:{first}: epoch is not in the plan of session.json ({n} rows; they count only for r_world and r_arena)"
+        ));
+    }
     pass.stats = stats;
     pass.summary = builder.map(|b| b.summary());
     Ok(pass)
@@ -452,6 +459,7 @@ pub fn check_session(dir: &Path) -> CheckReport {
     if let Some(p) = &pass {
         r.samples = p.stats.rows;
         r.problems.extend(p.problems.iter().cloned());
+        r.notes.extend(p.notes.iter().cloned());
         if let Some(t) = &p.stats.torn {
             let what = format!(
                 "samples.csv:{}: torn last line ({} bytes): {}",
@@ -473,7 +481,7 @@ pub fn check_session(dir: &Path) -> CheckReport {
                         m.started_utc + chrono::Duration::microseconds((t_s * 1e6).round() as i64);
                     let off_ms = (t - want).num_milliseconds().abs();
                     if off_ms > 2 {
-                        r.problems.push(format!(
+                        r.notes.push(format!(
                             "samples.csv: t_utc {t_utc} is {off_ms} ms off started_utc + t_s"
                         ));
                     }
