@@ -83,7 +83,7 @@ fn main_screen_checks(lines: &[String], snap: &Snapshot) {
         let bearing = format!("{:.0}°", e.arena_bearing_deg);
         assert!(lines[row].contains(&bearing), "row {row}: {}", lines[row]);
     }
-    must_find(lines, "▶ now");
+    must_find(lines, "► now");
     // Turn 2 (-90°) led into epoch 3 and its world shift is shown with a verdict mark.
     let r3 = lines
         .iter()
@@ -96,7 +96,10 @@ fn main_screen_checks(lines: &[String], snap: &Snapshot) {
     // Health: archive sync age, sensor rate, samples written.
     must_find(lines, "saved 0.4 s ago");
     must_find(lines, "99.8 Hz");
-    must_find(lines, "74 850");
+    must_find(lines, "74 850 samples");
+    must_find(lines, "±0.6 ms");
+    must_find(lines, "malformed 2");
+    must_find(lines, "lost 0");
     // Footer: the keys.
     let footer = lines.last().unwrap();
     for k in [" f ", " n ", " p ", " w ", " s ", " q ", " ? "] {
@@ -332,7 +335,7 @@ fn ended_frame_names_the_folder() {
 fn many_epochs_keep_the_current_row_visible() {
     let snap = SnapshotBuilder::hour_of_history().build();
     let lines = screen(&snap, &UiState::default(), 80, 24);
-    must_find(&lines, "▶ now");
+    must_find(&lines, "► now");
     must_find(&lines, "epochs ");
     must_find(&lines, " of 13 ");
 }
@@ -396,5 +399,39 @@ fn numbers_are_never_cut_in_narrow_tables() {
             assert!(!l.contains("<0.00│"), "{w}x{h}: cut p-value: {l}");
         }
         must_find(&lines, "0.001 ");
+    }
+}
+
+#[test]
+fn every_symbol_is_one_cell_wide() {
+    // Wide or emoji-presentation symbols break alignment on some terminals: none are used.
+    let snaps = [
+        SnapshotBuilder::new().build(),
+        SnapshotBuilder::new()
+            .prompt(true)
+            .sync_age_s(Some(9.0))
+            .sensor_lost(true)
+            .paused(true)
+            .build(),
+        SnapshotBuilder::new().ended(true).build(),
+    ];
+    for snap in &snaps {
+        for mode in [Mode::Normal, Mode::Help, Mode::ConfirmEnd] {
+            let ui = UiState {
+                mode,
+                ..UiState::default()
+            };
+            let buf = buffer(snap, &ui, 160, 48);
+            for cell in buf.content() {
+                let w = ratatui::text::Span::raw(cell.symbol()).width();
+                assert!(w <= 1, "{:?} is {w} cells wide", cell.symbol());
+                for ch in cell.symbol().chars() {
+                    assert!(
+                        !matches!(ch as u32, 0x2600..=0x26FF | 0x1F300..=0x1FAFF | 0x25B6),
+                        "emoji-capable symbol {ch:?}"
+                    );
+                }
+            }
+        }
     }
 }

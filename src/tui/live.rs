@@ -1,9 +1,11 @@
 //! The terminal loop: the only part of the screen that does I/O.
 //!
-//! The terminal is restored on every way out: normal end, error (a drop guard), panic (a hook
-//! that restores, then calls the previous hook), and SIGTERM / SIGHUP / SIGINT (a flag that
+//! The terminal is restored on every way out: normal end, error (a drop guard), panic in any
+//! thread (a hook that restores, then calls the previous hook; the loop then returns an error
+//! instead of drawing over the message), and SIGTERM / SIGHUP / SIGINT (a flag that
 //! makes the loop send [`Command::EndSession`] and keep drawing until the engine has closed the
-//! session; a second such signal terminates at once). In raw mode Ctrl-C arrives as a key and
+//! session; a second such signal terminates at once, and once the screen has returned they
+//! terminate as they would by default). In raw mode Ctrl-C arrives as a key and
 //! is handled by [`UiState::handle_key`].
 
 use crate::engine::snapshot::{Command, Snapshot, SnapshotCell};
@@ -103,6 +105,18 @@ fn signal_flags() -> Option<&'static SignalFlags> {
         .as_ref()
 }
 
+/// When the screen is gone, termination signals take their default action again (the flag
+/// being set arms the conditional default registered in [`signal_flags`]).
+struct SignalsIdle(Option<&'static SignalFlags>);
+
+impl Drop for SignalsIdle {
+    fn drop(&mut self) {
+        if let Some(s) = self.0 {
+            s.term_seen.store(true, Ordering::SeqCst);
+        }
+    }
+}
+
 /// Leaves raw mode and the alternate screen if this process entered them. Safe to call twice.
 fn restore_terminal() {
     if TERMINAL_ACTIVE.swap(false, Ordering::SeqCst) {
@@ -130,8 +144,15 @@ impl TerminalGuard {
         enable_raw_mode().context("cannot switch the terminal to raw mode")?;
         TERMINAL_ACTIVE.store(true, Ordering::SeqCst);
         let guard = TerminalGuard;
-        crossterm::execute!(stdout(), EnterAlternateScreen, crossterm::cursor::Hide)
-            .context("cannot enter the alternate screen")?;
+        // No cursor-position query anywhere (ratatui's `Terminal::clear` would send one and
+        // wait for the answer): clear with a plain escape sequence instead.
+        crossterm::execute!(
+            stdout(),
+            EnterAlternateScreen,
+            crossterm::cursor::Hide,
+            crossterm::terminal::Clear(crossterm::terminal::ClearType::All)
+        )
+        .context("cannot enter the alternate screen")?;
         let terminal =
             Terminal::new(CrosstermBackend::new(stdout())).context("cannot start the screen")?;
         Ok((guard, terminal))
@@ -179,9 +200,9 @@ pub fn run_live(
     if let Some(s) = signals {
         s.term_seen.store(false, Ordering::SeqCst);
     }
+    let _signals_idle = SignalsIdle(signals);
     let theme_kind = options.starting_theme(no_color_requested());
     let (_guard, mut terminal) = TerminalGuard::enter()?;
-    terminal.clear().context("cannot clear the screen")?;
 
     let frame_dt = Duration::from_secs_f64(1.0 / f64::from(options.max_fps.clamp(1, 120)));
     let final_frame = Duration::from_secs_f64(options.final_frame_s.clamp(0.0, 60.0));
@@ -193,6 +214,13 @@ pub fn run_live(
     let mut next_draw = Instant::now();
 
     loop {
+        if !TERMINAL_ACTIVE.load(Ordering::SeqCst) {
+            // A panic somewhere in the process restored the terminal (so its message can be
+            // read); drawing on would scribble over it.
+            return Err(anyhow!(
+                "the screen closed after a panic (see the message above)"
+            ));
+        }
         if let Some(stop) = &options.stop
             && stop.load(Ordering::SeqCst)
         {

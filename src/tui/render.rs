@@ -80,7 +80,7 @@ fn draw_compact(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, th
     let w = area.width;
     let session = flow(session_items(snap, theme, false), w, 2, theme);
     let glance = flow(glance_items(snap, ui, theme), w, 1, theme);
-    let health = flow(health_items(snap, theme, false), w, 1, theme);
+    let health = flow(health_items(snap, theme), w, 2, theme);
     let footer = footer_line(footer_items(snap, ui, theme, false), w, " ", theme);
 
     let fixed = session.len() + glance.len() + health.len() + footer.len();
@@ -473,8 +473,8 @@ fn archive_alarm(snap: &Snapshot) -> Option<String> {
         return None;
     }
     match sync_age_s(snap) {
-        Some(age) if age > SYNC_LATE_S => Some(format!(" ⚠ SAVED {age:.0} s AGO ")),
-        None if snap.t_s > SYNC_LATE_S => Some(" ⚠ NOT SAVED YET ".to_string()),
+        Some(age) if age > SYNC_LATE_S => Some(format!(" ! SAVED {age:.0} s AGO ")),
+        None if snap.t_s > SYNC_LATE_S => Some(" ! NOT SAVED YET ".to_string()),
         _ => None,
     }
 }
@@ -494,7 +494,7 @@ fn sync_spans<'a>(snap: &Snapshot, theme: &Theme, short: bool) -> Vec<Span<'a>> 
     }
     match sync_age_s(snap) {
         Some(age) if age > SYNC_LATE_S && !snap.ended => vec![Span::styled(
-            format!(" ⚠ LAST SAVE {age:.1} s AGO "),
+            format!(" ! LAST SAVE {age:.1} s AGO "),
             theme.flag(theme.alarm),
         )],
         Some(age) => vec![
@@ -506,15 +506,15 @@ fn sync_spans<'a>(snap: &Snapshot, theme: &Theme, short: bool) -> Vec<Span<'a>> 
             Span::styled(" ✓", theme.accent(theme.good)),
         ],
         None if snap.t_s > SYNC_LATE_S && !snap.ended => {
-            vec![Span::styled(" ⚠ NOT SAVED YET ", theme.flag(theme.alarm))]
+            vec![Span::styled(" ! NOT SAVED YET ", theme.flag(theme.alarm))]
         }
         None => vec![Span::styled("archive: no sync yet", theme.base())],
     }
 }
 
-fn health_items<'a>(snap: &Snapshot, theme: &Theme, _wide: bool) -> Vec<Item<'a>> {
+fn health_items<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Item<'a>> {
     let h = &snap.health;
-    let mut items: Vec<Item> = vec![sync_spans(snap, theme, false)];
+    let mut items: Vec<Item> = vec![sync_spans(snap, theme, true)];
     if h.sensor_lost {
         items.push(vec![Span::styled(
             " SENSOR LOST NOW ",
@@ -522,14 +522,9 @@ fn health_items<'a>(snap: &Snapshot, theme: &Theme, _wide: bool) -> Vec<Item<'a>
         )]);
     }
     items.push(vec![
-        Span::styled("sensor ", theme.base()),
         Span::styled(format!("{:.1} Hz", h.rate_hz), theme.strong()),
         Span::styled(" ±", theme.base()),
         Span::styled(format!("{:.1} ms", h.jitter_ms), theme.strong()),
-    ]);
-    items.push(vec![
-        Span::styled("samples ", theme.base()),
-        Span::styled(count(h.samples_written), theme.strong()),
     ]);
     items.push(vec![
         Span::styled("malformed ", theme.base()),
@@ -538,6 +533,10 @@ fn health_items<'a>(snap: &Snapshot, theme: &Theme, _wide: bool) -> Vec<Item<'a>
     items.push(vec![
         Span::styled("lost ", theme.base()),
         Span::styled(count(h.lost_periods), theme.strong()),
+    ]);
+    items.push(vec![
+        Span::styled(count(h.samples_written), theme.strong()),
+        Span::styled(" samples", theme.base()),
     ]);
     items
 }
@@ -1054,7 +1053,7 @@ fn table_title<'a>(snap: &Snapshot, rows: usize, ui: &UiState) -> Line<'a> {
 fn state_word(state: EpochState) -> &'static str {
     match state {
         EpochState::Pending => "wait",
-        EpochState::Current => "▶ now",
+        EpochState::Current => "► now",
         EpochState::Done => "done",
         EpochState::Skipped => "skip",
     }
