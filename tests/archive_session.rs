@@ -383,3 +383,17 @@ fn frame_violation_is_reported() {
         report.problems
     );
 }
+
+#[test]
+fn an_empty_fresh_lock_is_a_writer_starting_up() {
+    let tmp = tempfile::tempdir().unwrap();
+    let (mut w, _) = write_session(tmp.path(), "s_young", 50);
+    w.sync_now().unwrap();
+    let dir = w.dir().to_path_buf();
+    std::mem::forget(w);
+    std::fs::write(dir.join(LOCK_FILE), "").unwrap();
+    let report = check_session(&dir);
+    assert!(report.live && !report.interrupted, "{report:?}");
+    assert!(repair_session(&dir).is_err());
+    assert!(dir.join(LOCK_FILE).exists());
+}

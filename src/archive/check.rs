@@ -10,9 +10,9 @@ use super::fmt::push_fixed;
 use super::read::{self, ReadStats};
 use super::writer::{sync_dir, write_json_atomic};
 use super::{
-    ArchiveError, EVENT_COLUMNS, EVENTS_FILE, LOCK_FILE, PlannedEpoch, SAMPLE_COLUMNS,
-    SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SessionMeta, SessionStatus, Summary, SummaryBuilder,
-    T_S_DECIMALS, format_utc_millis, parse_utc, read_json,
+    ArchiveError, EVENT_COLUMNS, EVENTS_FILE, FORMAT_VERSION, LOCK_FILE, PlannedEpoch,
+    SAMPLE_COLUMNS, SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SessionMeta, SessionStatus, Summary,
+    SummaryBuilder, T_S_DECIMALS, format_utc_millis, parse_utc, read_json,
 };
 
 /// The content of a session's `.lock` file.
@@ -94,7 +94,23 @@ pub fn lock_state(dir: &Path) -> LockState {
     match read_lock(dir) {
         Some(l) if lock_holder_alive(&l) => LockState::Alive(l),
         Some(l) => LockState::Dead(l),
-        None => LockState::Unreadable,
+        None => {
+            // A writer creates the lock and then writes its pid: an empty lock younger than a
+            // few seconds is a writer starting up, not a stale lock.
+            let young = std::fs::metadata(dir.join(LOCK_FILE))
+                .and_then(|m| m.modified())
+                .ok()
+                .and_then(|t| t.elapsed().ok())
+                .is_some_and(|age| age < std::time::Duration::from_secs(10));
+            if young {
+                LockState::Alive(LockInfo {
+                    pid: 0,
+                    start_ticks: None,
+                })
+            } else {
+                LockState::Unreadable
+            }
+        }
     }
 }
 
@@ -406,6 +422,12 @@ pub fn check_session(dir: &Path) -> CheckReport {
     };
     if let Some(m) = &meta {
         r.id = Some(m.id.clone());
+        if m.format_version > FORMAT_VERSION {
+            r.notes.push(format!(
+                "written in archive format {} by a newer program (this one reads format {FORMAT_VERSION})",
+                m.format_version
+            ));
+        }
         r.status = Some(m.status);
         if dir.file_name().and_then(|n| n.to_str()) != Some(m.id.as_str()) {
             r.notes.push(format!(
