@@ -435,3 +435,27 @@ fn every_symbol_is_one_cell_wide() {
         }
     }
 }
+
+#[test]
+fn trace_grid_rows_carry_their_labels() {
+    // The dotted grid line at 90/180/270 lies on the row labelled with it.
+    let snap = SnapshotBuilder::new().build();
+    for (w, h) in [(80, 24), (160, 48), (100, 30)] {
+        let lines = screen(&snap, &UiState::default(), w, h);
+        for label in ["180", " 90"] {
+            let row = lines
+                .iter()
+                .find(|l| l.contains(&format!("││{label} ")))
+                .unwrap_or_else(|| panic!("{w}x{h}: no {label} row:\n{}", dump(&lines)));
+            let after = row.split(&format!("││{label} ")).nth(1).unwrap();
+            let dots = after
+                .chars()
+                .filter(|c| ('\u{2801}'..='\u{28ff}').contains(c))
+                .count();
+            assert!(
+                dots >= 10,
+                "{w}x{h}: row {label} has {dots} grid dots: {row}"
+            );
+        }
+    }
+}
