@@ -51,11 +51,11 @@ fn sim_serves_a_rig_that_the_serial_reader_reads() {
         .filter(|e| matches!(e, SensorEvent::Sample { .. }))
         .count();
     assert!(
-        (35..=60).contains(&samples),
+        (25..=60).contains(&samples),
         "{samples} samples in 1 s at 50 Hz"
     );
     let h = src.health();
-    assert!((h.rate_hz - 50.0).abs() < 5.0, "{h:?}");
+    assert!((h.rate_hz - 50.0).abs() < 10.0, "{h:?}");
     let status = child.wait().unwrap();
     assert_eq!(status.code(), Some(0));
     // The links are gone once it stops.

@@ -195,12 +195,12 @@ fn turntable_turns_and_reports_done() {
     let (_dir, server, rig) = setup(cfg, 1.0, 2.0);
     let clock = Arc::new(RealClock::start());
     let mut tt = open_turntable(&rig, clock.clone()).unwrap();
-    let handle = serve(server, 1.5);
+    let handle = serve(server, 2.0);
     std::thread::sleep(Duration::from_millis(100));
     let t0 = clock.now_s();
     tt.start_turn(t0, -90.0).unwrap();
     let mut out = Vec::new();
-    while out.is_empty() && clock.now_s() < t0 + 1.2 {
+    while out.is_empty() && clock.now_s() < t0 + 1.9 {
         std::thread::sleep(Duration::from_millis(10));
         tt.poll(clock.now_s(), &mut out).unwrap();
     }
@@ -210,6 +210,63 @@ fn turntable_turns_and_reports_done() {
     };
     assert_eq!(position_deg, Some(-90.0));
     // 90 deg at 300 deg/s plus a 50 ms reply delay, plus scheduling.
-    assert!(t_s - t0 > 0.3 && t_s - t0 < 0.8, "{}", t_s - t0);
+    assert!(t_s - t0 > 0.3 && t_s - t0 < 1.8, "{}", t_s - t0);
     assert_eq!(tt.position_deg(clock.now_s()), Some(-90.0));
+}
+
+#[test]
+fn serial_turntable_fault_reply_and_retry_keeps_the_id() {
+    use skybearing::rig::pty::Pty;
+    // The test plays the device on the master side of a pseudo-terminal.
+    let dev = Pty::open().unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let text = skybearing::rig::config::TEMPLATE
+        .replace("kind = \"manual\"", "kind = \"serial\"")
+        .replace(
+            "# path = \"/dev/ttyACM0\"",
+            &format!("path = \"{}\"", dev.slave_path.display()),
+        )
+        .replace("# baud = 115200    ", "baud = 115200")
+        .replace("# timeout_s = 30.0", "timeout_s = 0.3");
+    let f = dir.path().join("rig.toml");
+    std::fs::write(&f, text).unwrap();
+    let rig = load_rig(&f).unwrap();
+    let clock = Arc::new(RealClock::start());
+    let mut tt = open_turntable(&rig, clock.clone()).unwrap();
+    let read_lines = |dev: &Pty, wait_ms: u64| -> Vec<String> {
+        std::thread::sleep(Duration::from_millis(wait_ms));
+        let mut buf = [0u8; 512];
+        let n = dev.read_some(&mut buf).unwrap();
+        String::from_utf8_lossy(&buf[..n])
+            .lines()
+            .map(str::to_string)
+            .collect()
+    };
+    assert_eq!(read_lines(&dev, 100), ["POS?"]);
+    let t0 = clock.now_s();
+    tt.start_turn(t0, 45.0).unwrap();
+    assert_eq!(read_lines(&dev, 100), ["TURN 1 45.000"]);
+    // No answer: after timeout_s the same line comes again.
+    let mut out = Vec::new();
+    while clock.now_s() < t0 + 0.35 {
+        std::thread::sleep(Duration::from_millis(10));
+        tt.poll(clock.now_s(), &mut out).unwrap();
+    }
+    assert!(out.is_empty());
+    assert_eq!(read_lines(&dev, 50), ["TURN 1 45.000"]);
+    // A reply to another id is ignored; the fault for this one is reported.
+    dev.write_some(b"DONE 7 1.0\r\nFAULT 1 end switch reached\r\n")
+        .unwrap();
+    while out.is_empty() && clock.now_s() < t0 + 0.55 {
+        std::thread::sleep(Duration::from_millis(10));
+        tt.poll(clock.now_s(), &mut out).unwrap();
+    }
+    let [TurntableEvent::Fault { t_s, ref text }] = out[..] else {
+        panic!("{out:?}")
+    };
+    assert!(t_s < t0 + 0.6);
+    assert_eq!(text, "turntable reports: end switch reached");
+    // The next turn gets a new id.
+    tt.start_turn(clock.now_s(), -10.0).unwrap();
+    assert_eq!(read_lines(&dev, 100), ["TURN 2 -10.000"]);
 }

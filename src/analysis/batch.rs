@@ -122,17 +122,13 @@ pub fn find_sessions(roots: &[PathBuf], skipped: &mut Vec<Skipped>) -> Vec<PathB
 /// separately.
 fn filter_reason(s: &SessionStats, f: &Filters) -> Option<String> {
     if !f.include_incomplete && !s.info.is_complete() {
-        let st = if s.info.status.is_empty() {
-            "no status"
-        } else {
-            s.info.status.as_str()
-        };
         return Some(format!(
-            "status '{st}' (not complete; use --include-incomplete)"
+            "status '{}' (not complete; use --include-incomplete)",
+            s.info.status
         ));
     }
     if f.from.is_some() || f.to.is_some() {
-        match s.info.started_date() {
+        match s.info.started_date {
             None => return Some("no readable started_utc for --from/--to".into()),
             Some(d) => {
                 if f.from.is_some_and(|from| d < from) {
@@ -281,7 +277,7 @@ pub const TURN_COLUMNS: &[&str] = &[
 pub fn sessions_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(SESSION_COLUMNS);
     for s in sessions {
-        let n: u64 = s.epochs.iter().map(|e| e.world.n).sum();
+        let n: u64 = s.epochs.iter().map(|e| e.world.n()).sum();
         t.push(vec![
             s.info.id.as_str().into(),
             animal_key(s).into(),
@@ -311,9 +307,9 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
     for s in sessions {
         let animal = animal_key(s);
         for e in &s.epochs {
-            let n = e.world.n;
+            let n = e.world.n();
             let has = n > 0;
-            let (z, _) = super::stats::rayleigh(n as f64, e.world.r());
+            let (z, _) = crate::circular::rayleigh_test(n as f64, e.world.r());
             t.push(vec![
                 s.info.id.as_str().into(),
                 animal.as_str().into(),
@@ -334,17 +330,17 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
                 },
                 if has { Cell::Num(z) } else { Cell::Empty },
                 if has {
-                    Cell::Num(e.rayleigh_p())
+                    Cell::Num(e.world.rayleigh_p())
                 } else {
                     Cell::Empty
                 },
                 if has {
-                    Cell::Num(e.n_eff())
+                    Cell::Num(e.world.n_eff())
                 } else {
                     Cell::Empty
                 },
                 if has {
-                    Cell::Num(e.rayleigh_p_eff())
+                    Cell::Num(e.world.rayleigh_p_eff())
                 } else {
                     Cell::Empty
                 },
@@ -370,12 +366,12 @@ pub fn turns_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(TURN_COLUMNS);
     for s in sessions {
         let animal = animal_key(s);
-        for tr in s.turns() {
+        for tr in &s.turns {
             // After a condition filter, consecutive kept epochs may not be adjacent.
             if tr.to_epoch != tr.from_epoch + 1 {
                 continue;
             }
-            let cond = |i: u32| {
+            let cond = |i: usize| {
                 s.epochs
                     .iter()
                     .find(|e| e.index == i)

@@ -5,7 +5,7 @@
 //! compass style: 0 at the top, clockwise.
 
 use super::AnalysisError;
-use super::stats::VectorAcc;
+use crate::circular::HeadingAccumulator;
 use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
@@ -94,7 +94,7 @@ fn draw_circular<DB: DrawingBackend>(
     }
     const BINS: usize = 36;
     let mut counts = [0u64; BINS];
-    let mut acc = VectorAcc::new();
+    let mut acc = HeadingAccumulator::new();
     for &h in &panel.headings_deg {
         let b = ((crate::frames::wrap_360_deg(h) / 360.0 * BINS as f64) as usize).min(BINS - 1);
         counts[b] += 1;
@@ -164,8 +164,8 @@ fn draw_circular<DB: DrawingBackend>(
             .map_err(err)?;
     }
     let stats = match acc.mean_deg() {
-        Some(m) => format!("n={}  mean={:.0}°  r={:.2}", acc.n, m, acc.r()),
-        None => format!("n={}", acc.n),
+        Some(m) => format!("n={}  mean={:.0}°  r={:.2}", acc.n(), m, acc.r()),
+        None => format!("n={}", acc.n()),
     };
     chart
         .draw_series(std::iter::once(Text::new(

@@ -1,9 +1,8 @@
 //! Session reports and batch statistics over many sessions.
 //!
-//! - [`samples`]: a streaming, header-driven reader of `samples.csv`;
 //! - [`meta`]: what the analysis reads from `session.json` / `summary.json`;
-//! - [`session`]: per-epoch and per-turn statistics in one pass over a session;
-//! - [`stats`]: streaming accumulators and the circular tests used here;
+//! - [`session`]: per-epoch and per-turn statistics in one pass over a session (reading with
+//!   `archive::read`, summarising with `archive::SummaryBuilder` and `circular`);
 //! - [`population`]: second-order (one vector per animal) statistics between sessions;
 //! - [`batch`]: many sessions → tidy CSV tables;
 //! - [`report`] and [`figures`]: one session → tables, summary text and figures.
@@ -13,9 +12,7 @@ pub mod figures;
 pub mod meta;
 pub mod population;
 pub mod report;
-pub mod samples;
 pub mod session;
-pub mod stats;
 pub mod table;
 
 use std::path::{Path, PathBuf};
@@ -23,6 +20,9 @@ use std::path::{Path, PathBuf};
 /// Errors of the analysis commands; each names the file it concerns.
 #[derive(Debug, thiserror::Error)]
 pub enum AnalysisError {
+    /// An archive file could not be read (the message names the file and line).
+    #[error(transparent)]
+    Archive(#[from] crate::archive::ArchiveError),
     /// A file could not be read or written.
     #[error("{path}: {source}")]
     Io {

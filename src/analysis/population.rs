@@ -8,13 +8,19 @@
 //! counts as an animal of its own (its session id).
 
 use super::session::SessionStats;
-use super::stats::{
-    VectorAcc, hotelling_one_sample, mean_and_r, mean_deg_from_sums, moore_test, rayleigh, v_test,
-    watson_williams,
-};
 use super::table::{Cell, Table};
+use crate::circular::{
+    HeadingAccumulator, describe_deg, hotelling_one_sample_test, moore_rayleigh_test,
+    rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
+};
 use crate::frames::signed_difference_deg;
 use std::collections::{BTreeMap, BTreeSet};
+
+/// Mean direction and mean vector length of directions in degrees.
+fn mean_and_r(angles_deg: &[f64]) -> (Option<f64>, f64) {
+    let s = describe_deg(angles_deg);
+    (s.mean_deg, s.r)
+}
 
 /// The animal key of a session.
 pub fn animal_key(s: &SessionStats) -> String {
@@ -26,14 +32,14 @@ pub fn animal_key(s: &SessionStats) -> String {
 }
 
 /// One animal's vector under one condition.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone)]
 pub struct AnimalVector {
     /// Animal id.
     pub animal: String,
     /// Sessions contributing.
     pub sessions: usize,
     /// Pooled scored world headings.
-    pub acc: VectorAcc,
+    pub acc: HeadingAccumulator,
 }
 
 /// condition → animal → vector (both ordered by name).
@@ -46,7 +52,7 @@ pub fn animal_vectors(sessions: &[&SessionStats]) -> AnimalVectors {
         let animal = animal_key(s);
         let mut seen: BTreeSet<&str> = BTreeSet::new();
         for e in &s.epochs {
-            if e.world.n == 0 {
+            if e.world.n() == 0 {
                 continue;
             }
             let v = out
@@ -56,7 +62,7 @@ pub fn animal_vectors(sessions: &[&SessionStats]) -> AnimalVectors {
                 .or_insert_with(|| AnimalVector {
                     animal: animal.clone(),
                     sessions: 0,
-                    acc: VectorAcc::new(),
+                    acc: HeadingAccumulator::new(),
                 });
             v.acc.merge(&e.world);
             if seen.insert(e.condition.as_str()) {
@@ -107,27 +113,17 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
         let sessions: usize = vs.values().map(|v| v.sessions).sum();
         let (mean, r) = mean_and_r(&d);
         let (z, p) = if n > 0 {
-            let (z, p) = rayleigh(n as f64, r);
+            let (z, p) = rayleigh_test(n as f64, r);
             (Some(z), Some(p))
         } else {
             (None, None)
         };
-        let moore = moore_test(&d, &l);
-        let hot = hotelling_one_sample(&d, &l);
+        let moore = moore_rayleigh_test(&d, &l).ok().map(|m| (m.r_star, m.p));
+        let hot = hotelling_one_sample_test(&d, &l).ok().map(|h| (h.f, h.p));
         // Second-order mean vector: the mean of the animals' vectors r_i (cos θ_i, sin θ_i).
-        let (mut sc, mut ss) = (0.0, 0.0);
-        for (a, len) in d.iter().zip(&l) {
-            let (s, c) = a.to_radians().sin_cos();
-            sc += len * c;
-            ss += len * s;
-        }
-        let (mv_deg, mv_len) = if n > 0 {
-            (
-                mean_deg_from_sums(sc, ss),
-                Some((sc / n as f64).hypot(ss / n as f64)),
-            )
-        } else {
-            (None, None)
+        let (mv_deg, mv_len) = match second_order_mean(&d, &l) {
+            Ok((m, len)) => (m, Some(len)),
+            Err(_) => (None, None),
         };
         t.push(vec![
             cond.clone().into(),
@@ -176,7 +172,7 @@ pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
         for b in &conds[i + 1..] {
             let (da, _, _) = directions(&vectors[*a]);
             let (db, _, _) = directions(&vectors[*b]);
-            let ww = watson_williams(&[&da, &db]);
+            let ww = watson_williams_test(&[&da, &db]).ok();
             t.push(vec![
                 a.as_str().into(),
                 b.as_str().into(),
@@ -184,10 +180,10 @@ pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
                 db.len().into(),
                 mean_and_r(&da).0.into(),
                 mean_and_r(&db).0.into(),
-                ww.map(|w| w.f).into(),
-                ww.map(|w| w.df1).into(),
-                ww.map(|w| w.df2).into(),
-                ww.map(|w| w.p).into(),
+                ww.as_ref().map(|w| w.f).into(),
+                ww.as_ref().map(|w| w.df.0).into(),
+                ww.as_ref().map(|w| w.df.1).into(),
+                ww.as_ref().map(|w| w.p).into(),
             ]);
         }
     }
@@ -248,7 +244,7 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
                 continue;
             }
             let (mean, r) = mean_and_r(&changes);
-            let v = v_test(&changes, 0.0);
+            let v = Some(v_test_deg(&changes, 0.0));
             t.push(vec![
                 a.as_str().into(),
                 b.as_str().into(),
@@ -288,7 +284,7 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
     for (animal, ss) in by {
         let means: Vec<f64> = ss.iter().filter_map(|s| s.world.mean_deg()).collect();
         let (mean, r) = mean_and_r(&means);
-        let p = (means.len() >= 2).then(|| rayleigh(means.len() as f64, r).1);
+        let p = (means.len() >= 2).then(|| rayleigh_test(means.len() as f64, r).1);
         let mut conds: Vec<String> = Vec::new();
         for s in &ss {
             for c in s.conditions() {

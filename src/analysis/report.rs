@@ -4,8 +4,8 @@ use super::AnalysisError;
 use super::batch::{epochs_table, sessions_table, turns_table};
 use super::figures::{CircularPanel, FigureData, TurnPoint, write_figures};
 use super::population::animal_key;
-use super::samples::Sample;
 use super::session::{SessionStats, analyse_session_with};
+use crate::archive::read::SampleFields;
 use crate::frames::sun_relative_heading_deg;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -27,7 +27,7 @@ pub struct ReportOutput {
 #[derive(Clone, Copy)]
 struct TracePoint {
     t_s: f64,
-    epoch: u32,
+    epoch: usize,
     world: f64,
     arena: f64,
     sun: f64,
@@ -37,7 +37,7 @@ struct TracePoint {
 /// Reads the session in `dir` and writes tables, `summary.txt` and figures into `out`.
 pub fn write_report(dir: &Path, out: &Path) -> Result<ReportOutput, AnalysisError> {
     let mut trace: Vec<TracePoint> = Vec::new();
-    let stats = analyse_session_with(dir, |s: &Sample| {
+    let stats = analyse_session_with(dir, |s: &SampleFields<'_>| {
         trace.push(TracePoint {
             t_s: s.t_s,
             epoch: s.epoch,
@@ -129,8 +129,8 @@ fn figure_data(stats: &SessionStats, trace: &[TracePoint]) -> FigureData {
         }
     }
     data.trace.end_min = trace.last().map_or(1.0, |p| p.t_s / 60.0);
-    let turns = stats.turns();
-    for t in &turns {
+    let turns = &stats.turns;
+    for t in turns {
         if let Some(e) = stats.epochs.iter().find(|e| e.index == t.to_epoch) {
             let label = match t.turn_deg {
                 Some(d) => format!(" turn {d:+.0}°"),
@@ -199,7 +199,7 @@ pub fn summary_text(s: &SessionStats) -> String {
         fmt_opt(s.arena.mean_deg(), 1),
         s.arena.r()
     );
-    let verdict = if s.world.n == 0 {
+    let verdict = if s.world.n() == 0 {
         "no scored samples"
     } else if s.world.r() > s.arena.r() + 0.1 {
         "world heading held better than arena heading (consistent with steering by the sky)"
@@ -216,13 +216,13 @@ pub fn summary_text(s: &SessionStats) -> String {
         "epoch", "condition", "n", "world°", "r", "arena°", "p", "n_eff", "p_eff"
     );
     for e in &s.epochs {
-        let has = e.world.n > 0;
+        let has = e.world.n() > 0;
         let _ = writeln!(
             t,
             "{:>5}  {:<16} {:>7} {:>7} {:>6} {:>7} {:>9} {:>8} {:>9}",
             e.index,
             truncate(&e.condition, 16),
-            e.world.n,
+            e.world.n(),
             fmt_opt(e.world.mean_deg(), 1),
             if has {
                 format!("{:.3}", e.world.r())
@@ -231,23 +231,23 @@ pub fn summary_text(s: &SessionStats) -> String {
             },
             fmt_opt(e.arena.mean_deg(), 1),
             if has {
-                fmt_p(e.rayleigh_p())
+                fmt_p(e.world.rayleigh_p())
             } else {
                 "-".into()
             },
             if has {
-                format!("{:.1}", e.n_eff())
+                format!("{:.1}", e.world.n_eff())
             } else {
                 "-".into()
             },
             if has {
-                fmt_p(e.rayleigh_p_eff())
+                fmt_p(e.world.rayleigh_p_eff())
             } else {
                 "-".into()
             },
         );
     }
-    let turns = s.turns();
+    let turns = &s.turns;
     if !turns.is_empty() {
         let _ = writeln!(t);
         let _ = writeln!(
@@ -255,7 +255,7 @@ pub fn summary_text(s: &SessionStats) -> String {
             "{:>4}  {:>9} {:>13} {:>13}",
             "turn", "turn°", "world shift°", "arena shift°"
         );
-        for tr in &turns {
+        for tr in turns {
             let _ = writeln!(
                 t,
                 "{:>4}  {:>9} {:>13} {:>13}",

@@ -286,19 +286,6 @@ struct SamplePass {
 /// Frames tolerance: world = arena + bearing within rounding of three 3-decimal numbers.
 const FRAME_TOLERANCE_DEG: f64 = 0.0016;
 
-fn is_utc_millis(t: &str) -> bool {
-    let b = t.as_bytes();
-    b.len() == 24
-        && b.iter().enumerate().all(|(i, &c)| match i {
-            4 | 7 => c == b'-',
-            10 => c == b'T',
-            13 | 16 => c == b':',
-            19 => c == b'.',
-            23 => c == b'Z',
-            _ => c.is_ascii_digit(),
-        })
-}
-
 fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass, ArchiveError> {
     let path = dir.join(SAMPLES_FILE);
     let mut pass = SamplePass {
@@ -324,7 +311,7 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
             note(&mut t_s_bad, s.line);
         }
         prev_t_s = s.t_s;
-        if !is_utc_millis(s.t_utc) || s.t_utc < pass.last_t_utc.as_str() {
+        if !read::is_utc_millis(s.t_utc.as_bytes()) || s.t_utc < pass.last_t_utc.as_str() {
             note(&mut utc_bad, s.line);
         }
         let d = crate::frames::wrap_signed_deg(

@@ -20,41 +20,59 @@ const POW10: [f64; 23] = [
 /// Largest integer below which every integer is an exact f64.
 const EXACT_INT: f64 = 9_007_199_254_740_992.0; // 2^53
 
-/// The scaled integer written for `x` with `decimals` decimals, or None when `x` is not finite
-/// or too large for the integer path.
-#[inline]
+/// Powers of ten as integers.
+const POW10_U64: [u64; 10] = [
+    1,
+    10,
+    100,
+    1_000,
+    10_000,
+    100_000,
+    1_000_000,
+    10_000_000,
+    100_000_000,
+    1_000_000_000,
+];
+
+/// The scaled integer written for `x` with `decimals` decimals (rounded half away from zero),
+/// or None when `x` is not finite or too large for the integer path.
+///
+/// Rounds by adding ±0.5 and truncating with a cast (`f64::round` is a library call on
+/// baseline x86-64); writer and [`quantize_fixed`] share this function, so they always agree.
+#[inline(always)]
 fn scaled(x: f64, decimals: u32) -> Option<i64> {
-    let s = (x * POW10[decimals as usize]).round();
-    if s.is_finite() && s.abs() < EXACT_INT {
-        Some(s as i64)
+    let y = x * POW10[decimals as usize];
+    if y.abs() < EXACT_INT {
+        Some((y + 0.5f64.copysign(y)) as i64)
     } else {
         None
     }
 }
 
 /// Reduces a scaled angle modulo `period * 10^decimals`.
-#[inline]
+#[inline(always)]
 fn wrap_scaled(m: i64, period: i64, decimals: u32) -> i64 {
-    m.rem_euclid(period * 10i64.pow(decimals))
+    m.rem_euclid(period * POW10_U64[decimals as usize] as i64)
 }
 
-#[inline]
+#[inline(always)]
 fn push_scaled(buf: &mut Vec<u8>, m: i64, decimals: u32) {
-    let mut itoa_buf = itoa::Buffer::new();
     if m < 0 {
         buf.push(b'-');
     }
     let a = m.unsigned_abs();
-    let p = 10u64.pow(decimals);
+    let p = POW10_U64[decimals as usize];
+    let mut itoa_buf = itoa::Buffer::new();
     buf.extend_from_slice(itoa_buf.format(a / p).as_bytes());
     if decimals > 0 {
-        buf.push(b'.');
-        let frac = a % p;
-        let digits = itoa_buf.format(frac).as_bytes();
-        for _ in digits.len()..decimals as usize {
-            buf.push(b'0');
+        let d = decimals as usize;
+        let mut frac = a % p;
+        let mut tmp = [b'.'; 10];
+        for i in (1..=d).rev() {
+            tmp[i] = b'0' + (frac % 10) as u8;
+            frac /= 10;
         }
-        buf.extend_from_slice(digits);
+        buf.extend_from_slice(&tmp[..=d]);
     }
 }
 
@@ -76,7 +94,7 @@ fn slow_text(x: f64, decimals: u32) -> String {
 }
 
 /// Writes `x` with `decimals` decimals (≤ 9).
-#[inline]
+#[inline(always)]
 pub fn push_fixed(buf: &mut Vec<u8>, x: f64, decimals: u32) {
     match scaled(x, decimals) {
         Some(m) => push_scaled(buf, m, decimals),
@@ -85,7 +103,7 @@ pub fn push_fixed(buf: &mut Vec<u8>, x: f64, decimals: u32) {
 }
 
 /// Writes a direction in [0, 360) with `decimals` decimals (reduced after rounding).
-#[inline]
+#[inline(always)]
 pub fn push_angle_deg(buf: &mut Vec<u8>, x: f64, decimals: u32) {
     match scaled(x, decimals) {
         Some(m) => push_scaled(buf, wrap_scaled(m, 360, decimals), decimals),
@@ -94,7 +112,7 @@ pub fn push_angle_deg(buf: &mut Vec<u8>, x: f64, decimals: u32) {
 }
 
 /// Writes an axis in [0, 180) with `decimals` decimals (reduced after rounding).
-#[inline]
+#[inline(always)]
 pub fn push_axial_deg(buf: &mut Vec<u8>, x: f64, decimals: u32) {
     match scaled(x, decimals) {
         Some(m) => push_scaled(buf, wrap_scaled(m, 180, decimals), decimals),
@@ -103,7 +121,7 @@ pub fn push_axial_deg(buf: &mut Vec<u8>, x: f64, decimals: u32) {
 }
 
 /// The value a reader gets back from [`push_fixed`]'s text.
-#[inline]
+#[inline(always)]
 pub fn quantize_fixed(x: f64, decimals: u32) -> f64 {
     match scaled(x, decimals) {
         Some(m) => m as f64 / POW10[decimals as usize],
@@ -112,7 +130,7 @@ pub fn quantize_fixed(x: f64, decimals: u32) -> f64 {
 }
 
 /// The value a reader gets back from [`push_angle_deg`]'s text.
-#[inline]
+#[inline(always)]
 pub fn quantize_angle_deg(x: f64, decimals: u32) -> f64 {
     match scaled(x, decimals) {
         Some(m) => wrap_scaled(m, 360, decimals) as f64 / POW10[decimals as usize],

@@ -1,8 +1,24 @@
 //! The session archive: one folder per session, append-only CSV files, atomic JSON.
 //! (Shared types fixed by the lead; bodies owned by the archive work.)
 //!
-//! Layout (see shared/contract.md): `session.json`, `samples.csv`, `events.csv`,
-//! `summary.json` once closed.
+//! Layout (see shared/contract.md): `sessions/<id>/` with
+//! - `session.json` ([`SessionMeta`]): written atomically (temporary file, fsync, rename,
+//!   fsync of the folder) at the start with status `running`, and again when the session ends;
+//! - `samples.csv` ([`SAMPLE_COLUMNS`]): one row per sample. `t_utc` RFC 3339 UTC with
+//!   milliseconds (truncated), `t_s` with 4 decimals, angles with 3 decimals (directions in
+//!   [0, 360), `zenith_evector_deg` in [0, 180)), `sun_elevation_deg` with 3 decimals, `flying`
+//!   and `scored` 0/1, `raw` the shortest text that reads back to the exact value received;
+//! - `events.csv` ([`EVENT_COLUMNS`]): `detail` (and `kind`) quoted per RFC 4180 when needed;
+//! - `summary.json` ([`Summary`], built by [`SummaryBuilder`]) once the session is closed;
+//!   statistics that are undefined (an empty epoch) are written `null`;
+//! - `.lock` while a writer has the folder: its pid (and process start time on Linux).
+//!
+//! Both CSV files are appended through a buffer and fsynced at least once a second of real
+//! time, so an interruption loses at most the last second and can tear only the last line.
+//! `skybearing check` ([`check::check_session`]) validates a folder; `check --repair`
+//! ([`check::repair_session`]) drops a torn last line (keeping the bytes in `<file>.torn`),
+//! recomputes `summary.json` and marks the session `recovered`. A last line without its
+//! newline is always treated as torn (its last field may be cut short), even if it parses.
 
 pub mod check;
 pub mod fmt;

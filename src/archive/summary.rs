@@ -320,3 +320,107 @@ impl SummaryBuilder {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn plan() -> Vec<PlannedEpoch> {
+        vec![
+            PlannedEpoch {
+                index: 1,
+                condition: "open sky".into(),
+                turn_before_deg: 0.0,
+                duration_s: 1.0,
+            },
+            PlannedEpoch {
+                index: 2,
+                condition: "diffuser".into(),
+                turn_before_deg: 90.0,
+                duration_s: 1.0,
+            },
+            PlannedEpoch {
+                index: 3,
+                condition: "open sky".into(),
+                turn_before_deg: -90.0,
+                duration_s: 1.0,
+            },
+        ]
+    }
+
+    #[test]
+    fn counts_only_scored_samples_per_epoch() {
+        let mut b = SummaryBuilder::new(&plan());
+        // Epoch 1: world 350 (scored ×3), one unscored sample at 10 with another bearing.
+        b.push_values(1, 340.0, 5.0, 345.0, false);
+        for _ in 0..3 {
+            b.push_values(1, 340.0, 10.0, 350.0, true);
+        }
+        // Epoch 2: world 10, i.e. a shift of +20 across the turn, wrapped.
+        for _ in 0..4 {
+            b.push_values(2, 280.0, 90.0, 10.0, true);
+        }
+        // Epoch 3: nothing scored; an unknown epoch 7 counts only for the session.
+        b.push_values(3, 0.0, 0.0, 0.0, false);
+        b.push_values(7, 10.0, 0.0, 10.0, true);
+        // Non-finite headings never count.
+        b.push_values(2, f64::NAN, 90.0, f64::NAN, true);
+        let s = b.summary();
+        assert_eq!(s.epochs.len(), 3);
+        assert_eq!(s.epochs[0].n, 3);
+        assert_eq!(s.epochs[0].arena_bearing_deg, 10.0); // first scored, not first sample
+        assert!((s.epochs[0].mean_world_deg.unwrap() - 350.0).abs() < 1e-9);
+        assert_eq!(s.epochs[1].n, 4);
+        assert_eq!(s.epochs[1].condition, "diffuser");
+        assert_eq!(s.epochs[2].n, 0);
+        assert_eq!(s.epochs[2].mean_world_deg, None);
+        assert_eq!(s.epochs[2].arena_bearing_deg, 0.0); // first sample's bearing
+        assert_eq!(s.turns.len(), 2);
+        assert_eq!(s.turns[0].index, 1);
+        assert_eq!(s.turns[0].turn_deg, 90.0);
+        assert!((s.turns[0].world_shift_deg.unwrap() - 20.0).abs() < 1e-9);
+        assert_eq!(s.turns[1].turn_deg, -90.0);
+        assert_eq!(s.turns[1].world_shift_deg, None);
+        assert!((b.turn_shift_deg(1).unwrap() - 20.0).abs() < 1e-9);
+        assert_eq!(b.world().n(), 8);
+        assert_eq!(b.epoch_n(2), 4);
+        assert_eq!(b.samples_seen(), 11);
+        assert_eq!(
+            serde_json::to_string(&b.epoch_summary(2).unwrap()).unwrap(),
+            serde_json::to_string(&s.epochs[1]).unwrap()
+        );
+    }
+
+    #[test]
+    fn bearing_of_an_empty_epoch_follows_the_plan() {
+        let mut b = SummaryBuilder::new(&plan());
+        b.push_values(1, 0.0, 350.0, 350.0, true);
+        let s = b.summary();
+        assert_eq!(s.epochs[1].arena_bearing_deg, 80.0);
+        assert_eq!(s.epochs[2].arena_bearing_deg, 350.0);
+        let empty = SummaryBuilder::new(&plan()).summary();
+        assert!(empty.epochs[0].arena_bearing_deg.is_nan());
+    }
+
+    #[test]
+    fn rounds_like_the_writer() {
+        let mut a = SummaryBuilder::new(&plan());
+        let mut b = SummaryBuilder::new(&plan());
+        a.push_values(1, 12.345_678, 0.0, 12.345_678, true);
+        b.push_values(1, 12.346, 0.0, 12.346, true);
+        a.push_values(1, 359.999_7, 0.0, 359.999_7, true);
+        b.push_values(1, 0.0, 0.0, 0.0, true);
+        // (JSON text: NaN statistics of empty epochs compare equal as null.)
+        let json = |b: &SummaryBuilder| serde_json::to_string(&b.summary()).unwrap();
+        assert_eq!(json(&a), json(&b));
+    }
+
+    #[test]
+    fn planned_epochs_from_a_protocol() {
+        let p = crate::protocol::smoke_protocol();
+        let planned = PlannedEpoch::from_protocol(&p);
+        assert_eq!(planned.len(), p.epochs.len());
+        assert_eq!(planned[0].turn_before_deg, 0.0);
+        assert!(planned.iter().skip(1).any(|e| e.turn_before_deg != 0.0));
+    }
+}

@@ -22,6 +22,7 @@
 //! streaming estimate is then optimistic. Neither claims more than n.
 
 use super::sum::Neumaier;
+use super::trig::sin_cos_deg;
 use super::{CircularSummary, mean_direction_from_resultant_deg, rayleigh_test, summary_from_sums};
 
 /// Streaming accumulator of headings: O(1) per sample.
@@ -67,7 +68,7 @@ impl HeadingAccumulator {
             self.mark_gap();
             return;
         }
-        let (s, c) = angle_deg.to_radians().sin_cos();
+        let (s, c) = sin_cos_deg(angle_deg);
         self.n += 1;
         self.sum_c.add(c);
         self.sum_s.add(s);
@@ -231,7 +232,7 @@ pub fn effective_sample_size_deg(angles_deg: &[f64]) -> f64 {
     let u: Vec<(f64, f64)> = angles_deg
         .iter()
         .map(|a| {
-            let (s, c) = a.to_radians().sin_cos();
+            let (s, c) = sin_cos_deg(*a);
             (c, s)
         })
         .collect();

@@ -15,6 +15,7 @@
 mod accumulator;
 mod second_order;
 mod sum;
+mod trig;
 
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
 pub use second_order::{
@@ -92,7 +93,7 @@ fn resultant(angles_deg: &[f64], multiple: f64) -> (f64, f64) {
     let mut c = Neumaier::default();
     let mut s = Neumaier::default();
     for &a in angles_deg {
-        let (sn, cs) = (multiple * a).to_radians().sin_cos();
+        let (sn, cs) = trig::sin_cos_deg(multiple * a);
         c.add(cs);
         s.add(sn);
     }

@@ -3,6 +3,7 @@
 //! convention; mean directions in [0, 360).
 
 use super::sum::Neumaier;
+use super::trig::sin_cos_deg;
 use super::{CircularError, kappa_estimate, mean_direction_from_resultant_deg};
 use serde::Serialize;
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
@@ -101,7 +102,7 @@ pub fn watson_williams_test(groups: &[&[f64]]) -> Result<WatsonWilliamsResult, C
         let mut c = Neumaier::default();
         let mut s = Neumaier::default();
         for &a in g.iter() {
-            let (sn, cs) = a.to_radians().sin_cos();
+            let (sn, cs) = sin_cos_deg(a);
             c.add(cs);
             s.add(sn);
         }
@@ -203,7 +204,7 @@ fn vectors(
         .iter()
         .zip(lengths)
         .map(|(&m, &r)| {
-            let (s, c) = m.to_radians().sin_cos();
+            let (s, c) = sin_cos_deg(m);
             (r * c, r * s)
         })
         .unzip())
@@ -228,13 +229,16 @@ pub struct MooreResult {
 ///
 /// With the lengths ranked 1..n from shortest to longest (ties get their average rank),
 /// X = Σ rank_i cos θ_i / n, Y = Σ rank_i sin θ_i / n, R* = sqrt(X² + Y²)/sqrt(n).
-/// p is not read from Moore's table: under uniformity Σ rank_i cos θ_i and Σ rank_i sin θ_i
-/// are uncorrelated with variance Σ rank²/2 each, so (Σ rank cos)² + (Σ rank sin)² is
-/// approximately (Σ rank²/2)·χ²₂ and p ≈ exp(−n³ R*² / Σ rank²). This tends to Moore's
-/// asymptotic p = exp(−3R*²) and uses the exact finite-n variance. Against a Monte-Carlo null
-/// distribution (tests/fixtures/circular_reference.json) it is conservative at n ≥ 5 (reports
-/// p above the true one), by at most about 15% relative at α = 0.05 for n ≥ 10 and 7% for
-/// n ≥ 20. Needs n ≥ 2.
+/// p is not read from Moore's table but from a moment-corrected exponential tail: with
+/// t = n³R*²/Σrank² (so that E t = 1 under uniformity) and δ = Σrank⁴/(Σrank²)², the exact
+/// second moment of a sum of fixed-length vectors in uniform directions,
+/// E|S|⁴ = 2(Σrank²)² − Σrank⁴, fixes the first Laguerre correction of the exponential
+/// (χ²₂/2) tail: p ≈ exp(−t + δ(t/2 − t²/4)). For equal weights this is exactly the first-order
+/// expansion of the Greenwood–Durand Rayleigh p used by [`super::rayleigh_test`] (and Wilkie
+/// 1983's first term), and for n → ∞ it tends to Moore's asymptotic exp(−3R*²). Checked against
+/// a Monte-Carlo null distribution (tests/fixtures/circular_reference.json): within about 5%
+/// of α at α = 0.05 and 25% at α = 0.01 for n ≥ 10; conservative but rough (up to 2.5α) at
+/// n ≤ 5. Needs n ≥ 2.
 pub fn moore_rayleigh_test(
     means_deg: &[f64],
     lengths: &[f64],
@@ -246,16 +250,20 @@ pub fn moore_rayleigh_test(
     let mut sc = Neumaier::default();
     let mut ss = Neumaier::default();
     let mut sq = 0.0;
+    let mut q4 = 0.0;
     for (&m, &rank) in means_deg.iter().zip(&ranks) {
-        let (s, c) = m.to_radians().sin_cos();
+        let (s, c) = sin_cos_deg(m);
         sc.add(rank * c);
         ss.add(rank * s);
         sq += rank * rank;
+        q4 += rank.powi(4);
     }
     let nf = n as f64;
     let len2 = sc.value().powi(2) + ss.value().powi(2);
     let r_star = len2.sqrt() / nf.powf(1.5);
-    let p = (-len2 / sq).exp().clamp(0.0, 1.0);
+    let t = len2 / sq;
+    let delta = q4 / (sq * sq);
+    let p = (-t + delta * (t / 2.0 - t * t / 4.0)).exp().clamp(0.0, 1.0);
     Ok(MooreResult {
         n,
         r_star,
@@ -397,6 +405,20 @@ mod tests {
             (m.p - asym).abs() < 1e-3 * asym.max(1e-3) + 1e-3,
             "{m:?} {asym}"
         );
+    }
+
+    #[test]
+    fn moore_p_with_equal_weights_matches_first_order_greenwood_durand() {
+        // Ties everywhere: all ranks equal, so R* n^(3/2) / rank = R and t = R²/n = z.
+        let means = [10.0, 40.0, 70.0, 100.0, 130.0, 200.0, 250.0, 300.0];
+        let rs = [0.5; 8];
+        let m = moore_rayleigh_test(&means, &rs).unwrap();
+        let d = crate::circular::describe_deg(&means);
+        let (z, n) = (d.rayleigh_z, 8.0);
+        let first_order = (-z + (2.0 * z - z * z) / (4.0 * n)).exp();
+        assert!((m.p - first_order).abs() < 1e-12, "{} {first_order}", m.p);
+        // and it is close to the full Greenwood–Durand p
+        assert!((m.p - d.rayleigh_p).abs() < 0.02);
     }
 
     #[test]

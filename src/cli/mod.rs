@@ -3,6 +3,7 @@
 pub mod batch;
 pub mod check;
 pub mod demo;
+pub mod launch;
 pub mod plan;
 pub mod report;
 pub mod rig;

@@ -94,13 +94,9 @@ pub fn next_minute(t: DateTime<Utc>) -> DateTime<Utc> {
     DateTime::from_timestamp_millis(up).unwrap_or(t)
 }
 
-/// Reads a rig file. (The rig file reader, `rig::config::load_rig`, has not landed on this
-/// branch yet; until it does, `--rig` is refused with a clear message.)
+/// Reads and checks a rig file (errors name file, line and field).
 fn read_rig(path: &Path) -> anyhow::Result<Rig> {
-    anyhow::bail!(
-        "--rig {}: reading rig files is not available in this build yet; leave out --rig to plan with the built-in demo rig",
-        path.display()
-    )
+    Ok(crate::rig::config::load_rig(path)?)
 }
 
 /// Site, time zone and true mark bearing from a rig; a magnetic mark bearing is corrected with

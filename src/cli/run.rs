@@ -1,13 +1,87 @@
-//! `skybearing run`.
+//! `skybearing run`: a live session on real devices (or a rig served by `skybearing sim`).
 
+use crate::cli::launch::{Display, launch};
+use crate::clock::{Clock, RealClock};
+use crate::engine::session::{Engine, EngineClock, SessionSetup, Speed};
+use anyhow::Context;
+use chrono::{SubsecRound, Utc};
 use clap::Args;
+use std::path::PathBuf;
+use std::sync::Arc;
 
 /// Flags of `skybearing run`.
 #[derive(Debug, Args)]
-pub struct RunArgs {}
+pub struct RunArgs {
+    /// Rig file (TOML; `skybearing rig init FILE` writes a template).
+    #[arg(long)]
+    pub rig: PathBuf,
+    /// Protocol file (TOML; see protocols/).
+    #[arg(long)]
+    pub protocol: PathBuf,
+    /// Animal id written into the archive (letters, digits, - _ .).
+    #[arg(long, default_value = "animal")]
+    pub animal: String,
+    /// Sessions folder (default: the rig file's, else ./sessions).
+    #[arg(long)]
+    pub sessions: Option<PathBuf>,
+    /// No screen: progress lines on stdout; operator words on stdin (ok, stop, fly, note TEXT,
+    /// pause, resume, skip, end).
+    #[arg(long)]
+    pub headless: bool,
+    /// Monochrome screen (also when NO_COLOR is set).
+    #[arg(long)]
+    pub mono: bool,
+}
 
 /// Runs the command; returns the exit status.
 pub fn run(args: RunArgs) -> anyhow::Result<i32> {
-    let _ = args;
-    anyhow::bail!("'run' is not built yet")
+    let rig = crate::rig::config::load_rig(&args.rig)?;
+    let (protocol, warnings) = crate::protocol::load_protocol(&args.protocol)?;
+    for w in warnings {
+        eprintln!("skybearing: warning: {w}");
+    }
+    let sessions_dir = args
+        .sessions
+        .clone()
+        .unwrap_or_else(|| rig.sessions_dir.clone());
+    let clock = RealClock::start();
+    // The UTC anchor is read once, at session second 0; after that only the monotonic clock
+    // stamps samples, so a wall-clock step cannot bend t_s.
+    let start_utc = Utc::now().trunc_subsecs(3);
+    let shared: Arc<dyn Clock> = Arc::new(clock.clone());
+    let setup = SessionSetup {
+        mode: "run".into(),
+        animal: args.animal.clone(),
+        sessions_dir,
+        protocol,
+        rig: rig.clone(),
+        start_utc,
+        speed: Speed::Times(1.0),
+        seed: None,
+        extra: serde_json::json!({ "rig_file": args.rig.display().to_string() }),
+    };
+    let engine = Engine::new(setup)?;
+    let sensor = crate::rig::open_sensor(&rig, shared.clone())
+        .with_context(|| format!("{}: sensor", args.rig.display()))?;
+    let turntable = crate::rig::open_turntable(&rig, shared)
+        .with_context(|| format!("{}: turntable", args.rig.display()))?;
+    let outcome = launch(
+        engine,
+        sensor,
+        turntable,
+        EngineClock::Real(Box::new(clock)),
+        Display {
+            headless: args.headless,
+            mono: args.mono,
+            auto_confirm_after_s: None,
+        },
+        None,
+    )?;
+    Ok(
+        if outcome.status == "complete" || outcome.reason.contains("operator") {
+            0
+        } else {
+            1
+        },
+    )
 }

@@ -4,6 +4,7 @@ use crate::rig::pty::{PtyServer, SIM_RIG_MARKER, SimNotice};
 use crate::rig::sim::{AnimalMode, SimConfig};
 use anyhow::{Context, bail};
 use clap::Args;
+use std::io::Write;
 use std::path::PathBuf;
 use std::sync::atomic::{AtomicBool, Ordering};
 
@@ -170,11 +171,13 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
             SimNotice::Flight(false) => "animal stopped flying".into(),
             SimNotice::Unknown(s) => format!("turntable: unknown command \"{s}\""),
         };
-        eprintln!("sim: {t:8.1} s  {what}");
+        // A closed stderr (a pipe whose reader left) must not stop the simulator.
+        let _ = writeln!(std::io::stderr(), "sim: {t:8.1} s  {what}");
     });
     server.remove_links();
     let w = server.world();
-    eprintln!(
+    let _ = writeln!(
+        std::io::stderr(),
         "sim: stopped after {:.1} s: {} lines sent ({} malformed on purpose), {} dropped unread",
         server.now_s(),
         w.lines_sent(),

@@ -5,3 +5,4 @@ pub mod snapshot;
 pub use snapshot::{
     Command, EpochRow, EpochState, Health, Prompt, Snapshot, SnapshotCell, TracePoint, TurnRow,
 };
+pub mod session;

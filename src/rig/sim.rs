@@ -462,11 +462,7 @@ impl SimWorld {
             return true;
         }
         self.last_id = self.last_id.max(id);
-        let from = self
-            .motions
-            .last()
-            .map_or(0.0, |m| m.to_deg)
-            .max(f64::NEG_INFINITY);
+        let from = self.motions.last().map_or(0.0, |m| m.to_deg);
         let start = self.motions.last().map_or(now_s, |m| m.end_s.max(now_s));
         let end = start + by_deg.abs() / self.cfg.turntable_speed_deg_per_s;
         self.motions.push(Motion {

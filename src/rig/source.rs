@@ -106,6 +106,8 @@ pub struct ThreadSource {
     shared: Arc<Mutex<Shared>>,
     stop: Arc<AtomicBool>,
     what: String,
+    /// Joined on drop (serial: the port is closed before a new open of the same path).
+    join: Option<std::thread::JoinHandle<()>>,
 }
 
 impl ThreadSource {
@@ -121,6 +123,7 @@ impl ThreadSource {
                 shared: shared.clone(),
                 stop: stop.clone(),
                 what,
+                join: None,
             },
             shared,
             stop,
@@ -134,12 +137,14 @@ impl ThreadSource {
         pipe: Pipeline,
         clock: Arc<dyn Clock>,
     ) -> Self {
-        let (me, shared, stop) = Self::new(pipe, format!("serial {} @ {baud}", path.display()));
-        std::thread::Builder::new()
+        let (mut me, shared, stop) = Self::new(pipe, format!("serial {} @ {baud}", path.display()));
+        match std::thread::Builder::new()
             .name("sensor-serial".into())
             .spawn(move || serial_thread(path, baud, Some(port), shared, stop, clock))
-            .map(|_| ())
-            .unwrap_or_else(|e| eprintln!("skybearing: cannot start the sensor thread: {e}"));
+        {
+            Ok(h) => me.join = Some(h),
+            Err(e) => eprintln!("skybearing: cannot start the sensor thread: {e}"),
+        }
         me
     }
 
@@ -236,6 +241,9 @@ fn disconnect(shared: &Mutex<Shared>, clock: &Arc<dyn Clock>, why: &str) {
 impl Drop for ThreadSource {
     fn drop(&mut self) {
         self.stop.store(true, Ordering::Relaxed);
+        if let Some(h) = self.join.take() {
+            let _ = h.join();
+        }
     }
 }
 
@@ -420,6 +428,35 @@ mod tests {
         for (a, b) in ts.iter().zip(want.iter()) {
             assert!((a.0 - b.0).abs() < 1e-9 && a.1 == b.1, "{ts:?}");
         }
+    }
+
+    #[test]
+    fn replay_fast_pace_stamps_when_read() {
+        let dir = tempfile::tempdir().unwrap();
+        let f = dir.path().join("r.txt");
+        std::fs::write(&f, "10\r\n\r\n20\nnan\n30").unwrap();
+        let mut rig = demo_rig();
+        rig.sensor.decoder.time_column = None;
+        rig.sensor.source = SensorSource::Replay {
+            path: f,
+            pace: ReplayPace::Fast,
+        };
+        let mut src = open_sensor(&rig, Arc::new(SimClock::new())).unwrap();
+        let mut out = Vec::new();
+        src.drain(0.5, &mut out).unwrap();
+        let raws: Vec<f64> = out
+            .iter()
+            .filter_map(|e| match e {
+                SensorEvent::Sample { raw, t_s, .. } if *t_s == 0.5 => Some(*raw),
+                _ => None,
+            })
+            .collect();
+        assert_eq!(raws, [10.0, 20.0, 30.0]);
+        assert_eq!(src.health().malformed, 1);
+        assert!(src.describe().ends_with("(end of file)"));
+        out.clear();
+        src.drain(2.0, &mut out).unwrap();
+        assert_eq!(out, [SensorEvent::Lost { t_s: 1.5 }]);
     }
 
     #[test]

@@ -154,6 +154,7 @@ pub struct SerialTurntable {
     pending: Option<PendingTurn>,
     position_deg: Option<f64>,
     what: String,
+    join: Option<std::thread::JoinHandle<()>>,
 }
 
 impl SerialTurntable {
@@ -176,7 +177,7 @@ impl SerialTurntable {
         let stop = Arc::new(AtomicBool::new(false));
         let (sh, st) = (shared.clone(), stop.clone());
         let p2 = path.clone();
-        std::thread::Builder::new()
+        let join = std::thread::Builder::new()
             .name("turntable-serial".into())
             .spawn(move || reply_thread(p2, baud, Some(reader), sh, st, clock))?;
         let mut me = Self {
@@ -187,6 +188,7 @@ impl SerialTurntable {
             pending: None,
             position_deg: None,
             what: format!("serial {} @ {baud}", path.display()),
+            join: Some(join),
         };
         me.send("POS?\n");
         Ok(me)
@@ -265,6 +267,9 @@ fn reply_thread(
 impl Drop for SerialTurntable {
     fn drop(&mut self) {
         self.stop.store(true, Ordering::Relaxed);
+        if let Some(h) = self.join.take() {
+            let _ = h.join();
+        }
     }
 }
 

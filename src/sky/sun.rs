@@ -105,7 +105,7 @@ pub fn enu_from_az_el_deg(azimuth_deg: f64, elevation_deg: f64) -> [f64; 3] {
 
 /// Azimuth [0, 360) and elevation in degrees of an east-north-up vector (need not be unit).
 pub fn az_el_deg_from_enu(v: [f64; 3]) -> (f64, f64) {
-    let horizontal = v[0].hypot(v[1]);
+    let horizontal = (v[0] * v[0] + v[1] * v[1]).sqrt();
     let el = v[2].atan2(horizontal).to_degrees();
     let az = crate::frames::wrap_360_deg(v[0].atan2(v[1]).to_degrees());
     (az, el)
@@ -132,8 +132,11 @@ fn geometric_vector_at_unix_s(
     longitude_deg: f64,
     unix_s: f64,
 ) -> Result<[f64; 3], SkyError> {
-    if !unix_s.is_finite() || unix_s.abs() > 1.0e12 {
+    if !unix_s.is_finite() {
         return Err(SkyError::NotFinite("time"));
+    }
+    if unix_s.abs() > 1.0e12 {
+        return Err(SkyError::Spa(format!("time {unix_s} s is out of range")));
     }
     let whole = unix_s.floor();
     let frac = unix_s - whole;
@@ -725,6 +728,40 @@ mod tests {
         )
         .unwrap();
         assert!(s.polar_night);
+    }
+
+    #[test]
+    fn poles_and_date_line_are_handled() {
+        // At the North Pole at the June solstice the sun circles at the solar declination,
+        // about +23.44° (from memory), all day.
+        for h in [0, 6, 12, 18] {
+            let p = sun_position(90.0, 0.0, 0.0, utc(2026, 6, 21, h, 0, 0)).unwrap();
+            assert!(p.azimuth_deg.is_finite());
+            assert!((p.geometric_elevation_deg - 23.44).abs() < 0.1, "{p:?}");
+        }
+        let p = sun_position(-90.0, 180.0, 0.0, utc(2026, 6, 21, 0, 0, 0)).unwrap();
+        assert!((p.geometric_elevation_deg + 23.44).abs() < 0.1, "{p:?}");
+        let a = sun_position(10.0, 180.0, 0.0, utc(2026, 3, 1, 0, 0, 0)).unwrap();
+        let b = sun_position(10.0, -180.0, 0.0, utc(2026, 3, 1, 0, 0, 0)).unwrap();
+        assert!(separation_deg(a, b) < 1e-9);
+        let d = sun_day(
+            90.0,
+            0.0,
+            0.0,
+            NaiveDate::from_ymd_opt(2026, 6, 21).unwrap(),
+        )
+        .unwrap();
+        assert!(d.polar_day);
+        let d = sun_day(
+            -90.0,
+            0.0,
+            0.0,
+            NaiveDate::from_ymd_opt(2026, 6, 21).unwrap(),
+        )
+        .unwrap();
+        assert!(d.polar_night);
+        let mut track = SunTrack::new(90.0, 0.0, 0.0, utc(2026, 6, 21, 0, 0, 0)).unwrap();
+        assert!((track.at(1234.5).geometric_elevation_deg - 23.44).abs() < 0.1);
     }
 
     #[test]

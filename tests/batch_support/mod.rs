@@ -3,7 +3,6 @@
 //! Python. (The demo archive under tests/data is checked separately against the reference.)
 #![allow(dead_code)]
 
-use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 /// How the synthetic animal steers.
@@ -15,8 +14,10 @@ pub enum Mode {
     Arena,
 }
 
-/// Writes a session folder `root/id` with `epochs` epochs of `n` samples at 10 Hz; arena turns
-/// of +90 between epochs; conditions alternate "open sky" / "diffuser". Returns the folder.
+/// Writes a session folder `root/id` through the archive's own writer: `epochs` epochs of `n`
+/// samples at 10 Hz, arena turns of +90 between epochs, conditions alternating "open sky" /
+/// "diffuser", the first 20 samples of each epoch not scored (a settle window). Returns the
+/// folder.
 #[allow(clippy::too_many_arguments)]
 pub fn write_session(
     root: &Path,
@@ -28,28 +29,50 @@ pub fn write_session(
     epochs: usize,
     n: usize,
 ) -> PathBuf {
-    let dir = root.join(id);
-    std::fs::create_dir_all(&dir).unwrap();
+    use skybearing::archive::{
+        FORMAT_VERSION, PlannedEpoch, SampleRow, SessionMeta, SessionStatus, SessionWriter,
+        SiteMeta, SummaryBuilder,
+    };
     let conds = ["open sky", "diffuser"];
-    let eps: Vec<String> = (0..epochs)
-        .map(|i| {
-            format!(
-                r#"{{"index":{},"duration_s":{},"condition":"{}","arena":{{"kind":"turn_by","deg":90}},"prompt":null}}"#,
-                i + 1,
-                n as f64 / 10.0,
-                conds[i % 2]
-            )
+    let planned: Vec<PlannedEpoch> = (0..epochs)
+        .map(|i| PlannedEpoch {
+            index: i + 1,
+            condition: conds[i % 2].to_string(),
+            turn_before_deg: if i == 0 { 0.0 } else { 90.0 },
+            duration_s: n as f64 / 10.0,
         })
         .collect();
-    let meta = format!(
-        r#"{{"id":"{id}","animal":"{animal}","status":"{status}","started_utc":"2026-06-0{}T09:00:00.000Z","ended_utc":"2026-06-01T10:00:00.000Z","site":{{"name":"Larkfield Meadow (demo)","latitude_deg":52.1,"longitude_deg":5.2,"elevation_m":10}},"arena_mark_bearing_deg":20.0,"declination_deg":2.0,"format_version":1,"protocol":{{"name":"synthetic","settle_s":2.0,"epochs":[{}]}}}}"#,
-        1 + (id.len() % 5),
-        eps.join(",")
-    );
-    std::fs::write(dir.join("session.json"), meta).unwrap();
-    let mut s = String::from(
-        "t_utc,t_s,epoch,arena_heading_deg,arena_bearing_deg,world_heading_deg,sun_azimuth_deg,sun_elevation_deg,flying,scored,sun_relative_heading_deg,zenith_evector_deg,raw\n",
-    );
+    let day = 1 + (id.len() % 5) as u32;
+    let start = chrono::TimeZone::with_ymd_and_hms(&chrono::Utc, 2026, 6, day, 9, 0, 0).unwrap();
+    let mut meta = SessionMeta {
+        format_version: FORMAT_VERSION,
+        id: id.to_string(),
+        status: SessionStatus::Running,
+        started_utc: start,
+        ended_utc: None,
+        animal: animal.to_string(),
+        site: SiteMeta {
+            name: "Larkfield Meadow (demo)".into(),
+            latitude_deg: 52.1,
+            longitude_deg: 5.2,
+            elevation_m: 10.0,
+        },
+        time_zone: "UTC".into(),
+        arena_mark_bearing_deg: 20.0,
+        arena_mark_bearing_measured_deg: 20.0,
+        arena_mark_reference: "true".into(),
+        declination_deg: Some(2.0),
+        protocol: serde_json::json!({"name": "synthetic"}),
+        epochs: planned.clone(),
+        rig: serde_json::json!({}),
+        program_version: skybearing::VERSION.into(),
+        mode: "demo".into(),
+        seed: None,
+        end_reason: None,
+        notes: 0,
+    };
+    let mut w = SessionWriter::create(root, &meta).unwrap();
+    let mut summary = SummaryBuilder::new(&planned);
     let mut t = 0.0;
     let mut bearing: f64 = 20.0;
     for e in 0..epochs {
@@ -58,7 +81,7 @@ pub fn write_session(
         }
         for i in 0..n {
             t += 0.1;
-            // A deterministic wobble of ±20° around the preferred heading.
+            // A deterministic wobble of about ±27° around the preferred heading.
             let wobble = 20.0 * ((i as f64) * 0.37).sin() + 7.0 * ((i as f64) * 1.3).cos();
             let (world, arena) = match mode {
                 Mode::Sky => {
@@ -70,20 +93,34 @@ pub fn write_session(
                     ((a + bearing).rem_euclid(360.0), a)
                 }
             };
-            let scored = i >= 20;
             let sun = 130.0 + t / 240.0;
-            writeln!(
-                s,
-                "2026-06-01T09:00:00.000Z,{t:.3},{},{arena:.3},{bearing:.3},{world:.3},{sun:.4},35.0000,1,{},{:.3},40.000,{arena:.3}",
-                e + 1,
-                scored as u8,
-                (world - sun).rem_euclid(360.0)
-            )
-            .unwrap();
+            let row = SampleRow {
+                t_utc: start + chrono::Duration::milliseconds((t * 1000.0) as i64),
+                t_s: t,
+                epoch: e + 1,
+                arena_heading_deg: arena,
+                arena_bearing_deg: bearing,
+                world_heading_deg: world,
+                sun_azimuth_deg: sun,
+                sun_elevation_deg: 35.0,
+                flying: true,
+                scored: i >= 20,
+                sun_relative_heading_deg: (world - sun).rem_euclid(360.0),
+                zenith_evector_deg: 40.0,
+                raw: arena,
+            };
+            summary.push(&row);
+            w.append_sample(&row).unwrap();
         }
     }
-    std::fs::write(dir.join("samples.csv"), s).unwrap();
-    dir
+    meta.status = match status {
+        "complete" => SessionStatus::Complete,
+        "recovered" => SessionStatus::Recovered,
+        "aborted" => SessionStatus::Aborted,
+        _ => SessionStatus::Running,
+    };
+    meta.ended_utc = Some(start + chrono::Duration::milliseconds((t * 1000.0) as i64));
+    w.finish(&meta, &summary.summary()).unwrap()
 }
 
 /// Reads a CSV written by batch into (header, rows) with a small quote-aware splitter.

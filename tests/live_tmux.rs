@@ -1,0 +1,170 @@
+//! End-to-end test of the live screen: `skybearing demo --speed 30` in tmux. Reads the pane,
+//! resizes it, sends `q` (then another key: nothing must happen), then `q` `y`, and checks the
+//! session folder. `.ci/run` installs tmux where it is missing.
+
+use std::path::Path;
+use std::process::Command;
+use std::time::{Duration, Instant};
+
+const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+
+struct Tmux {
+    socket: String,
+}
+
+impl Tmux {
+    fn cmd(&self, args: &[&str]) -> std::process::Output {
+        Command::new("tmux")
+            .arg("-L")
+            .arg(&self.socket)
+            .args(args)
+            .output()
+            .expect("tmux runs")
+    }
+    fn capture(&self) -> String {
+        String::from_utf8_lossy(&self.cmd(&["capture-pane", "-p", "-t", "live"]).stdout)
+            .into_owned()
+    }
+    fn wait_for(&self, what: &str, secs: u64) -> String {
+        let until = Instant::now() + Duration::from_secs(secs);
+        loop {
+            let screen = self.capture();
+            if screen.contains(what) {
+                return screen;
+            }
+            assert!(
+                Instant::now() < until,
+                "'{what}' never appeared; screen:\n{screen}"
+            );
+            std::thread::sleep(Duration::from_millis(200));
+        }
+    }
+    fn keys(&self, keys: &str) {
+        self.cmd(&["send-keys", "-t", "live", keys]);
+    }
+}
+
+impl Drop for Tmux {
+    fn drop(&mut self) {
+        let _ = Command::new("tmux")
+            .arg("-L")
+            .arg(&self.socket)
+            .arg("kill-server")
+            .output();
+    }
+}
+
+fn wait_file(p: &Path, secs: u64) -> String {
+    let until = Instant::now() + Duration::from_secs(secs);
+    loop {
+        if let Ok(s) = std::fs::read_to_string(p)
+            && s.ends_with('\n')
+        {
+            return s;
+        }
+        assert!(Instant::now() < until, "{} never appeared", p.display());
+        std::thread::sleep(Duration::from_millis(200));
+    }
+}
+
+#[test]
+fn live_demo_in_tmux_ends_with_q_then_y() {
+    assert!(
+        Command::new("tmux")
+            .arg("-V")
+            .output()
+            .is_ok_and(|o| o.status.success()),
+        "tmux is needed for this test (.ci/run installs it)"
+    );
+    let tmp = tempfile::tempdir().expect("tmp");
+    let sessions = tmp.path().join("sessions");
+    let done = tmp.path().join("exit.txt");
+    let script = format!(
+        "'{bin}' demo --speed 30 --seed 4 --start 2026-06-14T07:30:00Z --sessions '{s}' 2> '{o}'; echo $? > '{d}'; sleep 30",
+        bin = BIN,
+        s = sessions.display(),
+        o = tmp.path().join("err.txt").display(),
+        d = done.display()
+    );
+    let tmux = Tmux {
+        socket: format!("skybearing-test-{}", std::process::id()),
+    };
+    let out = tmux.cmd(&[
+        "new-session",
+        "-d",
+        "-s",
+        "live",
+        "-x",
+        "80",
+        "-y",
+        "24",
+        "sh",
+        "-c",
+        &script,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+
+    // 80×24: the session line shows the animal; the screen says how to end.
+    let screen = tmux.wait_for("lm-07", 20);
+    assert!(
+        screen.contains("Larkfield") || screen.contains("lm-07"),
+        "{screen}"
+    );
+    // Bigger window: the screen uses the room.
+    tmux.cmd(&["resize-window", "-t", "live", "-x", "160", "-y", "48"]);
+    std::thread::sleep(Duration::from_millis(800));
+    let big = tmux.capture();
+    assert!(
+        big.lines().count() >= 40,
+        "after resize the pane has {} lines",
+        big.lines().count()
+    );
+    assert!(
+        big.lines().any(|l| l.trim_end().len() > 100),
+        "the wide screen uses the width:\n{big}"
+    );
+
+    // q then anything but y: the session goes on.
+    tmux.keys("q");
+    std::thread::sleep(Duration::from_millis(500));
+    tmux.keys("n");
+    std::thread::sleep(Duration::from_millis(1000));
+    assert!(!done.exists(), "q then n must not end the session");
+
+    // q then y ends it; the archive is closed.
+    tmux.keys("q");
+    std::thread::sleep(Duration::from_millis(500));
+    tmux.keys("y");
+    let code = wait_file(&done, 30);
+    assert_eq!(
+        code.trim(),
+        "0",
+        "exit status; stderr: {}",
+        std::fs::read_to_string(tmp.path().join("err.txt")).unwrap_or_default()
+    );
+    // The terminal is restored and the folder's path is printed last.
+    let after = tmux.capture();
+    let dirs: Vec<_> = std::fs::read_dir(&sessions)
+        .expect("sessions")
+        .map(|e| e.expect("entry").path())
+        .collect();
+    assert_eq!(dirs.len(), 1);
+    let dir = dirs[0].as_path();
+    let name = dir.file_name().and_then(|n| n.to_str()).expect("name");
+    assert!(
+        after.contains(name),
+        "the session path is printed after the screen closes:\n{after}"
+    );
+    let meta: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(dir.join("session.json")).expect("session.json"),
+    )
+    .expect("json");
+    assert_eq!(meta["status"], "aborted", "ended early by the operator");
+    assert!(dir.join("summary.json").is_file());
+    let samples = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");
+    assert!(samples.lines().count() > 100);
+}
