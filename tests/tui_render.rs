@@ -459,3 +459,22 @@ fn trace_grid_rows_carry_their_labels() {
         }
     }
 }
+
+#[test]
+fn key_feedback_shows_on_the_glance_line_at_80_columns() {
+    let snap = SnapshotBuilder::new().build();
+    let mut ui = UiState::default();
+    ui.handle_key(
+        crossterm::event::KeyEvent::new(
+            crossterm::event::KeyCode::Char('f'),
+            crossterm::event::KeyModifiers::NONE,
+        ),
+        &snap,
+    );
+    let lines = screen(&snap, &ui, 80, 24);
+    let g = must_find(&lines, "» flight stop marked");
+    assert!(lines[g].contains("FLYING"), "{}", lines[g]);
+    ui.tick(10.0);
+    let lines = screen(&snap, &ui, 80, 24);
+    assert!(find(&lines, "flight stop marked").is_none());
+}

@@ -405,6 +405,8 @@ fn verdict(turn_deg: f64, shift_deg: f64) -> Option<bool> {
     Some(shift_deg.abs() <= signed_difference_deg(turn_deg, shift_deg).abs())
 }
 
+/// The glance line, most important first (what does not fit is dropped from the end):
+/// flight state, heading, archive trouble, operator feedback, next turn, hold, last turn.
 fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a>> {
     let mut items: Vec<Item> = Vec::new();
     items.push(state_spans(snap, theme));
@@ -420,23 +422,7 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
     if let Some(alarm) = archive_alarm(snap) {
         items.push(vec![Span::styled(alarm, theme.flag(theme.alarm))]);
     }
-    if let Some(e) = current_epoch(snap)
-        && e.n > 0
-    {
-        items.push(vec![
-            Span::styled("hold r ", theme.base()),
-            Span::styled(r_value(e.r), theme.strong()),
-        ]);
-    }
-    if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
-        items.push(vec![
-            Span::styled("turn ", theme.base()),
-            Span::styled(format::signed_deg(d), theme.accent(theme.turn)),
-            Span::styled(" in ", theme.base()),
-            Span::styled(countdown(t), theme.accent(theme.turn)),
-        ]);
-    }
-    if let Some(text) = ui.flash_at(snap.t_s) {
+    if let Some(text) = ui.flash() {
         items.push(vec![Span::styled(
             format!("» {text}"),
             theme.strong().add_modifier(Modifier::ITALIC),
@@ -447,6 +433,22 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
             theme.strong(),
         )]);
     }
+    if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
+        items.push(vec![
+            Span::styled("turn ", theme.base()),
+            Span::styled(format::signed_deg(d), theme.accent(theme.turn)),
+            Span::styled(" in ", theme.base()),
+            Span::styled(countdown(t), theme.accent(theme.turn)),
+        ]);
+    }
+    if let Some(e) = current_epoch(snap)
+        && e.n > 0
+    {
+        items.push(vec![
+            Span::styled("hold r ", theme.base()),
+            Span::styled(r_value(e.r), theme.strong()),
+        ]);
+    }
     if let Some((t, s)) = last_scored_turn(snap) {
         let mut item = vec![
             Span::styled(format!("turn {} ", t.index), theme.base()),
@@ -456,7 +458,7 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
         ];
         match verdict(t.turn_deg, s) {
             Some(true) => item.push(Span::styled(" ✓ kept", theme.accent(theme.good))),
-            Some(false) => item.push(Span::styled(" ✗ not kept", theme.accent(theme.caution))),
+            Some(false) => item.push(Span::styled(" ✗ moved", theme.accent(theme.caution))),
             None => {}
         }
         items.push(item);
