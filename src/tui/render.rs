@@ -708,7 +708,7 @@ fn draw_dial(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, theme
         return;
     }
     let (w, h) = (inner.width as f64, inner.height as f64);
-    let half = 1.32;
+    let half = 1.45;
     let (xr, yr) = if w >= 2.0 * h {
         (half * w / (2.0 * h), half)
     } else {
@@ -786,14 +786,17 @@ fn draw_dial(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, theme
                 }
             }
             // Labels (always on top of the dots).
-            let label_r = 1.16;
+            // Cardinal labels about one row outside the rim, marks about one row inside it.
+            let row = 2.0 * yr / h;
+            let label_r = (1.0 + 1.2 * row).min(1.3);
+            let mark_r = (1.0 - row).clamp(0.8, 0.92);
             for (name, b) in [("N", 0.0), ("E", 90.0), ("S", 180.0), ("W", 270.0)] {
                 let (x, y) = polar(label_r, screen(b));
                 ctx.print(x, y, Span::styled(name, theme.strong()));
             }
-            let (x, y) = polar(1.0, screen(snap.arena_bearing_deg));
+            let (x, y) = polar(mark_r, screen(snap.arena_bearing_deg));
             ctx.print(x, y, Span::styled("A", theme.flag(theme.mark)));
-            let (x, y) = polar(1.0, screen(snap.sun_azimuth_deg));
+            let (x, y) = polar(mark_r, screen(snap.sun_azimuth_deg));
             ctx.print(x, y, Span::styled("*", theme.flag(theme.sun)));
             if let Some(hw) = heading_world {
                 let (x, y) = polar(0.8, screen(hw));
