@@ -212,8 +212,17 @@ pub fn run_live(
     let mut signal_handled = false;
     let mut ended_at: Option<Instant> = None;
     let mut next_draw = Instant::now();
+    let mut last_tick = Instant::now();
 
     loop {
+        let now = Instant::now();
+        if ui.flash.is_some() {
+            ui.tick(now.duration_since(last_tick).as_secs_f64());
+            if ui.flash.is_none() {
+                dirty = true;
+            }
+        }
+        last_tick = now;
         if !TERMINAL_ACTIVE.load(Ordering::SeqCst) {
             // A panic somewhere in the process restored the terminal (so its message can be
             // read); drawing on would scribble over it.
