@@ -130,7 +130,7 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
 
     // q then anything but y: the session goes on.
     tmux.keys("q");
-    std::thread::sleep(Duration::from_millis(500));
+    tmux.wait_for("END SESSION?", 5);
     tmux.keys("n");
     std::thread::sleep(Duration::from_millis(1000));
     assert!(!done.exists(), "q then n must not end the session");
