@@ -184,6 +184,19 @@ fn summary_push(c: &mut Criterion) {
             black_box(sb.r_world())
         })
     });
+    g.bench_function("summary_builder_push_100k_thread_cpu", |b| {
+        b.iter_custom(|iters| {
+            let start = thread_cpu();
+            for _ in 0..iters {
+                let mut sb = SummaryBuilder::new(&epochs());
+                for r in &pool {
+                    sb.push(r);
+                }
+                black_box(sb.r_world());
+            }
+            thread_cpu() - start
+        })
+    });
     g.finish();
 }
 

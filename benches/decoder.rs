@@ -65,6 +65,17 @@ fn decoder(c: &mut Criterion) {
         })
     });
     g.finish();
+    let mut g = c.benchmark_group("sim");
+    g.throughput(Throughput::Elements(60 * 100));
+    g.bench_function("in_process_60s_at_100hz", |b| {
+        b.iter(|| {
+            let (mut s, _t) = skybearing::rig::sim::in_process(SimConfig::new(1));
+            let mut out = Vec::with_capacity(6100);
+            s.drain(60.0, &mut out).expect("drain");
+            black_box(out.len())
+        })
+    });
+    g.finish();
 }
 
 /// CPU nanoseconds of one thread of this process, by its name.

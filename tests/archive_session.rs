@@ -359,3 +359,41 @@ fn killed_writer_is_recovered() {
     assert_eq!(s.epochs.len(), 3);
     assert!(s.epochs[0].n > 0);
 }
+
+#[test]
+fn frame_violation_is_reported() {
+    let tmp = tempfile::tempdir().unwrap();
+    let (w, b) = write_session(tmp.path(), "s_frame", 300);
+    let dir = finish(w, &b, "s_frame");
+    let p = dir.join(SAMPLES_FILE);
+    let text = std::fs::read_to_string(&p).unwrap();
+    let mut lines: Vec<String> = text.lines().map(String::from).collect();
+    // Line 6: shift the world heading by 1° (and keep everything else).
+    let mut f: Vec<String> = lines[5].split(',').map(String::from).collect();
+    let w: f64 = f[5].parse().unwrap();
+    f[5] = format!("{:.3}", (w + 1.0) % 360.0);
+    lines[5] = f.join(",");
+    std::fs::write(&p, lines.join("\n") + "\n").unwrap();
+    let report = check_session(&dir);
+    assert!(
+        report.problems.iter().any(|p| p.starts_with(
+            "samples.csv:6: world_heading_deg differs from arena_heading_deg + arena_bearing_deg (1 row"
+        )),
+        "{:?}",
+        report.problems
+    );
+}
+
+#[test]
+fn an_empty_fresh_lock_is_a_writer_starting_up() {
+    let tmp = tempfile::tempdir().unwrap();
+    let (mut w, _) = write_session(tmp.path(), "s_young", 50);
+    w.sync_now().unwrap();
+    let dir = w.dir().to_path_buf();
+    std::mem::forget(w);
+    std::fs::write(dir.join(LOCK_FILE), "").unwrap();
+    let report = check_session(&dir);
+    assert!(report.live && !report.interrupted, "{report:?}");
+    assert!(repair_session(&dir).is_err());
+    assert!(dir.join(LOCK_FILE).exists());
+}

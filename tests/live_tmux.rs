@@ -130,7 +130,7 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
 
     // q then anything but y: the session goes on.
     tmux.keys("q");
-    std::thread::sleep(Duration::from_millis(500));
+    tmux.wait_for("END SESSION?", 5);
     tmux.keys("n");
     std::thread::sleep(Duration::from_millis(1000));
     assert!(!done.exists(), "q then n must not end the session");
@@ -167,4 +167,65 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
     assert!(dir.join("summary.json").is_file());
     let samples = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");
     assert!(samples.lines().count() > 100);
+}
+
+#[test]
+fn closing_the_terminal_ends_the_session_properly() {
+    assert!(
+        Command::new("tmux")
+            .arg("-V")
+            .output()
+            .is_ok_and(|o| o.status.success()),
+        "tmux is needed for this test (.ci/run installs it)"
+    );
+    let tmp = tempfile::tempdir().expect("tmp");
+    let sessions = tmp.path().join("sessions");
+    let script = format!(
+        "'{bin}' demo --speed 30 --seed 6 --start 2026-06-14T07:30:00Z --sessions '{s}'",
+        bin = BIN,
+        s = sessions.display()
+    );
+    let tmux = Tmux {
+        socket: format!("skybearing-hup-{}", std::process::id()),
+    };
+    let out = tmux.cmd(&[
+        "new-session",
+        "-d",
+        "-s",
+        "live",
+        "-x",
+        "80",
+        "-y",
+        "24",
+        "sh",
+        "-c",
+        &script,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    tmux.wait_for("lm-07", 20);
+    // The window goes away (the terminal hangs up) in the middle of the session.
+    tmux.cmd(&["kill-server"]);
+    let until = Instant::now() + Duration::from_secs(20);
+    let meta_path = loop {
+        let dirs: Vec<_> = std::fs::read_dir(&sessions)
+            .expect("sessions")
+            .map(|e| e.expect("e").path())
+            .collect();
+        assert_eq!(dirs.len(), 1);
+        if dirs[0].join("summary.json").is_file() {
+            break dirs[0].join("session.json");
+        }
+        assert!(
+            Instant::now() < until,
+            "the session was not closed after the terminal hung up"
+        );
+        std::thread::sleep(Duration::from_millis(200));
+    };
+    let meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(meta_path).expect("json")).expect("json");
+    assert_eq!(meta["status"], "aborted");
 }

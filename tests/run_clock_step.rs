@@ -5,19 +5,12 @@
 
 use std::path::PathBuf;
 use std::process::{Command, Stdio};
-use std::time::{Duration, Instant};
 
-const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+mod sim_support;
+use sim_support::{BIN, start_sim};
+use std::time::Duration;
+
 const FAKETIME_LIB: &str = "/usr/lib/x86_64-linux-gnu/faketime/libfaketime.so.1";
-
-struct Killer(std::process::Child);
-
-impl Drop for Killer {
-    fn drop(&mut self) {
-        let _ = self.0.kill();
-        let _ = self.0.wait();
-    }
-}
 
 #[test]
 fn wall_clock_step_leaves_t_s_continuous() {
@@ -26,21 +19,7 @@ fn wall_clock_step_leaves_t_s_continuous() {
         "{FAKETIME_LIB} is needed (apt-get install faketime; .ci/run does it)"
     );
     let tmp = tempfile::tempdir().expect("tmp");
-    let rig = tmp.path().join("rig.toml");
-    let sim = Command::new(BIN)
-        .args(["sim", "--seed", "9"])
-        .arg("--write-rig")
-        .arg(&rig)
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .spawn()
-        .expect("spawn sim");
-    let _sim = Killer(sim);
-    let until = Instant::now() + Duration::from_secs(10);
-    while !rig.is_file() {
-        assert!(Instant::now() < until, "no rig file");
-        std::thread::sleep(Duration::from_millis(50));
-    }
+    let (_sim, rig) = start_sim(tmp.path(), &["--seed", "9"]);
     let stamp = tmp.path().join("faketime.txt");
     std::fs::write(&stamp, "+0\n").expect("write");
     let sessions = tmp.path().join("sessions");

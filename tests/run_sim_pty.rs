@@ -4,26 +4,16 @@
 
 use std::path::PathBuf;
 use std::process::{Command, Stdio};
-use std::time::{Duration, Instant};
 
-const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
-
-struct Killer(std::process::Child);
-
-impl Drop for Killer {
-    fn drop(&mut self) {
-        let _ = self.0.kill();
-        let _ = self.0.wait();
-    }
-}
+mod sim_support;
+use sim_support::{BIN, start_sim};
 
 #[test]
 fn run_completes_against_the_pty_simulator_with_faults() {
     let tmp = tempfile::tempdir().expect("tmp");
-    let rig = tmp.path().join("rig.toml");
-    let sim = Command::new(BIN)
-        .args([
-            "sim",
+    let (_sim, rig) = start_sim(
+        tmp.path(),
+        &[
             "--seed",
             "3",
             "--garbage",
@@ -32,23 +22,8 @@ fn run_completes_against_the_pty_simulator_with_faults() {
             "7",
             "--unplug-for",
             "2",
-        ])
-        .arg("--write-rig")
-        .arg(&rig)
-        .stdout(Stdio::null())
-        .stderr(Stdio::null())
-        .spawn()
-        .expect("spawn sim");
-    let _sim = Killer(sim);
-    let until = Instant::now() + Duration::from_secs(10);
-    while !rig.is_file() {
-        assert!(
-            Instant::now() < until,
-            "the simulator never wrote its rig file"
-        );
-        std::thread::sleep(Duration::from_millis(50));
-    }
-    std::thread::sleep(Duration::from_millis(200));
+        ],
+    );
     let sessions = tmp.path().join("sessions");
     let out = Command::new(BIN)
         .args([

@@ -435,3 +435,73 @@ fn every_symbol_is_one_cell_wide() {
         }
     }
 }
+
+#[test]
+fn trace_grid_rows_carry_their_labels() {
+    // The dotted grid line at 90/180/270 lies on the row labelled with it.
+    let snap = SnapshotBuilder::new().build();
+    for (w, h) in [(80, 24), (160, 48), (100, 30)] {
+        let lines = screen(&snap, &UiState::default(), w, h);
+        for label in ["180", " 90"] {
+            let row = lines
+                .iter()
+                .find(|l| l.contains(&format!("││{label} ")))
+                .unwrap_or_else(|| panic!("{w}x{h}: no {label} row:\n{}", dump(&lines)));
+            let after = row.split(&format!("││{label} ")).nth(1).unwrap();
+            let dots = after
+                .chars()
+                .filter(|c| ('\u{2801}'..='\u{28ff}').contains(c))
+                .count();
+            assert!(
+                dots >= 10,
+                "{w}x{h}: row {label} has {dots} grid dots: {row}"
+            );
+        }
+    }
+}
+
+#[test]
+fn key_feedback_shows_on_the_glance_line_at_80_columns() {
+    let snap = SnapshotBuilder::new().build();
+    let mut ui = UiState::default();
+    ui.handle_key(
+        crossterm::event::KeyEvent::new(
+            crossterm::event::KeyCode::Char('f'),
+            crossterm::event::KeyModifiers::NONE,
+        ),
+        &snap,
+    );
+    let lines = screen(&snap, &ui, 80, 24);
+    let g = must_find(&lines, "» flight stop marked");
+    assert!(lines[g].contains("FLYING"), "{}", lines[g]);
+    ui.tick(10.0);
+    let lines = screen(&snap, &ui, 80, 24);
+    assert!(find(&lines, "flight stop marked").is_none());
+}
+
+#[test]
+fn dial_shows_north_and_the_arena_mark_when_they_coincide() {
+    // Ten epochs leave the smallest dial at 80x24 (the demo protocol's case).
+    let mut snap = SnapshotBuilder::new().epochs(10).build();
+    snap.arena_bearing_deg = 0.0;
+    snap.sun_azimuth_deg = 90.0;
+    for (w, h) in [(80, 24), (160, 48)] {
+        let lines = screen(&snap, &UiState::default(), w, h);
+        // Inside the dial's border only (its legend, on the bottom border, also has A and *).
+        let top = must_find(&lines, "┌ dial");
+        let width = lines[top].chars().skip(1).position(|c| c == '┐').unwrap() + 2;
+        let bottom = top
+            + lines[top..]
+                .iter()
+                .position(|l| l.starts_with('└'))
+                .unwrap();
+        let dial: Vec<String> = lines[top + 1..bottom]
+            .iter()
+            .map(|l| l.chars().skip(1).take(width - 2).collect())
+            .collect();
+        let text = dial.join("\n");
+        for mark in ['N', 'A', 'E', '*'] {
+            assert!(text.contains(mark), "{w}x{h}: {mark} missing:\n{text}");
+        }
+    }
+}

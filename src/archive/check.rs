@@ -10,9 +10,9 @@ use super::fmt::push_fixed;
 use super::read::{self, ReadStats};
 use super::writer::{sync_dir, write_json_atomic};
 use super::{
-    ArchiveError, EVENT_COLUMNS, EVENTS_FILE, LOCK_FILE, PlannedEpoch, SAMPLE_COLUMNS,
-    SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SessionMeta, SessionStatus, Summary, SummaryBuilder,
-    T_S_DECIMALS, format_utc_millis, parse_utc, read_json,
+    ArchiveError, EVENT_COLUMNS, EVENTS_FILE, FORMAT_VERSION, LOCK_FILE, PlannedEpoch,
+    SAMPLE_COLUMNS, SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SessionMeta, SessionStatus, Summary,
+    SummaryBuilder, T_S_DECIMALS, format_utc_millis, parse_utc, read_json,
 };
 
 /// The content of a session's `.lock` file.
@@ -94,7 +94,23 @@ pub fn lock_state(dir: &Path) -> LockState {
     match read_lock(dir) {
         Some(l) if lock_holder_alive(&l) => LockState::Alive(l),
         Some(l) => LockState::Dead(l),
-        None => LockState::Unreadable,
+        None => {
+            // A writer creates the lock and then writes its pid: an empty lock younger than a
+            // few seconds is a writer starting up, not a stale lock.
+            let young = std::fs::metadata(dir.join(LOCK_FILE))
+                .and_then(|m| m.modified())
+                .ok()
+                .and_then(|t| t.elapsed().ok())
+                .is_some_and(|age| age < std::time::Duration::from_secs(10));
+            if young {
+                LockState::Alive(LockInfo {
+                    pid: 0,
+                    start_ticks: None,
+                })
+            } else {
+                LockState::Unreadable
+            }
+        }
     }
 }
 
@@ -280,6 +296,7 @@ struct SamplePass {
     first_t_s: f64,
     last_t_s: f64,
     problems: Vec<String>,
+    notes: Vec<String>,
     summary: Option<Summary>,
 }
 
@@ -317,7 +334,9 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
         let d = crate::frames::wrap_signed_deg(
             s.arena_heading_deg + s.arena_bearing_deg - s.world_heading_deg,
         );
-        if d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG {
+        // A sample without a heading (both NaN) has nothing to compare.
+        let no_heading = !s.arena_heading_deg.is_finite() && !s.world_heading_deg.is_finite();
+        if !no_heading && (d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG) {
             note(&mut frame_bad, s.line);
         }
         if s.epoch > max_epoch {
@@ -350,7 +369,11 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
         frame_bad,
         "world_heading_deg differs from arena_heading_deg + arena_bearing_deg",
     );
-    report(epoch_bad, "epoch is not in the plan");
+    if let (n, Some(first)) = epoch_bad {
+        pass.notes.push(format!(
+            "samples.csv:{first}: epoch is not in the plan of session.json ({n} rows; they count only for r_world and r_arena)"
+        ));
+    }
     pass.stats = stats;
     pass.summary = builder.map(|b| b.summary());
     Ok(pass)
@@ -399,6 +422,12 @@ pub fn check_session(dir: &Path) -> CheckReport {
     };
     if let Some(m) = &meta {
         r.id = Some(m.id.clone());
+        if m.format_version > FORMAT_VERSION {
+            r.notes.push(format!(
+                "written in archive format {} by a newer program (this one reads format {FORMAT_VERSION})",
+                m.format_version
+            ));
+        }
         r.status = Some(m.status);
         if dir.file_name().and_then(|n| n.to_str()) != Some(m.id.as_str()) {
             r.notes.push(format!(
@@ -452,6 +481,7 @@ pub fn check_session(dir: &Path) -> CheckReport {
     if let Some(p) = &pass {
         r.samples = p.stats.rows;
         r.problems.extend(p.problems.iter().cloned());
+        r.notes.extend(p.notes.iter().cloned());
         if let Some(t) = &p.stats.torn {
             let what = format!(
                 "samples.csv:{}: torn last line ({} bytes): {}",
@@ -473,7 +503,7 @@ pub fn check_session(dir: &Path) -> CheckReport {
                         m.started_utc + chrono::Duration::microseconds((t_s * 1e6).round() as i64);
                     let off_ms = (t - want).num_milliseconds().abs();
                     if off_ms > 2 {
-                        r.problems.push(format!(
+                        r.notes.push(format!(
                             "samples.csv: t_utc {t_utc} is {off_ms} ms off started_utc + t_s"
                         ));
                     }

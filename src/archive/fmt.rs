@@ -268,6 +268,50 @@ pub fn parse_f64(text: &[u8]) -> Option<f64> {
     Some(if neg { -v } else { v })
 }
 
+/// Parses the decimal number that starts at `line[pos]` and ends at the next comma or the
+/// end of the line, in one pass: `Some((value, end))` for the plain form `[+-]digits[.digits]`
+/// with at most 15 digits (exact, as [`parse_f64`]), None for anything else (the caller then
+/// finds the field's end and uses [`parse_f64`]).
+#[inline(always)]
+pub fn scan_decimal(line: &[u8], pos: usize) -> Option<(f64, usize)> {
+    let mut j = pos;
+    let neg = match line.get(j) {
+        Some(b'-') => {
+            j += 1;
+            true
+        }
+        Some(b'+') => {
+            j += 1;
+            false
+        }
+        _ => false,
+    };
+    let mut m: u64 = 0;
+    let mut n_digits = 0usize;
+    let mut decimals = 0usize;
+    let mut seen_dot = false;
+    while j < line.len() {
+        let b = line[j];
+        let d = b.wrapping_sub(b'0');
+        if d < 10 {
+            m = m.wrapping_mul(10).wrapping_add(d as u64);
+            n_digits += 1;
+            decimals += seen_dot as usize;
+        } else if b == b'.' && !seen_dot {
+            seen_dot = true;
+        } else {
+            break;
+        }
+        j += 1;
+    }
+    if n_digits == 0 || n_digits > 15 || (j < line.len() && line[j] != b',') {
+        return None;
+    }
+    // 15 digits < 2^53: m is exact, and so is 10^decimals (decimals ≤ 15).
+    let v = m as f64 / POW10[decimals];
+    Some((if neg { -v } else { v }, j))
+}
+
 #[cold]
 fn parse_slow(text: &[u8]) -> Option<f64> {
     std::str::from_utf8(text).ok()?.trim().parse().ok()
@@ -363,6 +407,15 @@ mod tests {
         for bad in ["", "-", ".", "1.2.3", "abc", "1,2"] {
             assert!(parse_f64(bad.as_bytes()).is_none(), "{bad}");
         }
+        // One-pass scanning inside a line: the same values, or None for the slow path.
+        let line = b"x,-12.345,7,1e3,,0.1234567890123456,+.5";
+        assert_eq!(scan_decimal(line, 2), Some((-12.345, 9)));
+        assert_eq!(scan_decimal(line, 10), Some((7.0, 11)));
+        assert_eq!(scan_decimal(line, 12), None);
+        assert_eq!(scan_decimal(line, 16), None);
+        assert_eq!(scan_decimal(line, 17), None);
+        assert_eq!(scan_decimal(line, 36), Some((0.5, 39)));
+        assert_eq!(scan_decimal(b"359.999", 0), Some((359.999, 7)));
     }
 
     #[test]

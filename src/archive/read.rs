@@ -10,7 +10,7 @@ use std::fs::File;
 use std::io::Read;
 use std::path::Path;
 
-use super::fmt::parse_f64;
+use super::fmt::{parse_f64, scan_decimal};
 use super::{ArchiveError, EVENT_COLUMNS, SAMPLE_COLUMNS};
 use crate::frames::wrap_360_deg;
 
@@ -358,7 +358,45 @@ fn parse_line<'a>(
         if line.get(pos) == Some(&b'"') {
             return parse_line_quoted(layout, line, line_no);
         }
-        let end = field_end(line, pos, role);
+        // Fast paths parse while they look for the field's end; the rest (and any text the
+        // fast paths do not take) finds the end first and parses the field after.
+        let (end, done) = match role {
+            Role::TS
+            | Role::ArenaHeading
+            | Role::ArenaBearing
+            | Role::World
+            | Role::SunAz
+            | Role::SunEl
+            | Role::SunRel
+            | Role::Evector => match scan_decimal(line, pos) {
+                Some((v, end)) => {
+                    match role {
+                        Role::TS => f.t_s = v,
+                        Role::ArenaHeading => f.arena_heading_deg = v,
+                        Role::ArenaBearing => f.arena_bearing_deg = v,
+                        Role::World => f.world_heading_deg = v,
+                        Role::SunAz => f.sun_azimuth_deg = v,
+                        Role::SunEl => f.sun_elevation_deg = v,
+                        Role::SunRel => f.sun_relative_heading_deg = v,
+                        _ => f.zenith_evector_deg = v,
+                    }
+                    (end, true)
+                }
+                None => (field_end(line, pos, Role::Skip), false),
+            },
+            Role::Flying | Role::Scored => match (line.get(pos), line.get(pos + 1)) {
+                (Some(&c @ (b'0' | b'1')), None | Some(b',')) => {
+                    if role == Role::Flying {
+                        f.flying = c == b'1';
+                    } else {
+                        f.scored = c == b'1';
+                    }
+                    (pos + 1, true)
+                }
+                _ => (field_end(line, pos, Role::Skip), false),
+            },
+            _ => (field_end(line, pos, role), false),
+        };
         let last = i + 1 == n;
         if end == line.len() && !last {
             return Err(format!("{} fields, the header has {n}", i + 1));
@@ -369,10 +407,12 @@ fn parse_line<'a>(
                 line.iter().filter(|&&b| b == b',').count() + 1
             ));
         }
-        if role == Role::TUtc {
-            set_t_utc(&mut f, &line[pos..end])?;
-        } else {
-            set_field(&mut f, role, &line[pos..end])?;
+        if !done {
+            if role == Role::TUtc {
+                set_t_utc(&mut f, &line[pos..end])?;
+            } else {
+                set_field(&mut f, role, &line[pos..end])?;
+            }
         }
         pos = end + 1;
     }

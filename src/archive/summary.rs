@@ -99,8 +99,9 @@ pub struct SummaryBuilder {
     epochs: Vec<EpochAcc>,
     /// Epoch index → position in `epochs`.
     lookup: Vec<Option<usize>>,
-    world: Chain,
-    arena: Chain,
+    /// Scored samples of epochs not in the plan (they count only for the session).
+    other_world: Chain,
+    other_arena: Chain,
     seq: u64,
 }
 
@@ -124,8 +125,8 @@ impl SummaryBuilder {
                 })
                 .collect(),
             lookup,
-            world: Chain::default(),
-            arena: Chain::default(),
+            other_world: Chain::default(),
+            other_arena: Chain::default(),
             seq: 0,
         }
     }
@@ -187,10 +188,9 @@ impl SummaryBuilder {
                 e.world.push(seq, world);
                 e.arena.push(seq, arena);
             }
-        }
-        if counts {
-            self.world.push(seq, world);
-            self.arena.push(seq, arena);
+        } else if counts {
+            self.other_world.push(seq, world);
+            self.other_arena.push(seq, arena);
         }
     }
 
@@ -235,24 +235,33 @@ impl SummaryBuilder {
         Some(wrap_signed_deg(after - before))
     }
 
-    /// Accumulator of all scored world headings.
-    pub fn world(&self) -> &HeadingAccumulator {
-        &self.world.acc
+    /// All scored world headings of the session: the epochs' accumulators merged (each epoch
+    /// a separate chain), O(number of epochs). Each sample is pushed once, into its epoch.
+    pub fn world(&self) -> HeadingAccumulator {
+        let mut acc = self.other_world.acc.clone();
+        for e in &self.epochs {
+            acc.merge(&e.world.acc);
+        }
+        acc
     }
 
-    /// Accumulator of all scored arena headings.
-    pub fn arena(&self) -> &HeadingAccumulator {
-        &self.arena.acc
+    /// All scored arena headings of the session (see [`SummaryBuilder::world`]).
+    pub fn arena(&self) -> HeadingAccumulator {
+        let mut acc = self.other_arena.acc.clone();
+        for e in &self.epochs {
+            acc.merge(&e.arena.acc);
+        }
+        acc
     }
 
     /// Mean vector length of all scored world headings.
     pub fn r_world(&self) -> f64 {
-        self.world.acc.r()
+        self.world().r()
     }
 
     /// Mean vector length of all scored arena headings.
     pub fn r_arena(&self) -> f64 {
-        self.arena.acc.r()
+        self.arena().r()
     }
 
     /// Samples pushed so far (scored or not).
@@ -315,8 +324,8 @@ impl SummaryBuilder {
         Summary {
             epochs,
             turns,
-            r_world: self.world.acc.r(),
-            r_arena: self.arena.acc.r(),
+            r_world: self.r_world(),
+            r_arena: self.r_arena(),
         }
     }
 }

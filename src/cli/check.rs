@@ -79,7 +79,7 @@ fn print_text(res: &FolderResult) {
             println!("repaired {}: {a}", r.dir.display());
         }
         if rep.actions.is_empty() {
-            println!("repaired {}: nothing to do", r.dir.display());
+            println!("nothing to repair in {}", r.dir.display());
         }
     }
     if let Some(e) = &res.repair_error {

@@ -207,6 +207,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
             headless: args.headless,
             mono: args.mono,
             auto_confirm_after_s: Some(5.0),
+            stdin_commands: true,
         },
         Some(operator),
     )?;

@@ -33,6 +33,9 @@ pub struct Display {
     pub mono: bool,
     /// Confirm prompts automatically after this many session seconds (simulated operator).
     pub auto_confirm_after_s: Option<f64>,
+    /// Standard input carries operator words in headless runs (false when the heading sensor
+    /// itself reads standard input).
+    pub stdin_commands: bool,
 }
 
 /// Turns a line typed on standard input (headless runs) into an operator command.
@@ -68,6 +71,9 @@ pub fn launch(
         // Operator commands typed on stdin (one word a line); EOF just ends the reader.
         let stdin_tx = tx.clone();
         std::thread::spawn(move || {
+            if !display.stdin_commands {
+                return;
+            }
             let stdin = std::io::stdin();
             for line in stdin.lock().lines() {
                 let Ok(line) = line else { break };
@@ -109,12 +115,15 @@ pub fn launch(
 
     // Live screen: the engine runs on its own thread; the screen renders snapshots.
     let engine_cell = cell.clone();
+    // If the engine fails before publishing an ended snapshot, this flag closes the screen.
+    let screen_stop = std::sync::Arc::new(AtomicBool::new(false));
+    let engine_stop = screen_stop.clone();
     let handle = std::thread::Builder::new()
         .name("engine".into())
         .spawn(move || {
             let never = AtomicBool::new(false);
             let mut quiet = |_: &str| {};
-            engine.run(Wiring {
+            let result = engine.run(Wiring {
                 sensor: sensor.as_mut(),
                 turntable: turntable.as_mut(),
                 clock,
@@ -124,7 +133,11 @@ pub fn launch(
                 progress: &mut quiet,
                 auto_confirm_after_s: display.auto_confirm_after_s,
                 sim_operator,
-            })
+            });
+            if result.is_err() {
+                engine_stop.store(true, Ordering::SeqCst);
+            }
+            result
         })
         .context("starting the engine thread")?;
     let options = crate::tui::ScreenOptions {

@@ -36,6 +36,11 @@ pub struct RunArgs {
 /// Runs the command; returns the exit status.
 pub fn run(args: RunArgs) -> anyhow::Result<i32> {
     let rig = crate::rig::config::load_rig(&args.rig)?;
+    if args.headless && matches!(rig.sensor.source, crate::rig::config::SensorSource::Stdin) {
+        eprintln!(
+            "skybearing: the sensor reads standard input, so operator words are not read from it; end with Ctrl-C"
+        );
+    }
     let (protocol, warnings) = crate::protocol::load_protocol(&args.protocol)?;
     for w in warnings {
         eprintln!("skybearing: warning: {w}");
@@ -74,6 +79,7 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
             headless: args.headless,
             mono: args.mono,
             auto_confirm_after_s: None,
+            stdin_commands: !matches!(rig.sensor.source, crate::rig::config::SensorSource::Stdin),
         },
         None,
     )?;

@@ -830,6 +830,37 @@ mod tests {
     }
 
     #[test]
+    fn a_wrong_mirror_in_the_rig_shows_as_a_mirrored_heading() {
+        // The device is clockwise; the rig file wrongly says counterclockwise.
+        let mut cfg = SimConfig::new(6);
+        cfg.decoder_calibration = Some(SensorCalibration {
+            direction: crate::frames::Direction::Counterclockwise,
+            ..SensorCalibration::default()
+        });
+        cfg.flight_stops_per_hour = 0.0;
+        cfg.quantization = 0.0;
+        let truth_cfg = SimConfig::new(6);
+        let (mut wrong, _) = in_process(cfg);
+        let mut w = SimWorld::new(SimConfig {
+            flight_stops_per_hour: 0.0,
+            quantization: 0.0,
+            ..truth_cfg
+        });
+        w.keep_truth();
+        let mut ev = Vec::new();
+        wrong.drain(2.0, &mut ev).unwrap();
+        let mut lines = Vec::new();
+        w.generate_lines(2.0, &mut lines);
+        let got = samples(&ev);
+        // The truth also holds the one sample generated but not yet arrived.
+        assert!(got.len() >= 199 && w.truth().len() >= got.len());
+        for ((_, read), (_, truth)) in got.iter().zip(w.truth()) {
+            let d = wrap_signed_deg(*read + *truth);
+            assert!(d.abs() < 1e-6, "read {read} truth {truth}");
+        }
+    }
+
+    #[test]
     fn quantized_counts_mirrored() {
         let mut cfg = SimConfig::new(2);
         cfg.sensor_calibration = SensorCalibration {

@@ -181,15 +181,71 @@ impl ThreadSource {
     }
 }
 
+/// A serial port read with one system call per wake-up: the terminal is set to VMIN = 0,
+/// VTIME = 1, so `read` returns with the first bytes that arrive, or with none after 0.1 s.
+/// (serialport's own `read` polls first and then reads: two calls per line.) A read that
+/// returns nothing long before 0.1 s is an end of file: the device went away.
+struct TimedPort {
+    port: serialport::TTYPort,
+}
+
+impl TimedPort {
+    fn new(port: serialport::TTYPort) -> std::io::Result<Self> {
+        use std::os::fd::AsRawFd;
+        let fd = port.as_raw_fd();
+        // SAFETY: termios is plain data filled by tcgetattr from an open fd.
+        unsafe {
+            let mut t: libc::termios = std::mem::zeroed();
+            if libc::tcgetattr(fd, &mut t) != 0 {
+                return Err(std::io::Error::last_os_error());
+            }
+            t.c_cc[libc::VMIN] = 0;
+            t.c_cc[libc::VTIME] = 1;
+            if libc::tcsetattr(fd, libc::TCSANOW, &t) != 0 {
+                return Err(std::io::Error::last_os_error());
+            }
+        }
+        Ok(Self { port })
+    }
+
+    /// Bytes read; `TimedOut` when none came within 0.1 s; any other error: gone.
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        use std::os::fd::AsRawFd;
+        let start = std::time::Instant::now();
+        // SAFETY: buf is valid for writes of its length; the fd is owned by self.port.
+        let n = unsafe { libc::read(self.port.as_raw_fd(), buf.as_mut_ptr().cast(), buf.len()) };
+        if n < 0 {
+            return Err(std::io::Error::last_os_error());
+        }
+        if n == 0 {
+            if start.elapsed() < Duration::from_millis(50) {
+                return Err(std::io::Error::new(
+                    std::io::ErrorKind::UnexpectedEof,
+                    "end of file (device gone)",
+                ));
+            }
+            return Err(std::io::Error::new(std::io::ErrorKind::TimedOut, "no data"));
+        }
+        Ok(n as usize)
+    }
+}
+
+fn open_timed(path: &Path, baud: u32) -> Option<TimedPort> {
+    open_serial(path, baud)
+        .ok()
+        .and_then(|p| TimedPort::new(p).ok())
+}
+
 fn serial_thread(
     path: PathBuf,
     baud: u32,
-    mut port: Option<serialport::TTYPort>,
+    port: Option<serialport::TTYPort>,
     shared: Arc<Mutex<Shared>>,
     stop: Arc<AtomicBool>,
     clock: Arc<dyn Clock>,
 ) {
     let mut buf = [0u8; 4096];
+    let mut port = port.and_then(|p| TimedPort::new(p).ok());
     while !stop.load(Ordering::Relaxed) {
         match port.as_mut() {
             Some(p) => match p.read(&mut buf) {
@@ -217,7 +273,7 @@ fn serial_thread(
             },
             None => {
                 std::thread::sleep(REOPEN_EVERY);
-                if let Ok(p) = open_serial(&path, baud) {
+                if let Some(p) = open_timed(&path, baud) {
                     lock(&shared).status = "reopened".into();
                     port = Some(p);
                 }

@@ -117,6 +117,30 @@ impl Drop for SignalsIdle {
     }
 }
 
+/// True when the terminal on standard input has hung up (its window or connection closed).
+fn terminal_hung_up() -> bool {
+    let mut fds = libc::pollfd {
+        fd: 0,
+        events: libc::POLLIN,
+        revents: 0,
+    };
+    // SAFETY: one valid pollfd, zero timeout.
+    let r = unsafe { libc::poll(&mut fds, 1, 0) };
+    r > 0 && (fds.revents & (libc::POLLHUP | libc::POLLERR | libc::POLLNVAL)) != 0
+}
+
+/// Waits until standard input has something to read, hangs up, or `timeout` passes.
+fn wait_for_input(timeout: Duration) {
+    let mut fds = libc::pollfd {
+        fd: 0,
+        events: libc::POLLIN,
+        revents: 0,
+    };
+    let ms = timeout.as_millis().min(1000) as libc::c_int;
+    // SAFETY: one valid pollfd; the result is only a hint (the caller polls crossterm next).
+    let _ = unsafe { libc::poll(&mut fds, 1, ms) };
+}
+
 /// Leaves raw mode and the alternate screen if this process entered them. Safe to call twice.
 fn restore_terminal() {
     if TERMINAL_ACTIVE.swap(false, Ordering::SeqCst) {
@@ -211,9 +235,19 @@ pub fn run_live(
     let mut dirty = true;
     let mut signal_handled = false;
     let mut ended_at: Option<Instant> = None;
+    let mut final_drawn = false;
     let mut next_draw = Instant::now();
+    let mut last_tick = Instant::now();
 
     loop {
+        let now = Instant::now();
+        if ui.flash.is_some() {
+            ui.tick(now.duration_since(last_tick).as_secs_f64());
+            if ui.flash.is_none() {
+                dirty = true;
+            }
+        }
+        last_tick = now;
         if !TERMINAL_ACTIVE.load(Ordering::SeqCst) {
             // A panic somewhere in the process restored the terminal (so its message can be
             // read); drawing on would scribble over it.
@@ -255,11 +289,26 @@ pub fn run_live(
         }
         if let Some(t) = ended_at
             && t.elapsed() >= final_frame
+            && (final_drawn || t.elapsed() >= final_frame + Duration::from_secs(2))
         {
-            // Make sure the final frame was shown at least once.
-            if !dirty {
+            // The final frame was shown at least once (or the terminal is gone and could not
+            // show it): leave even if events keep arriving, e.g. from a hung-up terminal.
+            return Ok(());
+        }
+
+        if terminal_hung_up() {
+            // The terminal is gone (window closed, ssh dropped): nothing can be drawn or read
+            // (crossterm's poll would spin on the dead descriptor). End the session properly
+            // and wait for the engine to close the archive.
+            if ended_at.is_some() {
                 return Ok(());
             }
+            if !ui.end_requested {
+                ui.end_requested = true;
+                send(&commands, Command::EndSession)?;
+            }
+            std::thread::sleep(frame_dt);
+            continue;
         }
 
         let now = Instant::now();
@@ -273,6 +322,7 @@ pub fn run_live(
                     .context("cannot draw the screen")?,
             };
             dirty = false;
+            final_drawn = ended_at.is_some();
             next_draw = now + frame_dt;
         }
 
@@ -281,33 +331,37 @@ pub fn run_live(
         } else {
             frame_dt
         };
-        if !event::poll(timeout).context("cannot read the keyboard")? {
-            continue;
-        }
-        match event::read().context("cannot read the keyboard")? {
-            Event::Key(key) if key.kind != KeyEventKind::Release => {
-                if ended_at.is_some() {
-                    return Ok(());
-                }
-                match &last {
-                    Some(snap) => {
-                        for command in ui.handle_key(key, snap) {
-                            send(&commands, command)?;
+        // Wait on the descriptor ourselves (crossterm's own poll spins forever on a terminal
+        // that hangs up while it waits), then take what crossterm has parsed.
+        wait_for_input(timeout);
+        while !terminal_hung_up()
+            && event::poll(Duration::ZERO).context("cannot read the keyboard")?
+        {
+            match event::read().context("cannot read the keyboard")? {
+                Event::Key(key) if key.kind != KeyEventKind::Release => {
+                    if ended_at.is_some() {
+                        return Ok(());
+                    }
+                    match &last {
+                        Some(snap) => {
+                            for command in ui.handle_key(key, snap) {
+                                send(&commands, command)?;
+                            }
+                        }
+                        None => {
+                            let ctrl_c = key.modifiers.contains(KeyModifiers::CONTROL)
+                                && matches!(key.code, KeyCode::Char('c') | KeyCode::Char('C'));
+                            if ctrl_c {
+                                ui.end_requested = true;
+                                send(&commands, Command::EndSession)?;
+                            }
                         }
                     }
-                    None => {
-                        let ctrl_c = key.modifiers.contains(KeyModifiers::CONTROL)
-                            && matches!(key.code, KeyCode::Char('c') | KeyCode::Char('C'));
-                        if ctrl_c {
-                            ui.end_requested = true;
-                            send(&commands, Command::EndSession)?;
-                        }
-                    }
+                    dirty = true;
                 }
-                dirty = true;
+                Event::Resize(_, _) => dirty = true,
+                _ => {}
             }
-            Event::Resize(_, _) => dirty = true,
-            _ => {}
         }
     }
 }

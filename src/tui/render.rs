@@ -20,7 +20,7 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::{Color, Modifier};
 use ratatui::symbols::Marker;
 use ratatui::text::{Line, Span};
-use ratatui::widgets::canvas::{Canvas, Circle, Line as CanvasLine, Points};
+use ratatui::widgets::canvas::{Canvas, Circle, Line as CanvasLine};
 use ratatui::widgets::{Block, BorderType, Borders, Cell, Clear, Paragraph, Row, Table, Wrap};
 
 /// Archive syncs older than this many seconds are flagged as late.
@@ -405,6 +405,8 @@ fn verdict(turn_deg: f64, shift_deg: f64) -> Option<bool> {
     Some(shift_deg.abs() <= signed_difference_deg(turn_deg, shift_deg).abs())
 }
 
+/// The glance line, most important first (what does not fit is dropped from the end):
+/// flight state, heading, archive trouble, operator feedback, next turn, hold, last turn.
 fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a>> {
     let mut items: Vec<Item> = Vec::new();
     items.push(state_spans(snap, theme));
@@ -420,23 +422,7 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
     if let Some(alarm) = archive_alarm(snap) {
         items.push(vec![Span::styled(alarm, theme.flag(theme.alarm))]);
     }
-    if let Some(e) = current_epoch(snap)
-        && e.n > 0
-    {
-        items.push(vec![
-            Span::styled("hold r ", theme.base()),
-            Span::styled(r_value(e.r), theme.strong()),
-        ]);
-    }
-    if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
-        items.push(vec![
-            Span::styled("turn ", theme.base()),
-            Span::styled(format::signed_deg(d), theme.accent(theme.turn)),
-            Span::styled(" in ", theme.base()),
-            Span::styled(countdown(t), theme.accent(theme.turn)),
-        ]);
-    }
-    if let Some(text) = ui.flash_at(snap.t_s) {
+    if let Some(text) = ui.flash() {
         items.push(vec![Span::styled(
             format!("» {text}"),
             theme.strong().add_modifier(Modifier::ITALIC),
@@ -447,6 +433,22 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
             theme.strong(),
         )]);
     }
+    if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
+        items.push(vec![
+            Span::styled("turn ", theme.base()),
+            Span::styled(format::signed_deg(d), theme.accent(theme.turn)),
+            Span::styled(" in ", theme.base()),
+            Span::styled(countdown(t), theme.accent(theme.turn)),
+        ]);
+    }
+    if let Some(e) = current_epoch(snap)
+        && e.n > 0
+    {
+        items.push(vec![
+            Span::styled("hold r ", theme.base()),
+            Span::styled(r_value(e.r), theme.strong()),
+        ]);
+    }
     if let Some((t, s)) = last_scored_turn(snap) {
         let mut item = vec![
             Span::styled(format!("turn {} ", t.index), theme.base()),
@@ -456,7 +458,7 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
         ];
         match verdict(t.turn_deg, s) {
             Some(true) => item.push(Span::styled(" ✓ kept", theme.accent(theme.good))),
-            Some(false) => item.push(Span::styled(" ✗ not kept", theme.accent(theme.caution))),
+            Some(false) => item.push(Span::styled(" ✗ moved", theme.accent(theme.caution))),
             None => {}
         }
         items.push(item);
@@ -706,7 +708,7 @@ fn draw_dial(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, theme
         return;
     }
     let (w, h) = (inner.width as f64, inner.height as f64);
-    let half = 1.32;
+    let half = 1.45;
     let (xr, yr) = if w >= 2.0 * h {
         (half * w / (2.0 * h), half)
     } else {
@@ -784,14 +786,17 @@ fn draw_dial(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, theme
                 }
             }
             // Labels (always on top of the dots).
-            let label_r = 1.16;
+            // Cardinal labels about one row outside the rim, marks about one row inside it.
+            let row = 2.0 * yr / h;
+            let label_r = (1.0 + 1.2 * row).min(1.3);
+            let mark_r = (1.0 - row).clamp(0.8, 0.92);
             for (name, b) in [("N", 0.0), ("E", 90.0), ("S", 180.0), ("W", 270.0)] {
                 let (x, y) = polar(label_r, screen(b));
                 ctx.print(x, y, Span::styled(name, theme.strong()));
             }
-            let (x, y) = polar(1.0, screen(snap.arena_bearing_deg));
+            let (x, y) = polar(mark_r, screen(snap.arena_bearing_deg));
             ctx.print(x, y, Span::styled("A", theme.flag(theme.mark)));
-            let (x, y) = polar(1.0, screen(snap.sun_azimuth_deg));
+            let (x, y) = polar(mark_r, screen(snap.sun_azimuth_deg));
             ctx.print(x, y, Span::styled("*", theme.flag(theme.sun)));
             if let Some(hw) = heading_world {
                 let (x, y) = polar(0.8, screen(hw));
@@ -844,9 +849,55 @@ fn draw_trace(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, them
     let t1 = snap.t_s;
     let t0 = t1 - span_s;
 
-    // Y-axis labels.
+    // Points of the chosen frame, flying only (stops leave gaps), rasterised straight into the
+    // buffer: one pass over the points, one over the cells.
+    let start = snap.trace.partition_point(|p| p.t_s < t0);
+    let visible = &snap.trace[start..];
+    let dx = span_s / (plot.width.max(1) as f64);
+    let turns: Vec<f64> = snap
+        .turn_marks_s
+        .iter()
+        .copied()
+        .filter(|t| *t >= t0 && *t <= t1)
+        .collect();
+    let mut raster = Raster::new(plot.width, plot.height, ui.bold_marks);
+    let (dots_w, dots_h) = (raster.dots_w() as f64, raster.dots_h() as f64);
+    let to_px = |t: f64| ((t - t0) / span_s * dots_w).floor();
+    let to_py = |v: f64| ((360.0 - v) / 360.0 * dots_h).floor();
+    // Grid lines at 90, 180 and 270: one dot every fourth column of dots.
+    for v in [90.0, 180.0, 270.0] {
+        let py = to_py(v);
+        let mut px = 1.0;
+        while px < dots_w {
+            raster.dot(px, py, Mark::Grid);
+            px += 4.0;
+        }
+    }
+    // Turns: dashed vertical lines.
+    for &t in &turns {
+        let px = to_px(t);
+        let mut py = 0.0;
+        while py < dots_h {
+            raster.dot(px, py, Mark::Turn);
+            raster.dot(px, py + 1.0, Mark::Turn);
+            py += 4.0;
+        }
+    }
+    for p in visible.iter().filter(|p| p.flying && p.t_s <= t1) {
+        let v = match ui.frame {
+            HeadingFrame::Arena => p.arena_deg,
+            HeadingFrame::World => p.world_deg,
+            HeadingFrame::Sun => p.sun_deg,
+        };
+        if v.is_finite() {
+            raster.dot(to_px(p.t_s), to_py(wrap_360_deg(v)), Mark::Heading);
+        }
+    }
+    raster.paint(frame.buffer_mut(), plot, theme);
+
+    // Y-axis labels, on the rows where the raster puts those headings.
     let buf = frame.buffer_mut();
-    let ph = plot.height.max(1) as f64;
+    let dots_per_row = dots_h / plot.height.max(1) as f64;
     for (label, v) in [
         ("360", 360.0),
         ("270", 270.0),
@@ -854,7 +905,7 @@ fn draw_trace(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, them
         (" 90", 90.0),
         ("  0", 0.0),
     ] {
-        let row = ((360.0 - v) / 360.0 * (ph - 1.0)).round() as u16;
+        let row = (to_py(v).clamp(0.0, dots_h - 1.0) / dots_per_row).floor() as u16;
         buf.set_string(
             inner.x,
             plot.y + row.min(plot.height - 1),
@@ -862,82 +913,6 @@ fn draw_trace(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, them
             theme.strong(),
         );
     }
-
-    // Points of the chosen frame, flying only (stops leave gaps).
-    let start = snap.trace.partition_point(|p| p.t_s < t0);
-    let visible = &snap.trace[start..];
-    let coords: Vec<(f64, f64)> = visible
-        .iter()
-        .filter(|p| p.flying && p.t_s <= t1)
-        .map(|p| {
-            let v = match ui.frame {
-                HeadingFrame::Arena => p.arena_deg,
-                HeadingFrame::World => p.world_deg,
-                HeadingFrame::Sun => p.sun_deg,
-            };
-            (p.t_s, v)
-        })
-        .collect();
-    let dx = span_s / (plot.width.max(1) as f64);
-    let grid: Vec<(f64, f64)> = (0..plot.width)
-        .step_by(2)
-        .flat_map(|c| {
-            let x = t0 + (c as f64 + 0.5) * dx;
-            [(x, 90.0), (x, 180.0), (x, 270.0)]
-        })
-        .collect();
-    let turns: Vec<f64> = snap
-        .turn_marks_s
-        .iter()
-        .copied()
-        .filter(|t| *t >= t0 && *t <= t1)
-        .collect();
-    let fg = if theme.is_mono() {
-        Color::Reset
-    } else {
-        theme.fg
-    };
-    let turn_c = if theme.is_mono() {
-        Color::Reset
-    } else {
-        theme.turn
-    };
-    let head_c = if theme.is_mono() {
-        Color::Reset
-    } else {
-        theme.heading
-    };
-    let marker = if ui.bold_marks {
-        Marker::HalfBlock
-    } else {
-        Marker::Braille
-    };
-    let turn_dash = 360.0 / (plot.height as f64 * 4.0) * 2.0;
-    let canvas = Canvas::default()
-        .marker(marker)
-        .background_color(theme.bg)
-        .x_bounds([t0, t1])
-        .y_bounds([0.0, 360.0])
-        .paint(|ctx| {
-            ctx.draw(&Points::new(&grid, fg));
-            ctx.layer();
-            for &t in &turns {
-                let mut y = 0.0;
-                while y < 360.0 {
-                    ctx.draw(&CanvasLine::new(
-                        t,
-                        y,
-                        t,
-                        (y + turn_dash).min(360.0),
-                        turn_c,
-                    ));
-                    y += turn_dash * 2.0;
-                }
-            }
-            ctx.layer();
-            ctx.draw(&Points::new(&coords, head_c));
-        });
-    frame.render_widget(canvas, plot);
 
     let buf = frame.buffer_mut();
     // Turn labels on the top row, right of their line.
@@ -994,6 +969,109 @@ fn draw_trace(frame: &mut Frame, area: Rect, snap: &Snapshot, ui: &UiState, them
     let now_x = (plot.x + plot.width).saturating_sub(now.len() as u16);
     if now_x > plot.x + left.len() as u16 {
         buf.set_string(now_x, row, &now, theme.strong());
+    }
+}
+
+/// What a dot of the trace shows; a cell takes the colour of its most important dot.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+enum Mark {
+    None,
+    Grid,
+    Turn,
+    Heading,
+}
+
+/// A small dot raster for the trace: braille (2×4 dots per cell) or half blocks (1×2).
+struct Raster {
+    w: usize,
+    h: usize,
+    half_blocks: bool,
+    bits: Vec<u8>,
+    mark: Vec<Mark>,
+}
+
+impl Raster {
+    fn new(w: u16, h: u16, half_blocks: bool) -> Self {
+        let n = w as usize * h as usize;
+        Raster {
+            w: w as usize,
+            h: h as usize,
+            half_blocks,
+            bits: vec![0; n],
+            mark: vec![Mark::None; n],
+        }
+    }
+
+    fn dots_w(&self) -> usize {
+        if self.half_blocks { self.w } else { self.w * 2 }
+    }
+
+    fn dots_h(&self) -> usize {
+        if self.half_blocks {
+            self.h * 2
+        } else {
+            self.h * 4
+        }
+    }
+
+    /// Sets the dot at (`px`, `py`) (dot units, origin top left); outside dots are clamped to
+    /// the edge when within one dot, else ignored.
+    fn dot(&mut self, px: f64, py: f64, mark: Mark) {
+        let (dw, dh) = (self.dots_w() as f64, self.dots_h() as f64);
+        if !(px > -1.0 && py > -1.0 && px < dw + 1.0 && py < dh + 1.0) || dw < 1.0 || dh < 1.0 {
+            return;
+        }
+        let x = px.clamp(0.0, dw - 1.0) as usize;
+        let y = py.clamp(0.0, dh - 1.0) as usize;
+        let (cell, bit) = if self.half_blocks {
+            (
+                x + (y / 2) * self.w,
+                if y.is_multiple_of(2) { 1 } else { 2 },
+            )
+        } else {
+            // Braille dot numbering: left column 1, 2, 3, 7; right column 4, 5, 6, 8.
+            const LEFT: [u8; 4] = [0x01, 0x02, 0x04, 0x40];
+            const RIGHT: [u8; 4] = [0x08, 0x10, 0x20, 0x80];
+            let b = if x.is_multiple_of(2) {
+                LEFT[y % 4]
+            } else {
+                RIGHT[y % 4]
+            };
+            (x / 2 + (y / 4) * self.w, b)
+        };
+        self.bits[cell] |= bit;
+        if mark > self.mark[cell] {
+            self.mark[cell] = mark;
+        }
+    }
+
+    fn paint(&self, buf: &mut ratatui::buffer::Buffer, area: Rect, theme: &Theme) {
+        for row in 0..self.h.min(area.height as usize) {
+            for col in 0..self.w.min(area.width as usize) {
+                let i = col + row * self.w;
+                let bits = self.bits[i];
+                if bits == 0 {
+                    continue;
+                }
+                let ch = if self.half_blocks {
+                    match bits {
+                        1 => '▀',
+                        2 => '▄',
+                        _ => '█',
+                    }
+                } else {
+                    char::from_u32(0x2800 + u32::from(bits)).unwrap_or('⣿')
+                };
+                let style = match self.mark[i] {
+                    Mark::Heading => theme.accent(theme.heading),
+                    Mark::Turn => theme.accent(theme.turn),
+                    _ => theme.strong(),
+                };
+                let cell = &mut buf[(area.x + col as u16, area.y + row as u16)];
+                cell.set_char(ch);
+                cell.set_style(style);
+            }
+        }
     }
 }
 
@@ -1588,6 +1666,26 @@ mod tests {
         assert_eq!(verdict(180.0, 175.0), Some(false));
         assert_eq!(verdict(-90.0, 10.0), Some(true));
         assert_eq!(verdict(10.0, 5.0), None);
+    }
+
+    #[test]
+    fn raster_sets_braille_and_half_block_dots() {
+        let mut r = Raster::new(2, 1, false);
+        r.dot(0.0, 0.0, Mark::Grid); // dot 1
+        r.dot(1.0, 3.0, Mark::Heading); // dot 8
+        r.dot(3.0, 3.0, Mark::Turn); // second cell, dot 8
+        r.dot(9.0, 0.0, Mark::Heading); // far outside: ignored
+        assert_eq!(r.bits, vec![0x81, 0x80]);
+        assert_eq!(r.mark, vec![Mark::Heading, Mark::Turn]);
+        let mut r = Raster::new(1, 2, true);
+        r.dot(0.0, 0.0, Mark::Grid);
+        r.dot(0.0, 3.0, Mark::Grid);
+        r.dot(0.0, 2.0, Mark::Grid);
+        assert_eq!(r.bits, vec![1, 3]);
+        // Just past the edge clamps onto it (a point exactly at "now").
+        let mut r = Raster::new(1, 1, false);
+        r.dot(2.0, 4.0, Mark::Heading);
+        assert_eq!(r.bits, vec![0x80]);
     }
 
     #[test]

@@ -11,7 +11,7 @@ use crossterm::event::{KeyCode, KeyEvent, KeyEventKind, KeyModifiers};
 /// Longest note the input line accepts, in characters.
 pub const NOTE_MAX_CHARS: usize = 200;
 
-/// Seconds a feedback message stays on screen.
+/// Seconds (of real time, not session time) a feedback message stays on screen.
 pub const FLASH_S: f64 = 4.0;
 
 /// Trace spans the `z` key cycles through, seconds.
@@ -83,7 +83,7 @@ pub struct UiState {
     pub span_index: usize,
     /// Draw the trace with half-block marks (bolder, coarser) instead of braille dots.
     pub bold_marks: bool,
-    /// A short feedback line and the session second it was set at.
+    /// A short feedback line and the real seconds it has left on screen.
     pub flash: Option<(String, f64)>,
     /// The operator asked to end the session (waiting for the engine to close it).
     pub end_requested: bool,
@@ -117,18 +117,24 @@ impl UiState {
         TRACE_SPANS_S[self.span_index.min(TRACE_SPANS_S.len() - 1)]
     }
 
-    /// The feedback message to show at session time `t_s`, if it is still fresh.
-    pub fn flash_at(&self, t_s: f64) -> Option<&str> {
-        match &self.flash {
-            Some((text, since)) if t_s - since < FLASH_S && t_s >= *since - 1.0 => {
-                Some(text.as_str())
+    /// The feedback message to show now, if any.
+    pub fn flash(&self) -> Option<&str> {
+        self.flash.as_ref().map(|(text, _)| text.as_str())
+    }
+
+    /// Lets `dt_s` seconds of real time pass (feedback messages expire). Real time, because a
+    /// simulated session may run many times faster than the operator reads.
+    pub fn tick(&mut self, dt_s: f64) {
+        if let Some((_, left)) = &mut self.flash {
+            *left -= dt_s.max(0.0);
+            if *left <= 0.0 {
+                self.flash = None;
             }
-            _ => None,
         }
     }
 
-    fn say(&mut self, text: impl Into<String>, snap: &Snapshot) {
-        self.flash = Some((text.into(), snap.t_s));
+    fn say(&mut self, text: impl Into<String>, _snap: &Snapshot) {
+        self.flash = Some((text.into(), FLASH_S));
     }
 
     /// Handles one key event and returns the commands to send to the engine.
@@ -319,8 +325,11 @@ mod tests {
         let snap = SnapshotBuilder::new().t_s(100.0).build();
         let mut ui = UiState::default();
         ui.handle_key(press('f'), &snap);
-        assert!(ui.flash_at(100.5).is_some());
-        assert!(ui.flash_at(100.0 + FLASH_S + 0.1).is_none());
+        assert_eq!(ui.flash(), Some("flight stop marked"));
+        ui.tick(FLASH_S - 0.5);
+        assert!(ui.flash().is_some());
+        ui.tick(1.0);
+        assert!(ui.flash().is_none());
     }
 
     #[test]

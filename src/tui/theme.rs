@@ -37,6 +37,22 @@ impl ThemeKind {
     }
 }
 
+impl std::str::FromStr for ThemeKind {
+    type Err = String;
+
+    /// Parses `sunlight`, `dark` or `mono` (for a command-line flag).
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "sunlight" => Ok(ThemeKind::Sunlight),
+            "dark" => Ok(ThemeKind::Dark),
+            "mono" => Ok(ThemeKind::Mono),
+            other => Err(format!(
+                "unknown theme {other:?} (expected sunlight, dark or mono)"
+            )),
+        }
+    }
+}
+
 /// Resolved colours and styles for one theme.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Theme {
@@ -200,6 +216,14 @@ mod tests {
             }
             assert_ne!(t.fg, t.bg);
         }
+    }
+
+    #[test]
+    fn names_parse_back() {
+        for k in [ThemeKind::Sunlight, ThemeKind::Dark, ThemeKind::Mono] {
+            assert_eq!(k.name().parse::<ThemeKind>(), Ok(k));
+        }
+        assert!("neon".parse::<ThemeKind>().is_err());
     }
 
     #[test]

@@ -1,0 +1,43 @@
+//! Shared by the whole-program tests that run `skybearing run` against `skybearing sim`.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant};
+
+/// The binary under test.
+pub const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+
+/// Kills the simulator when the test ends, however it ends.
+pub struct Killer(std::process::Child);
+
+impl Drop for Killer {
+    fn drop(&mut self) {
+        let _ = self.0.kill();
+        let _ = self.0.wait();
+    }
+}
+
+/// Starts `skybearing sim` with `flags`, waits for its rig file in `dir`, returns both.
+pub fn start_sim(dir: &Path, flags: &[&str]) -> (Killer, PathBuf) {
+    let rig = dir.join("rig.toml");
+    let sim = Command::new(BIN)
+        .arg("sim")
+        .args(flags)
+        .arg("--write-rig")
+        .arg(&rig)
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .expect("spawn sim");
+    let killer = Killer(sim);
+    let until = Instant::now() + Duration::from_secs(10);
+    while !rig.is_file() {
+        assert!(
+            Instant::now() < until,
+            "the simulator never wrote its rig file"
+        );
+        std::thread::sleep(Duration::from_millis(50));
+    }
+    std::thread::sleep(Duration::from_millis(200));
+    (killer, rig)
+}
