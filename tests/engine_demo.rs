@@ -402,3 +402,20 @@ fn unsafe_animal_id_writes_nothing() {
     assert!(err.contains("../escape"), "{err}");
     assert_eq!(std::fs::read_dir(tmp.path()).expect("dir").count(), 0);
 }
+
+#[test]
+fn live_screen_without_a_terminal_says_so_and_writes_nothing() {
+    let tmp = tempfile::tempdir().expect("tmp");
+    let out = Command::new(BIN)
+        .args(["demo", "--speed", "max", "--start", START])
+        .arg("--sessions")
+        .arg(tmp.path())
+        .stdin(std::process::Stdio::null())
+        .output()
+        .expect("run");
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    assert!(err.contains("--headless"), "{err}");
+    assert_eq!(std::fs::read_dir(tmp.path()).expect("dir").count(), 0);
+}

@@ -5,7 +5,7 @@ use crate::engine::session::{Engine, EngineClock, Outcome, Wiring};
 use crate::engine::{Command, SnapshotCell};
 use crate::rig::{HeadingSource, Turntable};
 use anyhow::{Context, anyhow};
-use std::io::{BufRead, Write};
+use std::io::{BufRead, IsTerminal, Write};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc;
 
@@ -113,7 +113,13 @@ pub fn launch(
         return Ok(outcome);
     }
 
-    // Live screen: the engine runs on its own thread; the screen renders snapshots.
+    // Live screen: the engine runs on its own thread; the screen renders snapshots. Without a
+    // terminal there is nothing to draw on: say so before a session folder is made.
+    if !std::io::stdout().is_terminal() || !std::io::stdin().is_terminal() {
+        anyhow::bail!(
+            "the live screen needs a terminal (standard input and output); use --headless to run without one"
+        );
+    }
     let engine_cell = cell.clone();
     // If the engine fails before publishing an ended snapshot, this flag closes the screen.
     let screen_stop = std::sync::Arc::new(AtomicBool::new(false));
