@@ -44,6 +44,41 @@ impl Tmux {
     }
 }
 
+impl Tmux {
+    /// A private tmux server running `script` in an 80×24 window named "live".
+    fn start(name: &str, script: &str) -> Tmux {
+        assert!(
+            Command::new("tmux")
+                .arg("-V")
+                .output()
+                .is_ok_and(|o| o.status.success()),
+            "tmux is needed for this test (.ci/run installs it)"
+        );
+        let tmux = Tmux {
+            socket: format!("{name}-{}", std::process::id()),
+        };
+        let out = tmux.cmd(&[
+            "new-session",
+            "-d",
+            "-s",
+            "live",
+            "-x",
+            "80",
+            "-y",
+            "24",
+            "sh",
+            "-c",
+            script,
+        ]);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        tmux
+    }
+}
+
 impl Drop for Tmux {
     fn drop(&mut self) {
         let _ = Command::new("tmux")
@@ -69,13 +104,6 @@ fn wait_file(p: &Path, secs: u64) -> String {
 
 #[test]
 fn live_demo_in_tmux_ends_with_q_then_y() {
-    assert!(
-        Command::new("tmux")
-            .arg("-V")
-            .output()
-            .is_ok_and(|o| o.status.success()),
-        "tmux is needed for this test (.ci/run installs it)"
-    );
     let tmp = tempfile::tempdir().expect("tmp");
     let sessions = tmp.path().join("sessions");
     let done = tmp.path().join("exit.txt");
@@ -86,27 +114,7 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
         o = tmp.path().join("err.txt").display(),
         d = done.display()
     );
-    let tmux = Tmux {
-        socket: format!("skybearing-test-{}", std::process::id()),
-    };
-    let out = tmux.cmd(&[
-        "new-session",
-        "-d",
-        "-s",
-        "live",
-        "-x",
-        "80",
-        "-y",
-        "24",
-        "sh",
-        "-c",
-        &script,
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let tmux = Tmux::start("skybearing-test", &script);
 
     // 80×24: the session line shows the animal; the screen says how to end.
     let screen = tmux.wait_for("lm-07", 20);
@@ -171,13 +179,6 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
 
 #[test]
 fn closing_the_terminal_ends_the_session_properly() {
-    assert!(
-        Command::new("tmux")
-            .arg("-V")
-            .output()
-            .is_ok_and(|o| o.status.success()),
-        "tmux is needed for this test (.ci/run installs it)"
-    );
     let tmp = tempfile::tempdir().expect("tmp");
     let sessions = tmp.path().join("sessions");
     let script = format!(
@@ -185,27 +186,7 @@ fn closing_the_terminal_ends_the_session_properly() {
         bin = BIN,
         s = sessions.display()
     );
-    let tmux = Tmux {
-        socket: format!("skybearing-hup-{}", std::process::id()),
-    };
-    let out = tmux.cmd(&[
-        "new-session",
-        "-d",
-        "-s",
-        "live",
-        "-x",
-        "80",
-        "-y",
-        "24",
-        "sh",
-        "-c",
-        &script,
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let tmux = Tmux::start("skybearing-hup", &script);
     tmux.wait_for("lm-07", 20);
     // The window goes away (the terminal hangs up) in the middle of the session.
     tmux.cmd(&["kill-server"]);

@@ -161,11 +161,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
     };
     let mut sim = SimConfig::new(args.seed);
     sim.animal_mode = mode;
-    let track = std::sync::Mutex::new(track);
-    sim.sun_azimuth_deg = Box::new(move |t_s: f64| match track.lock() {
-        Ok(mut g) => g.at(t_s).azimuth_deg,
-        Err(poisoned) => poisoned.into_inner().at(t_s).azimuth_deg,
-    });
+    sim.sun_azimuth_deg = track.into_azimuth_fn();
     sim.arena_mark_true_bearing_deg = rig.arena_mark_bearing_deg;
     sim.rate_hz = args.rate_hz;
     sim.garbage_fraction = args.garbage;

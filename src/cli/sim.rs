@@ -115,11 +115,7 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
                 chrono::Utc::now(),
             )
             .context("sun track for the demo site")?;
-            let track = std::sync::Mutex::new(track);
-            Box::new(move |t| {
-                let mut tr = track.lock().unwrap_or_else(|e| e.into_inner());
-                tr.at(t).azimuth_deg
-            })
+            track.into_azimuth_fn()
         }
     };
 

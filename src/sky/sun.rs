@@ -251,6 +251,16 @@ pub struct SunTrack {
 }
 
 impl SunTrack {
+    /// The track as a shareable function of session seconds giving the sun's azimuth (degrees,
+    /// clockwise from true north), for the simulated animal. Same method as [`SunTrack::at`].
+    pub fn into_azimuth_fn(self) -> Box<dyn Fn(f64) -> f64 + Send> {
+        let track = std::sync::Mutex::new(self);
+        Box::new(move |t_s| {
+            let mut tr = track.lock().unwrap_or_else(|e| e.into_inner());
+            tr.at(t_s).azimuth_deg
+        })
+    }
+
     /// A track for one site starting at `start` (t_s = 0), default atmosphere for the height.
     pub fn new(
         latitude_deg: f64,
