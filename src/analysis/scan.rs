@@ -2,13 +2,18 @@
 //!
 //! `batch` reads tens of millions of rows, and [`crate::archive::read::for_each_sample`]
 //! parses every column of every row (t_utc, sun-relative heading, e-vector...). This scanner
-//! finds the needed columns by header name, parses only those (with the archive's own number
-//! parser), and merely counts the commas of the others. It handles only the plain case: every
-//! line complete and unquoted, every needed field a plain number. On anything else it gives up
-//! with [`ScanOutcome::Fallback`], and the caller reads the file again with the archive's
-//! general reader, which owns the rules for quoted fields, torn last lines and error messages.
+//! finds the needed columns by header name and reads the file 64 bytes at a time: byte
+//! compares mark the commas, newlines and quotes of a block at once, a walk over the marks
+//! notes where each field ends, and only the needed fields are parsed. A number in the
+//! archive's own form (`[-]digits[.digits]`, up to eight digits) is parsed without a loop
+//! and bit for bit as the archive's parser does; a field that repeats the row above it (the
+//! sun's position, the arena's bearing) is not parsed again. It handles only the plain case:
+//! every line complete and unquoted, every needed field a plain number. On anything else it
+//! gives up with [`ScanOutcome::Fallback`], and the caller reads the file again with the
+//! archive's general reader, which owns the rules for quoted fields, torn last lines and
+//! error messages.
 
-use crate::archive::fmt::parse_f64;
+use crate::archive::fmt::{EXACT_INT, POW10, parse_f64};
 use std::io::Read;
 use std::path::Path;
 
@@ -71,83 +76,241 @@ const NEEDED: [&str; 9] = [
     "flying",
     "scored",
 ];
-const NONE: u8 = u8::MAX;
+
+/// Bytes read from the file at a time (a longer line doubles the buffer).
+const CHUNK: usize = 1 << 20;
+/// Bytes kept past the filled part of the buffer, so that a 64-byte block or a 16-byte field
+/// window that starts inside it never runs off its end (their bytes past the filled part are
+/// masked off).
+const SLACK: usize = 64;
 
 /// Streams the rows of `samples.csv` through `f` if the file is plain (see the module notes).
 /// I/O errors also give `Fallback` (the general reader reports them with their path).
-pub fn scan_samples(path: &Path, mut f: impl FnMut(&Row)) -> ScanOutcome {
+pub fn scan_samples(path: &Path, f: impl FnMut(&Row)) -> ScanOutcome {
+    scan_in_chunks(path, CHUNK, f)
+}
+
+fn scan_in_chunks(path: &Path, chunk: usize, mut f: impl FnMut(&Row)) -> ScanOutcome {
     let Ok(mut file) = std::fs::File::open(path) else {
         return ScanOutcome::Fallback;
     };
-    let mut buf = vec![0u8; 1 << 20];
-    let (mut start, mut end) = (0usize, 0usize);
-    let mut slots: Option<(Vec<u8>, usize)> = None; // column → NEEDED index; column count
+    let mut cap = chunk.max(1);
+    let mut buf = vec![0u8; cap + SLACK];
+    // Not yet scanned: buf[start..filled], where `start` is always the start of a line.
+    let (mut start, mut filled) = (0usize, 0usize);
+    let mut layout: Option<Layout> = None;
+    let mut memo = Memo::default();
     let mut rows = 0u64;
+    let mut emit = |r: &Row| {
+        rows += 1;
+        f(r);
+    };
     loop {
-        while let Some(k) = memchr::memchr(b'\n', &buf[start..end]) {
-            let mut line = &buf[start..start + k];
-            if let [rest @ .., b'\r'] = line {
-                line = rest;
-            }
-            start += k + 1;
-            match &slots {
-                None => match header_slots(line) {
-                    Some(s) => slots = Some(s),
-                    None => return ScanOutcome::Fallback,
-                },
-                Some((slot, ncols)) => match parse_row(line, slot, *ncols) {
-                    Some(row) => {
-                        rows += 1;
-                        f(&row);
-                    }
-                    None => return ScanOutcome::Fallback,
-                },
-            }
-        }
-        buf.copy_within(start..end, 0);
-        end -= start;
+        buf.copy_within(start..filled, 0);
+        filled -= start;
         start = 0;
-        if end == buf.len() {
-            buf.resize(buf.len() * 2, 0);
+        if filled == cap {
+            cap *= 2;
+            buf.resize(cap + SLACK, 0);
         }
-        match file.read(&mut buf[end..]) {
+        match file.read(&mut buf[filled..cap]) {
             Ok(0) => break,
-            Ok(n) => end += n,
+            Ok(n) => filled += n,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
             Err(_) => return ScanOutcome::Fallback,
         }
+        let layout = match &layout {
+            Some(l) => l,
+            None => {
+                let Some(nl) = memchr::memchr(b'\n', &buf[..filled]) else {
+                    continue;
+                };
+                let header = buf[..nl].strip_suffix(b"\r").unwrap_or(&buf[..nl]);
+                let Some(l) = Layout::from_header(header) else {
+                    return ScanOutcome::Fallback;
+                };
+                start = nl + 1;
+                layout.insert(l)
+            }
+        };
+        match layout.scan(&buf, start, filled, &mut memo, &mut emit) {
+            Some(next) => start = next,
+            None => return ScanOutcome::Fallback,
+        }
     }
-    if end > 0 || slots.is_none() {
+    if start != filled || layout.is_none() {
         // A last line without its newline (an interrupted session), or no header at all.
         return ScanOutcome::Fallback;
     }
     ScanOutcome::Done(rows)
 }
 
-fn header_slots(line: &[u8]) -> Option<(Vec<u8>, usize)> {
-    let text = std::str::from_utf8(line).ok()?;
-    if text.contains('"') || text.split(',').count() > MAX_COLS {
-        return None;
-    }
-    let names: Vec<&str> = text.split(',').map(str::trim).collect();
-    let mut slot = vec![NONE; names.len()];
-    for (k, want) in NEEDED.iter().enumerate() {
-        // The first column of that name counts, as in the general reader.
-        let col = names.iter().position(|n| n == want)?;
-        slot[col] = k as u8;
-    }
-    Some((slot, names.len()))
+/// Where the needed columns are, from the header line.
+struct Layout {
+    /// Column of each NEEDED name.
+    cols: [usize; 9],
+    /// Columns per line.
+    ncols: usize,
+    /// Leading columns that hold every needed one.
+    need: usize,
 }
 
-/// Powers of ten for the decimals of a plain number (as in the archive's parser).
-const POW10: [f64; 23] = [
-    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
-    1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
-];
-/// Integers below this are exact in an f64.
-const EXACT_INT: u64 = 1 << 53;
+/// NEEDED indices of the numeric columns.
+const NUMERIC: [usize; 6] = [0, 2, 3, 4, 5, 6];
 
-/// Most columns a line may have on the fast path.
-const MAX_COLS: usize = 64;
+impl Layout {
+    fn from_header(line: &[u8]) -> Option<Self> {
+        let text = std::str::from_utf8(line).ok()?;
+        if text.contains('"') {
+            return None;
+        }
+        let names: Vec<&str> = text.split(',').map(str::trim).collect();
+        let mut cols = [0usize; 9];
+        for (col, want) in cols.iter_mut().zip(NEEDED) {
+            // The first column of that name counts, as in the general reader.
+            *col = names.iter().position(|n| *n == want)?;
+        }
+        Some(Self {
+            cols,
+            ncols: names.len(),
+            need: cols.iter().max()? + 1,
+        })
+    }
+
+    /// Scans the complete lines of `buf[from..to]` (`from` at a line start) 64 bytes at a
+    /// time: one pass of byte compares marks every comma, newline and quote of a block, a walk
+    /// over the marks notes where each of the line's first `need` fields ends, and the needed
+    /// fields are then parsed in place. Returns where the first incomplete line starts (`to`
+    /// when there is none); None outside the plain case. `buf` holds at least [`SLACK`] bytes
+    /// past `to`.
+    #[inline]
+    fn scan(
+        &self,
+        buf: &[u8],
+        from: usize,
+        to: usize,
+        memo: &mut Memo,
+        emit: &mut impl FnMut(&Row),
+    ) -> Option<usize> {
+        // bounds[c + 1]: where field c of the current line ends (its comma, or its newline
+        // less a carriage return); bounds[0]: the byte before the line. Field c is then
+        // buf[bounds[c] + 1..bounds[c + 1]].
+        let mut bounds = vec![0usize; self.need + 1];
+        let (mut line_start, mut col) = (from, 0usize);
+        let mut base = from;
+        while base < to {
+            let block = buf.get(base..base + 64)?.first_chunk::<64>()?;
+            let valid = if to - base >= 64 {
+                u64::MAX
+            } else {
+                (1u64 << (to - base)) - 1
+            };
+            let (commas, newlines, quotes) = masks_64(block);
+            if quotes & valid != 0 {
+                return None;
+            }
+            let mut seps = (commas | newlines) & valid;
+            while seps != 0 {
+                let bit = seps.trailing_zeros();
+                let at = base + bit as usize;
+                seps &= seps - 1;
+                if (newlines >> bit) & 1 == 0 {
+                    if let Some(e) = bounds.get_mut(col + 1) {
+                        *e = at;
+                    }
+                    col += 1;
+                } else {
+                    if let Some(e) = bounds.get_mut(col + 1) {
+                        let cr = at > line_start && buf[at - 1] == b'\r';
+                        *e = at - usize::from(cr);
+                    }
+                    if col + 1 != self.ncols {
+                        return None;
+                    }
+                    bounds[0] = line_start.wrapping_sub(1);
+                    emit(&self.row(buf, &bounds, memo)?);
+                    col = 0;
+                    line_start = at + 1;
+                }
+            }
+            base += 64;
+        }
+        Some(line_start)
+    }
+
+    /// The needed fields of the line whose fields are bounded by `bounds` (see
+    /// [`Layout::scan`]); None when one is not plain.
+    #[inline(always)]
+    fn row(&self, buf: &[u8], bounds: &[usize], memo: &mut Memo) -> Option<Row> {
+        let span = |k: usize| -> Option<(usize, usize)> {
+            let [a, b] = bounds.get(self.cols[k]..)?.first_chunk::<2>()?;
+            Some((a.wrapping_add(1), *b))
+        };
+        let mut v = [0.0f64; 7];
+        for k in NUMERIC {
+            let (start, end) = span(k)?;
+            v[k] = memo.number(k, buf, start, end)?;
+        }
+        let field = |k: usize| -> Option<&[u8]> {
+            let (start, end) = span(k)?;
+            buf.get(start..end)
+        };
+        let flag = |k: usize| match field(k)? {
+            b"0" => Some(false),
+            b"1" => Some(true),
+            _ => None,
+        };
+        Some(Row {
+            t_s: v[0],
+            epoch: parse_uint(field(1)?)?,
+            arena_heading_deg: v[2],
+            arena_bearing_deg: v[3],
+            world_heading_deg: v[4],
+            sun_azimuth_deg: v[5],
+            sun_elevation_deg: v[6],
+            flying: flag(7)?,
+            scored: flag(8)?,
+        })
+    }
+}
+
+/// Bit masks of the commas, newlines and quotes among 64 bytes (bit i for byte i): three
+/// 16-byte compares and byte-mask moves per 16 bytes on x86-64 (SSE2, its baseline), a plain
+/// loop elsewhere.
+#[cfg(target_arch = "x86_64")]
+#[inline(always)]
+fn masks_64(bytes: &[u8; 64]) -> (u64, u64, u64) {
+    use std::arch::x86_64::{
+        __m128i, _mm_cmpeq_epi8, _mm_loadu_si128, _mm_movemask_epi8, _mm_set1_epi8,
+    };
+    let (mut commas, mut newlines, mut quotes) = (0u64, 0u64, 0u64);
+    for (k, chunk) in bytes.chunks_exact(16).enumerate() {
+        // SAFETY: SSE2 is part of the x86-64 baseline, so these instructions exist on every
+        // target this compiles for; the load reads the 16 bytes of `chunk` (unaligned loads
+        // are allowed).
+        let (c, n, q) = unsafe {
+            let v = _mm_loadu_si128(chunk.as_ptr().cast::<__m128i>());
+            let eq = |b: u8| _mm_movemask_epi8(_mm_cmpeq_epi8(v, _mm_set1_epi8(b as i8)));
+            (eq(b','), eq(b'\n'), eq(b'"'))
+        };
+        commas |= u64::from(c as u16) << (16 * k);
+        newlines |= u64::from(n as u16) << (16 * k);
+        quotes |= u64::from(q as u16) << (16 * k);
+    }
+    (commas, newlines, quotes)
+}
+
+#[cfg(not(target_arch = "x86_64"))]
+#[inline(always)]
+fn masks_64(bytes: &[u8; 64]) -> (u64, u64, u64) {
+    let (mut commas, mut newlines, mut quotes) = (0u64, 0u64, 0u64);
+    for (i, &b) in bytes.iter().enumerate() {
+        commas |= u64::from(b == b',') << i;
+        newlines |= u64::from(b == b'\n') << i;
+        quotes |= u64::from(b == b'"') << i;
+    }
+    (commas, newlines, quotes)
+}
 
 /// Bit mask (the high bit of each byte) of the bytes of `w` equal to `b`, exactly (no false
 /// positives): the SWAR byte comparison of Hacker's Delight §6.1.
@@ -158,47 +321,95 @@ fn byte_mask(w: u64, b: u8) -> u64 {
     !(((x & LO7) + LO7) | x | LO7)
 }
 
-/// Counts the commas of `line`, eight bytes at a time, and stores the positions of the first
-/// `need` of them (need ≤ `MAX_COLS`); None when the line holds a quote.
-#[inline]
-fn comma_positions(line: &[u8], out: &mut [usize; MAX_COLS], need: usize) -> Option<usize> {
-    let mut k = 0usize;
-    let mut base = 0usize;
-    let mut chunks = line.chunks_exact(8);
-    let mut visit = |w: u64, base: usize, valid: u64| -> Option<()> {
-        if byte_mask(w, b'"') & valid != 0 {
+/// `KEEP[n]`: the low n bytes of a word.
+const KEEP: [u64; 9] = [
+    0,
+    0xff,
+    0xffff,
+    0xff_ffff,
+    0xffff_ffff,
+    0xff_ffff_ffff,
+    0xffff_ffff_ffff,
+    0xff_ffff_ffff_ffff,
+    u64::MAX,
+];
+
+/// The first sixteen bytes of the field `buf[start..start + len]` (len ≤ 16) as two
+/// little-endian words, zero past the field's end.
+#[inline(always)]
+fn field_words(buf: &[u8], start: usize, len: usize) -> (u64, u64) {
+    let tail = buf.get(start..).unwrap_or_default();
+    let mut pad = [0u8; 16];
+    let w = match tail.first_chunk::<16>() {
+        Some(w) => w,
+        None => {
+            let n = tail.len().min(16);
+            pad[..n].copy_from_slice(&tail[..n]);
+            &pad
+        }
+    };
+    let (lo, hi) = w.split_at(8);
+    let word = |b: &[u8]| b.first_chunk::<8>().map_or(0, |b| u64::from_le_bytes(*b));
+    (
+        word(lo) & KEEP[len.min(8)],
+        word(hi) & KEEP[len.saturating_sub(8).min(8)],
+    )
+}
+
+/// The archive's common number form, `[-]digits[.digits]` with one to eight digits, parsed
+/// without a loop: the digits are gathered into one 64-bit word and combined pairwise in
+/// three multiply-and-mask steps (the SWAR digit parse; Lemire, "Faster parsing of 8-digit
+/// numbers", 2022). The value is the same integer mantissa divided by the same power of ten
+/// as in the archive's parser, so the two agree bit for bit. `lo` and `hi` hold the field's
+/// bytes (see [`field_words`]), `len` its length; None for any other form.
+#[inline(always)]
+fn fixed_decimal(lo: u64, hi: u64, len: usize) -> Option<f64> {
+    let neg = lo as u8 == b'-';
+    let (lo, hi, len) = if neg {
+        ((lo >> 8) | (hi << 56), hi >> 8, len.wrapping_sub(1))
+    } else {
+        (lo, hi, len)
+    };
+    if len == 0 || len > 9 {
+        return None;
+    }
+    let dot = byte_mask(lo, b'.');
+    let (digits, n_digits, decimals) = if dot == 0 {
+        if len > 8 {
+            return None; // nine digits, or a dot in ninth place
+        }
+        (lo, len, 0)
+    } else {
+        if dot & (dot - 1) != 0 {
             return None;
         }
-        let mut m = byte_mask(w, b',') & valid;
-        // (A loop, not count_ones: the baseline x86-64 target has no popcount instruction.)
-        while m != 0 {
-            if k < need {
-                out[k] = base + (m.trailing_zeros() / 8) as usize;
-            }
-            k += 1;
-            m &= m - 1;
-        }
-        Some(())
+        let d = (dot.trailing_zeros() / 8) as usize; // 0..=7
+        let below = (1u64 << (8 * d)) - 1;
+        // The dot taken out; a ninth byte moves into eighth place.
+        let digits = (lo & below) | ((lo >> 8) & !below) | ((hi & 0xff) << 56);
+        (digits, len - 1, len - 1 - d)
     };
-    for c in &mut chunks {
-        let w = u64::from_le_bytes([c[0], c[1], c[2], c[3], c[4], c[5], c[6], c[7]]);
-        visit(w, base, u64::MAX)?;
-        base += 8;
+    if n_digits == 0 {
+        return None;
     }
-    let rest = chunks.remainder();
-    if !rest.is_empty() {
-        let mut pad = [0u8; 8];
-        pad[..rest.len()].copy_from_slice(rest);
-        let valid = u64::MAX >> (8 * (8 - rest.len()));
-        visit(u64::from_le_bytes(pad), base, valid)?;
+    let x = digits ^ (0x3030_3030_3030_3030 & KEEP[n_digits]);
+    const HI4: u64 = 0xf0f0_f0f0_f0f0_f0f0;
+    if (x & HI4) | (x.wrapping_add(0x0606_0606_0606_0606) & HI4) != 0 {
+        return None; // a byte that is not a digit
     }
-    Some(k)
+    // First digit in the lowest byte; shift so the last one sits in the highest.
+    let v = x << (8 * (8 - n_digits));
+    let v = (v.wrapping_mul(10).wrapping_add(v >> 8)) & 0x00ff_00ff_00ff_00ff;
+    let v = (v.wrapping_mul(100).wrapping_add(v >> 16)) & 0x0000_ffff_0000_ffff;
+    let m = (v.wrapping_mul(10_000).wrapping_add(v >> 32)) & 0xffff_ffff;
+    let x = m as f64 / POW10[decimals];
+    Some(if neg { -x } else { x })
 }
 
 /// A plain decimal [-]digits[.digits], parsed as the archive's parser does (integer mantissa
 /// divided by a power of ten, exact for up to 15 significant digits); anything else through
 /// the archive's parser itself.
-#[inline]
+#[inline(never)]
 fn parse_number(field: &[u8]) -> Option<f64> {
     let (neg, digits) = match field.first() {
         Some(b'-') => (true, &field[1..]),
@@ -218,60 +429,52 @@ fn parse_number(field: &[u8]) -> Option<f64> {
         }
     }
     let n_digits = digits.len() - dot as usize;
-    if n_digits == 0 || n_digits > 19 || decimals > 22 || m >= EXACT_INT {
+    if n_digits == 0 || n_digits > 19 || decimals > 22 || m as f64 >= EXACT_INT {
         return parse_f64(field);
     }
     let x = m as f64 / POW10[decimals];
     Some(if neg { -x } else { x })
 }
 
-/// Parses the needed fields of one line. None for anything outside the plain case.
-#[inline]
-fn parse_row(line: &[u8], slot: &[u8], ncols: usize) -> Option<Row> {
-    let mut commas = [0usize; MAX_COLS];
-    // Positions are needed up to the comma that ends the last needed column.
-    let need = (slot.iter().rposition(|&s| s != NONE).unwrap_or(0) + 1).min(MAX_COLS);
-    let k = comma_positions(line, &mut commas, need)?;
-    if k + 1 != ncols {
-        return None;
-    }
-    let mut v = [0.0f64; 9];
-    let mut epoch = 0usize;
-    let mut flags = [false; 2];
-    for (col, &s) in slot.iter().enumerate().take(need) {
-        if s == NONE {
-            continue;
+/// The text and value of each numeric column in the row before. The sun's position and the
+/// arena's bearing repeat from row to row (the sun's azimuth moves its last written decimal a
+/// few times a second), and the same text always parses to the same value, so a field equal
+/// to the one above it is not parsed again.
+struct Memo {
+    /// Per NEEDED index: the field's bytes (up to 16, see [`field_words`]), its length, its
+    /// value.
+    seen: [(u64, u64, usize, f64); 7],
+}
+
+impl Default for Memo {
+    fn default() -> Self {
+        // A length no field has: nothing is remembered yet.
+        Self {
+            seen: [(0, 0, usize::MAX, 0.0); 7],
         }
-        let start = if col == 0 { 0 } else { commas[col - 1] + 1 };
-        let end = if col + 1 == ncols {
-            line.len()
-        } else {
-            commas[col]
+    }
+}
+
+impl Memo {
+    /// The number in `line[start..end]` for NEEDED index `s`.
+    #[inline(always)]
+    fn number(&mut self, s: usize, line: &[u8], start: usize, end: usize) -> Option<f64> {
+        let len = end.checked_sub(start)?;
+        if len > 16 {
+            return parse_number(line.get(start..end)?);
+        }
+        let (lo, hi) = field_words(line, start, len);
+        let seen = self.seen.get_mut(s)?;
+        if seen.0 == lo && seen.1 == hi && seen.2 == len {
+            return Some(seen.3);
+        }
+        let x = match fixed_decimal(lo, hi, len) {
+            Some(x) => x,
+            None => parse_number(line.get(start..end)?)?,
         };
-        let field = line.get(start..end)?;
-        match s {
-            1 => epoch = parse_uint(field)?,
-            7 | 8 => {
-                flags[(s - 7) as usize] = match field {
-                    b"0" => false,
-                    b"1" => true,
-                    _ => return None,
-                }
-            }
-            _ => v[s as usize] = parse_number(field)?,
-        }
+        *seen = (lo, hi, len, x);
+        Some(x)
     }
-    Some(Row {
-        t_s: v[0],
-        epoch,
-        arena_heading_deg: v[2],
-        arena_bearing_deg: v[3],
-        world_heading_deg: v[4],
-        sun_azimuth_deg: v[5],
-        sun_elevation_deg: v[6],
-        flying: flags[0],
-        scored: flags[1],
-    })
 }
 
 #[inline]
@@ -376,22 +579,181 @@ mod tests {
         assert_eq!(byte_mask(w, b','), at(&[0, 2, 4, 5, 7]));
         assert_eq!(byte_mask(w, b'"'), at(&[3]));
         assert_eq!(byte_mask(w, 0x80), at(&[6]));
-        let mut out = [0usize; MAX_COLS];
-        let k = comma_positions(b"ab,cd,,efghijklmn,op,q", &mut out, 9).unwrap();
-        assert_eq!(&out[..k], &[2, 5, 6, 17, 20]);
-        assert_eq!(
-            comma_positions(b"ab,cd,,efghijklmn,op,q", &mut out, 2),
-            Some(5)
-        );
-        assert!(comma_positions(b"ab,\"cd\"", &mut out, 9).is_none());
-        for len in 0..20 {
-            let line: Vec<u8> = (0..len)
-                .map(|i| if i % 3 == 1 { b',' } else { b'7' })
-                .collect();
-            let k = comma_positions(&line, &mut out, MAX_COLS).unwrap();
-            let want: Vec<usize> = (0..len).filter(|i| i % 3 == 1).collect();
-            assert_eq!(&out[..k], &want[..], "{len}");
+        let block: Vec<u8> = (0..64u32)
+            .map(|i| match i % 7 {
+                1 | 4 => b',',
+                5 if i % 3 == 0 => b'"',
+                6 if i % 2 == 0 => b'\n',
+                _ => b'7',
+            })
+            .collect();
+        let bits = |want: u8| {
+            (0..64)
+                .filter(|&i| block[i] == want)
+                .map(|i| 1u64 << i)
+                .sum::<u64>()
+        };
+        let block: &[u8; 64] = block.first_chunk().unwrap();
+        assert_eq!(masks_64(block), (bits(b','), bits(b'\n'), bits(b'"')));
+    }
+
+    fn quick(t: &str) -> Option<f64> {
+        let b = t.as_bytes();
+        if b.len() > 16 {
+            return None;
         }
+        let (lo, hi) = field_words(b, 0, b.len());
+        fixed_decimal(lo, hi, b.len())
+    }
+
+    #[test]
+    fn the_quick_number_form_agrees_with_the_archive_parser_bit_for_bit() {
+        let mut cases: Vec<String> = [
+            "0",
+            "5.",
+            ".5",
+            "-0.000",
+            "-",
+            ".",
+            "-.",
+            "1.2.3",
+            "12345678",
+            "123456789",
+            "1234.5678",
+            "12345.6789",
+            "-9999.9999",
+            "00000000",
+            "0.0000001",
+            "+1.5",
+            "1e3",
+            "1,5",
+            "12 3",
+            "--5",
+            "9/",
+            ":1",
+            "359.999",
+            "1800.0000",
+            "-180.000",
+            "",
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        // Every mix of digits, one dot and a sign up to nine characters, sampled.
+        let mut x = 0x2545_f491_4f6c_dd1du64;
+        for _ in 0..20_000 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            let len = (x % 11) as usize;
+            let mut t: String = (0..len)
+                .map(|i| char::from(b'0' + ((x >> (4 * i + 8)) % 10) as u8))
+                .collect();
+            if len > 0 && x & (1 << 60) != 0 {
+                let at = ((x >> 50) as usize) % (len + 1);
+                t.insert(at, '.');
+            }
+            if x & (1 << 61) != 0 {
+                t.insert(0, '-');
+            }
+            cases.push(t);
+        }
+        for t in &cases {
+            let line = format!("{t},9");
+            let quick = quick(t);
+            let general = parse_f64(t.as_bytes());
+            if let Some(q) = quick {
+                assert_eq!(Some(q.to_bits()), general.map(f64::to_bits), "{t:?}");
+            }
+            assert_eq!(
+                Memo::default()
+                    .number(0, line.as_bytes(), 0, t.len())
+                    .map(f64::to_bits),
+                parse_number(t.as_bytes()).map(f64::to_bits),
+                "{t:?}"
+            );
+        }
+        // The common forms do take the quick way.
+        for t in [
+            "191.400",
+            "0.0510",
+            "1800.0000",
+            "-1800.0000",
+            "-12.345",
+            "7",
+            "99999999",
+        ] {
+            assert!(quick(t).is_some(), "{t}");
+        }
+        // A field at the very end of a line (a short window, zero-padded).
+        assert_eq!(Memo::default().number(0, b"x,12.5", 2, 6), Some(12.5));
+    }
+
+    #[test]
+    fn long_lines_and_needed_columns_past_the_first_64_bytes() {
+        let pad = "p".repeat(70);
+        let text = format!(
+            "note,{HEADER}{pad},2026-06-01T10:00:00.000Z,0.0100,3,10.500,200.000,210.500,120.250,40.100,1,1,3\n"
+        );
+        let (out, rows) = scan(&text);
+        assert_eq!(out, ScanOutcome::Done(1));
+        assert_eq!(rows[0].epoch, 3);
+        assert_eq!(rows[0].sun_elevation_deg, 40.1);
+        assert!(rows[0].scored);
+        // The last needed column as the line's last field.
+        let (out, rows) = scan(
+            "raw,t_s,epoch,arena_heading_deg,arena_bearing_deg,world_heading_deg,sun_azimuth_deg,sun_elevation_deg,flying,scored\n\
+             x,1.5,2,3,4,5,6,7,0,1\n",
+        );
+        assert_eq!(out, ScanOutcome::Done(1));
+        assert!(rows[0].scored && !rows[0].flying && rows[0].t_s == 1.5);
+        // One field short of that.
+        let (out, _) = scan(
+            "raw,t_s,epoch,arena_heading_deg,arena_bearing_deg,world_heading_deg,sun_azimuth_deg,sun_elevation_deg,flying,scored\n\
+             x,1.5,2,3,4,5,6,7,0\n",
+        );
+        assert_eq!(out, ScanOutcome::Fallback);
+    }
+
+    #[test]
+    fn lines_across_buffer_refills_and_longer_than_the_buffer() {
+        let mut text = String::from(HEADER);
+        for i in 0..300usize {
+            let tail = if i % 17 == 0 {
+                "x".repeat(150)
+            } else {
+                "3".into()
+            };
+            let end = if i % 5 == 0 { "\r\n" } else { "\n" };
+            text.push_str(&format!(
+                "2026-06-01T10:00:00.000Z,{}.{:04},{},{}.5,200.000,1{}.25,120.250,-0.5,{},1,{tail}{end}",
+                i / 100,
+                i % 100,
+                i % 4,
+                i % 360,
+                i % 90,
+                i % 2
+            ));
+        }
+        let tmp = tempfile::NamedTempFile::new().unwrap();
+        std::fs::write(tmp.path(), &text).unwrap();
+        let mut whole = Vec::new();
+        assert_eq!(
+            scan_samples(tmp.path(), |r| whole.push(*r)),
+            ScanOutcome::Done(300)
+        );
+        for chunk in [1, 7, 64, 100, 333] {
+            let mut rows = Vec::new();
+            let out = scan_in_chunks(tmp.path(), chunk, |r| rows.push(*r));
+            assert_eq!(out, ScanOutcome::Done(300), "{chunk}");
+            assert_eq!(rows, whole, "{chunk}");
+        }
+        assert_eq!(whole[101].t_s, 1.0001);
+        assert_eq!(whole[101].world_heading_deg, 111.25);
+        assert_eq!(whole[101].sun_elevation_deg, -0.5);
+        let mut general = Vec::new();
+        crate::archive::read::for_each_sample(tmp.path(), |s| general.push(Row::from(s))).unwrap();
+        assert_eq!(general, whole);
     }
 
     #[test]

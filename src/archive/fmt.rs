@@ -12,13 +12,13 @@
 use chrono::{DateTime, Utc};
 
 /// Powers of ten exactly representable as f64 (10^0..=10^22).
-const POW10: [f64; 23] = [
+pub(crate) const POW10: [f64; 23] = [
     1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
     1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
 ];
 
 /// Largest integer below which every integer is an exact f64.
-const EXACT_INT: f64 = 9_007_199_254_740_992.0; // 2^53
+pub(crate) const EXACT_INT: f64 = 9_007_199_254_740_992.0; // 2^53
 
 /// Powers of ten as integers.
 const POW10_U64: [u64; 10] = [
