@@ -147,16 +147,21 @@ fn scan_in_chunks(path: &Path, chunk: usize, mut f: impl FnMut(&Row)) -> ScanOut
 
 /// Where the needed columns are, from the header line.
 struct Layout {
-    /// Column of each NEEDED name.
+    /// Column of each NEEDED name (each below [`MAX_LEAD`]).
     cols: [usize; 9],
     /// Columns per line.
     ncols: usize,
-    /// Leading columns that hold every needed one.
+    /// Leading columns that hold every needed one (at most [`MAX_LEAD`]).
     need: usize,
 }
 
-/// NEEDED indices of the numeric columns.
-const NUMERIC: [usize; 6] = [0, 2, 3, 4, 5, 6];
+/// The fast path handles files whose needed columns are all among the first 64 (the archive
+/// writes 13); the general reader takes any other.
+const MAX_LEAD: usize = 64;
+/// Field bounds of one line (see [`Layout::scan`]): a fixed array, indexed modulo its length
+/// (every index is below it), so that no index needs a bounds check.
+type Bounds = [usize; 2 * MAX_LEAD];
+const BOUNDS_MASK: usize = 2 * MAX_LEAD - 1;
 
 impl Layout {
     fn from_header(line: &[u8]) -> Option<Self> {
@@ -170,10 +175,11 @@ impl Layout {
             // The first column of that name counts, as in the general reader.
             *col = names.iter().position(|n| *n == want)?;
         }
-        Some(Self {
+        let need = cols.iter().max()? + 1;
+        (need <= MAX_LEAD).then_some(Self {
             cols,
             ncols: names.len(),
-            need: cols.iter().max()? + 1,
+            need,
         })
     }
 
@@ -195,7 +201,7 @@ impl Layout {
         // bounds[c + 1]: where field c of the current line ends (its comma, or its newline
         // less a carriage return); bounds[0]: the byte before the line. Field c is then
         // buf[bounds[c] + 1..bounds[c + 1]].
-        let mut bounds = vec![0usize; self.need + 1];
+        let mut bounds: Bounds = [0; 2 * MAX_LEAD];
         let (mut line_start, mut col) = (from, 0usize);
         let mut base = from;
         while base < to {
@@ -215,14 +221,14 @@ impl Layout {
                 let at = base + bit as usize;
                 seps &= seps - 1;
                 if (newlines >> bit) & 1 == 0 {
-                    if let Some(e) = bounds.get_mut(col + 1) {
-                        *e = at;
+                    if col < self.need {
+                        bounds[(col + 1) & BOUNDS_MASK] = at;
                     }
                     col += 1;
                 } else {
-                    if let Some(e) = bounds.get_mut(col + 1) {
+                    if col < self.need {
                         let cr = at > line_start && buf[at - 1] == b'\r';
-                        *e = at - usize::from(cr);
+                        bounds[(col + 1) & BOUNDS_MASK] = at - usize::from(cr);
                     }
                     if col + 1 != self.ncols {
                         return None;
@@ -241,18 +247,20 @@ impl Layout {
     /// The needed fields of the line whose fields are bounded by `bounds` (see
     /// [`Layout::scan`]); None when one is not plain.
     #[inline(always)]
-    fn row(&self, buf: &[u8], bounds: &[usize], memo: &mut Memo) -> Option<Row> {
-        let span = |k: usize| -> Option<(usize, usize)> {
-            let [a, b] = bounds.get(self.cols[k]..)?.first_chunk::<2>()?;
-            Some((a.wrapping_add(1), *b))
+    fn row(&self, buf: &[u8], bounds: &Bounds, memo: &mut Memo) -> Option<Row> {
+        let span = |k: usize| {
+            let c = self.cols[k];
+            (
+                bounds[c & BOUNDS_MASK].wrapping_add(1),
+                bounds[(c + 1) & BOUNDS_MASK],
+            )
         };
-        let mut v = [0.0f64; 7];
-        for k in NUMERIC {
-            let (start, end) = span(k)?;
-            v[k] = memo.number(k, buf, start, end)?;
-        }
-        let field = |k: usize| -> Option<&[u8]> {
-            let (start, end) = span(k)?;
+        let number = |memo: &mut Memo, k: usize| {
+            let (start, end) = span(k);
+            memo.number(k, buf, start, end)
+        };
+        let field = |k: usize| {
+            let (start, end) = span(k);
             buf.get(start..end)
         };
         let flag = |k: usize| match field(k)? {
@@ -260,14 +268,15 @@ impl Layout {
             b"1" => Some(true),
             _ => None,
         };
+        let (start, end) = span(1);
         Some(Row {
-            t_s: v[0],
-            epoch: parse_uint(field(1)?)?,
-            arena_heading_deg: v[2],
-            arena_bearing_deg: v[3],
-            world_heading_deg: v[4],
-            sun_azimuth_deg: v[5],
-            sun_elevation_deg: v[6],
+            t_s: number(memo, 0)?,
+            epoch: memo.epoch(buf, start, end)?,
+            arena_heading_deg: number(memo, 2)?,
+            arena_bearing_deg: number(memo, 3)?,
+            world_heading_deg: number(memo, 4)?,
+            sun_azimuth_deg: number(memo, 5)?,
+            sun_elevation_deg: number(memo, 6)?,
             flying: flag(7)?,
             scored: flag(8)?,
         })
@@ -338,22 +347,33 @@ const KEEP: [u64; 9] = [
 /// little-endian words, zero past the field's end.
 #[inline(always)]
 fn field_words(buf: &[u8], start: usize, len: usize) -> (u64, u64) {
-    let tail = buf.get(start..).unwrap_or_default();
-    let mut pad = [0u8; 16];
-    let w = match tail.first_chunk::<16>() {
-        Some(w) => w,
-        None => {
-            let n = tail.len().min(16);
-            pad[..n].copy_from_slice(&tail[..n]);
-            &pad
+    let (lo, hi) = match buf.get(start..).and_then(|t| t.first_chunk::<16>()) {
+        Some(w) => {
+            let (lo, hi) = w.split_at(8);
+            (word(lo), word(hi))
         }
+        None => padded_words(buf, start),
     };
-    let (lo, hi) = w.split_at(8);
-    let word = |b: &[u8]| b.first_chunk::<8>().map_or(0, |b| u64::from_le_bytes(*b));
     (
-        word(lo) & KEEP[len.min(8)],
-        word(hi) & KEEP[len.saturating_sub(8).min(8)],
+        lo & KEEP[len.min(8)],
+        hi & KEEP[len.saturating_sub(8).min(8)],
     )
+}
+
+#[inline(always)]
+fn word(b: &[u8]) -> u64 {
+    b.first_chunk::<8>().map_or(0, |b| u64::from_le_bytes(*b))
+}
+
+/// [`field_words`] near the end of `buf` (only in tests: the scanner keeps [`SLACK`] bytes).
+#[cold]
+fn padded_words(buf: &[u8], start: usize) -> (u64, u64) {
+    let mut pad = [0u8; 16];
+    let tail = buf.get(start..).unwrap_or_default();
+    let n = tail.len().min(16);
+    pad[..n].copy_from_slice(&tail[..n]);
+    let (lo, hi) = pad.split_at(8);
+    (word(lo), word(hi))
 }
 
 /// The archive's common number form, `[-]digits[.digits]` with one to eight digits, parsed
@@ -444,6 +464,8 @@ struct Memo {
     /// Per NEEDED index: the field's bytes (up to 16, see [`field_words`]), its length, its
     /// value.
     seen: [(u64, u64, usize, f64); 7],
+    /// The epoch field's bytes (up to 8), its length, its value.
+    epoch: (u64, usize, usize),
 }
 
 impl Default for Memo {
@@ -451,11 +473,28 @@ impl Default for Memo {
         // A length no field has: nothing is remembered yet.
         Self {
             seen: [(0, 0, usize::MAX, 0.0); 7],
+            epoch: (0, usize::MAX, 0),
         }
     }
 }
 
 impl Memo {
+    /// The epoch number in `line[start..end]`.
+    #[inline(always)]
+    fn epoch(&mut self, line: &[u8], start: usize, end: usize) -> Option<usize> {
+        let len = end.checked_sub(start)?;
+        if len > 8 {
+            return parse_uint(line.get(start..end)?);
+        }
+        let (lo, _) = field_words(line, start, len);
+        if self.epoch.0 == lo && self.epoch.1 == len {
+            return Some(self.epoch.2);
+        }
+        let e = parse_uint(line.get(start..end)?)?;
+        self.epoch = (lo, len, e);
+        Some(e)
+    }
+
     /// The number in `line[start..end]` for NEEDED index `s`.
     #[inline(always)]
     fn number(&mut self, s: usize, line: &[u8], start: usize, end: usize) -> Option<f64> {
