@@ -94,9 +94,72 @@ pub(crate) fn sin_cos_deg(angle_deg: f64) -> (f64, f64) {
     )
 }
 
+/// Slots of a [`SinCosMemo`] (a power of two): 2,048 × 24 bytes, within a core's L2 cache.
+const MEMO_SLOTS: usize = 2048;
+
+/// A direct-mapped memo of [`sin_cos_deg`], keyed by the angle's bits. Headings come from
+/// sensors of finite resolution and cluster around the direction the animal holds, so the
+/// same values recur (a sensor with 0.1° steps gives at most 3,600); a hit costs a hash and
+/// a load instead of the reduction and two polynomials, and returns exactly what the
+/// computation gives.
+pub(crate) struct SinCosMemo {
+    /// (angle bits, sin, cos); every slot starts as the angle 0.
+    slots: Box<[(u64, f64, f64); MEMO_SLOTS]>,
+}
+
+impl SinCosMemo {
+    pub(crate) fn new() -> Self {
+        Self {
+            slots: Box::new([(0.0f64.to_bits(), 0.0, 1.0); MEMO_SLOTS]),
+        }
+    }
+
+    /// (sin θ, cos θ) for θ in degrees, as [`sin_cos_deg`].
+    #[inline(always)]
+    pub(crate) fn sin_cos_deg(&mut self, angle_deg: f64) -> (f64, f64) {
+        let bits = angle_deg.to_bits();
+        // Fibonacci hashing: the top bits of the product by 2^64/φ.
+        let slot = (bits.wrapping_mul(0x9e37_79b9_7f4a_7c15) >> 53) as usize % MEMO_SLOTS;
+        let entry = &mut self.slots[slot];
+        if entry.0 == bits {
+            return (entry.1, entry.2);
+        }
+        let (s, c) = sin_cos_deg(angle_deg);
+        *entry = (bits, s, c);
+        (s, c)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_memo_returns_what_the_computation_gives() {
+        let mut memo = SinCosMemo::new();
+        let mut x = 0x2545_f491_4f6c_dd1du64;
+        for i in 0..200_000u32 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            // Recurring sensor steps, fresh values and the odd non-finite one.
+            let a = match i % 5 {
+                0 => f64::from_bits(x),
+                1 => (x % 3600) as f64 / 10.0 - 180.0,
+                _ => (x % 360) as f64 * 0.1 + 40.0,
+            };
+            let (ms, mc) = memo.sin_cos_deg(a);
+            let (s, c) = sin_cos_deg(a);
+            assert_eq!(
+                (ms.to_bits(), mc.to_bits()),
+                (s.to_bits(), c.to_bits()),
+                "{a}"
+            );
+        }
+        // 0 is in every slot from the start.
+        assert_eq!(memo.sin_cos_deg(0.0), (0.0, 1.0));
+        assert_eq!(sin_cos_deg(0.0), (0.0, 1.0));
+    }
 
     #[test]
     fn multiples_of_90_are_exact() {
