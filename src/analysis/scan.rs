@@ -13,7 +13,7 @@
 //! archive's general reader, which owns the rules for quoted fields, torn last lines and
 //! error messages.
 
-use crate::archive::fmt::{EXACT_INT, POW10, parse_f64};
+use crate::archive::fmt::{POW10, parse_f64};
 use std::io::Read;
 use std::path::Path;
 
@@ -426,36 +426,6 @@ fn fixed_decimal(lo: u64, hi: u64, len: usize) -> Option<f64> {
     Some(if neg { -x } else { x })
 }
 
-/// A plain decimal [-]digits[.digits], parsed as the archive's parser does (integer mantissa
-/// divided by a power of ten, exact for up to 15 significant digits); anything else through
-/// the archive's parser itself.
-#[inline(never)]
-fn parse_number(field: &[u8]) -> Option<f64> {
-    let (neg, digits) = match field.first() {
-        Some(b'-') => (true, &field[1..]),
-        _ => (false, field),
-    };
-    let mut m: u64 = 0;
-    let mut decimals = 0usize;
-    let mut dot = false;
-    for &b in digits {
-        if b.is_ascii_digit() {
-            m = m.wrapping_mul(10).wrapping_add((b - b'0') as u64);
-            decimals += dot as usize;
-        } else if b == b'.' && !dot {
-            dot = true;
-        } else {
-            return parse_f64(field);
-        }
-    }
-    let n_digits = digits.len() - dot as usize;
-    if n_digits == 0 || n_digits > 19 || decimals > 22 || m as f64 >= EXACT_INT {
-        return parse_f64(field);
-    }
-    let x = m as f64 / POW10[decimals];
-    Some(if neg { -x } else { x })
-}
-
 /// The text and value of each numeric column in the row before. The sun's position and the
 /// arena's bearing repeat from row to row (the sun's azimuth moves its last written decimal a
 /// few times a second), and the same text always parses to the same value, so a field equal
@@ -509,7 +479,7 @@ impl Memo {
     fn number(&mut self, s: usize, line: &[u8], start: usize, end: usize) -> Option<f64> {
         let len = end.checked_sub(start)?;
         if len > 16 {
-            return parse_number(line.get(start..end)?);
+            return parse_f64(line.get(start..end)?);
         }
         let (lo, hi) = field_words(line, start, len);
         let seen = self.seen.get_mut(s)?;
@@ -541,7 +511,7 @@ impl Memo {
 fn parse_words(line: &[u8], start: usize, end: usize, lo: u64, hi: u64) -> Option<f64> {
     match fixed_decimal(lo, hi, end - start) {
         Some(x) => Some(x),
-        None => parse_number(line.get(start..end)?),
+        None => parse_f64(line.get(start..end)?),
     }
 }
 
@@ -739,7 +709,7 @@ mod tests {
                 Memo::default()
                     .number(0, line.as_bytes(), 0, t.len())
                     .map(f64::to_bits),
-                parse_number(t.as_bytes()).map(f64::to_bits),
+                parse_f64(t.as_bytes()).map(f64::to_bits),
                 "{t:?}"
             );
         }

@@ -18,7 +18,7 @@ pub(crate) const POW10: [f64; 23] = [
 ];
 
 /// Largest integer below which every integer is an exact f64.
-pub(crate) const EXACT_INT: f64 = 9_007_199_254_740_992.0; // 2^53
+const EXACT_INT: f64 = 9_007_199_254_740_992.0; // 2^53
 
 /// Powers of ten as integers.
 const POW10_U64: [u64; 10] = [
