@@ -378,8 +378,8 @@ fn padded_words(buf: &[u8], start: usize) -> (u64, u64) {
 
 /// The archive's common number form, `[-]digits[.digits]` with one to eight digits, parsed
 /// without a loop: the digits are gathered into one 64-bit word and combined pairwise in
-/// three multiply-and-mask steps (the SWAR digit parse; Lemire, "Faster parsing of 8-digit
-/// numbers", 2022). The value is the same integer mantissa divided by the same power of ten
+/// three multiply-and-mask steps (the SWAR eight-digit parse, common practice in fast number
+/// parsers; the tests below check it against the archive's parser). The value is the same integer mantissa divided by the same power of ten
 /// as in the archive's parser, so the two agree bit for bit. `lo` and `hi` hold the field's
 /// bytes (see [`field_words`]), `len` its length; None for any other form.
 #[inline(always)]
