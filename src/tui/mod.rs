@@ -8,7 +8,10 @@
 //!   and restores the terminal on every exit path.
 
 pub mod format;
+pub mod lines;
 pub mod live;
+pub mod panels;
+pub mod raster;
 pub mod render;
 pub mod sample;
 pub mod state;
