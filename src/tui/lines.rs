@@ -3,7 +3,11 @@
 
 use crate::tui::format::fit;
 use crate::tui::theme::Theme;
+use ratatui::buffer::Buffer;
+use ratatui::layout::Rect;
+use ratatui::style::Style;
 use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Widget};
 
 /// One item of a flowed line: spans kept together.
 pub(crate) type Item<'a> = Vec<Span<'a>>;
@@ -77,4 +81,34 @@ pub(crate) fn flow_with<'a>(
         .filter(|l| !l.is_empty())
         .map(Line::from)
         .collect()
+}
+
+/// Lines laid out for one width, ready to draw: a layout reads their height before it splits
+/// the screen, then draws them into the area it gave them.
+pub struct TextLines<'a> {
+    lines: Vec<Line<'a>>,
+    style: Style,
+}
+
+impl<'a> TextLines<'a> {
+    /// `lines` on the theme's base style.
+    pub fn new(lines: Vec<Line<'a>>, theme: &Theme) -> Self {
+        TextLines {
+            lines,
+            style: theme.base(),
+        }
+    }
+
+    /// Rows the lines take.
+    pub fn height(&self) -> u16 {
+        self.lines.len() as u16
+    }
+}
+
+impl Widget for TextLines<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        Paragraph::new(self.lines)
+            .style(self.style)
+            .render(area, buf);
+    }
 }

@@ -1,7 +1,9 @@
 //! The live screen: renders engine snapshots, sends operator commands.
 //!
 //! - [`render::draw`] draws one [`Snapshot`](crate::engine::snapshot::Snapshot) into a ratatui
-//!   frame (pure: no clock, no I/O);
+//!   frame (pure: no clock, no I/O): it picks a layout and splits the screen among the
+//!   [`panels`], one ratatui widget each; [`lines`] (flowed text) and [`raster`] (braille or
+//!   half-block dots) are the drawing helpers they share;
 //! - [`UiState::handle_key`] turns keys into [`Command`](crate::engine::snapshot::Command)s (a
 //!   pure state machine);
 //! - [`run_live`] owns the terminal: raw mode, alternate screen, at most ~30 frames per second,

@@ -2,10 +2,53 @@
 
 use crate::engine::snapshot::Snapshot;
 use crate::tui::format::{count, deg1, fit, r_value};
-use crate::tui::lines::Item;
+use crate::tui::lines::{Item, TextLines, flow};
 use crate::tui::panels::{SYNC_LATE_S, sync_age_s};
 use crate::tui::theme::Theme;
+use ratatui::buffer::Buffer;
+use ratatui::layout::Rect;
 use ratatui::text::{Line, Span};
+use ratatui::widgets::{Block, Paragraph, Widget};
+
+/// The one-line health summary of the compact layout (at most two rows).
+pub fn health_line<'a>(snap: &Snapshot, theme: &Theme, width: u16) -> TextLines<'a> {
+    TextLines::new(flow(health_items(snap, theme), width, 2, theme), theme)
+}
+
+/// The wide layout's devices and archive panel, laid out for its width.
+pub struct DevicesPanel<'a> {
+    lines: Vec<Line<'a>>,
+    theme: Theme,
+}
+
+impl<'a> DevicesPanel<'a> {
+    /// The panel for a box `width` cells wide (borders included).
+    pub fn new(snap: &Snapshot, theme: &Theme, width: u16) -> Self {
+        DevicesPanel {
+            lines: health_panel(snap, theme, width.saturating_sub(2) as usize),
+            theme: *theme,
+        }
+    }
+
+    /// Rows the panel wants, borders included.
+    pub fn height(&self) -> u16 {
+        self.lines.len() as u16 + 2
+    }
+}
+
+impl Widget for DevicesPanel<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        let theme = &self.theme;
+        Paragraph::new(self.lines)
+            .style(theme.base())
+            .block(
+                Block::bordered()
+                    .border_style(theme.border())
+                    .title(Span::styled(" devices · archive ", theme.strong())),
+            )
+            .render(area, buf);
+    }
+}
 
 pub(crate) fn sync_spans<'a>(snap: &Snapshot, theme: &Theme, short: bool) -> Vec<Span<'a>> {
     if let Some(err) = &snap.health.archive_error {
@@ -34,7 +77,7 @@ pub(crate) fn sync_spans<'a>(snap: &Snapshot, theme: &Theme, short: bool) -> Vec
     }
 }
 
-pub(crate) fn health_items<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Item<'a>> {
+fn health_items<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Item<'a>> {
     let h = &snap.health;
     let mut items: Vec<Item> = vec![sync_spans(snap, theme, true)];
     if h.sensor_lost {
@@ -63,7 +106,7 @@ pub(crate) fn health_items<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Item<'a>> 
     items
 }
 
-pub(crate) fn health_panel<'a>(snap: &Snapshot, theme: &Theme, width: usize) -> Vec<Line<'a>> {
+fn health_panel<'a>(snap: &Snapshot, theme: &Theme, width: usize) -> Vec<Line<'a>> {
     let h = &snap.health;
     let kv = |k: &str, v: String| -> Line<'a> {
         Line::from(vec![

@@ -4,150 +4,157 @@ use crate::engine::snapshot::Snapshot;
 use crate::frames::wrap_360_deg;
 use crate::tui::state::{HeadingFrame, UiState};
 use crate::tui::theme::Theme;
-use ratatui::Frame;
+use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::style::Color;
 use ratatui::symbols::Marker;
 use ratatui::text::Span;
-use ratatui::widgets::Block;
 use ratatui::widgets::canvas::{Canvas, Circle, Line as CanvasLine};
+use ratatui::widgets::{Block, Widget};
 
 fn polar(r: f64, screen_deg: f64) -> (f64, f64) {
     let a = screen_deg.to_radians();
     (r * a.sin(), r * a.cos())
 }
 
-pub(crate) fn draw_dial(
-    frame: &mut Frame,
-    area: Rect,
-    snap: &Snapshot,
-    ui: &UiState,
-    theme: &Theme,
-) {
-    let legend_full = "● heading  A arena 0  * sun  ┄ e-vector";
-    let legend_short = "●head A 0 *sun ┄e";
-    let inner_w = area.width.saturating_sub(2) as usize;
-    let legend = if legend_full.chars().count() <= inner_w {
-        legend_full
-    } else if legend_short.chars().count() <= inner_w {
-        legend_short
-    } else {
-        ""
-    };
-    let block = Block::bordered()
-        .border_style(theme.border())
-        .title(Span::styled(
-            format!(" dial · {} ", ui.frame.name()),
-            theme.strong(),
-        ))
-        .title_bottom(Span::styled(legend, theme.strong()));
-    let inner = block.inner(area);
-    frame.render_widget(block, area);
-    if inner.width < 6 || inner.height < 3 {
-        return;
-    }
-    let (w, h) = (inner.width as f64, inner.height as f64);
-    let half = 1.45;
-    let (xr, yr) = if w >= 2.0 * h {
-        (half * w / (2.0 * h), half)
-    } else {
-        (half, half * 2.0 * h / w)
-    };
-    // The dial's top is the chosen frame's 0: north, the arena mark, or the sun.
-    let top_deg = match ui.frame {
-        HeadingFrame::World => 0.0,
-        HeadingFrame::Arena => snap.arena_bearing_deg,
-        HeadingFrame::Sun => snap.sun_azimuth_deg,
-    };
-    let screen = |world_deg: f64| wrap_360_deg(world_deg - top_deg);
-    let fg = if theme.is_mono() {
-        Color::Reset
-    } else {
-        theme.fg
-    };
-    let col = |c: Color| if theme.is_mono() { Color::Reset } else { c };
+/// The dial panel: the chosen frame's 0 at the top, marks and labels on the rim.
+pub struct Dial<'a> {
+    /// What to draw.
+    pub snap: &'a Snapshot,
+    /// The screen's own state (frame, span, marks).
+    pub ui: &'a UiState,
+    /// Colours.
+    pub theme: &'a Theme,
+}
 
-    let heading_world = snap.world_heading_deg;
-    let flying = snap.flying && !snap.health.sensor_lost;
-    let ev = snap.zenith_evector_deg;
-    let canvas = Canvas::default()
-        .marker(Marker::Braille)
-        .background_color(theme.bg)
-        .x_bounds([-xr, xr])
-        .y_bounds([-yr, yr])
-        .paint(move |ctx| {
-            ctx.draw(&Circle {
-                x: 0.0,
-                y: 0.0,
-                radius: 1.0,
-                color: fg,
-            });
-            for k in 0..12 {
-                let a = wrap_360_deg(k as f64 * 30.0);
-                let r0 = if k % 3 == 0 { 0.82 } else { 0.91 };
-                let (x0, y0) = polar(r0, a);
-                let (x1, y1) = polar(1.0, a);
-                ctx.draw(&CanvasLine::new(x0, y0, x1, y1, fg));
-            }
-            ctx.layer();
-            // Zenith e-vector axis: dashed, through the centre.
-            let a = screen(ev);
-            let mut r = -0.95;
-            while r < 0.95 {
-                let (x0, y0) = polar(r, a);
-                let (x1, y1) = polar((r + 0.09).min(0.95), a);
-                ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.evector)));
-                r += 0.17;
-            }
-            ctx.layer();
-            if let Some(hw) = heading_world {
-                let a = screen(hw);
-                if flying {
-                    let (x1, y1) = polar(0.8, a);
-                    ctx.draw(&CanvasLine::new(0.0, 0.0, x1, y1, col(theme.heading)));
-                    // A second stroke beside the first makes the needle bolder.
-                    let (dx, dy) = polar(0.03, a + 90.0);
-                    ctx.draw(&CanvasLine::new(
-                        dx,
-                        dy,
-                        x1 + dx,
-                        y1 + dy,
-                        col(theme.heading),
-                    ));
-                } else {
-                    let mut r = 0.0;
-                    while r < 0.8 {
-                        let (x0, y0) = polar(r, a);
-                        let (x1, y1) = polar(r + 0.05, a);
-                        ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.heading)));
-                        r += 0.15;
+impl Widget for Dial<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        let Dial { snap, ui, theme } = self;
+        let legend_full = "● heading  A arena 0  * sun  ┄ e-vector";
+        let legend_short = "●head A 0 *sun ┄e";
+        let inner_w = area.width.saturating_sub(2) as usize;
+        let legend = if legend_full.chars().count() <= inner_w {
+            legend_full
+        } else if legend_short.chars().count() <= inner_w {
+            legend_short
+        } else {
+            ""
+        };
+        let block = Block::bordered()
+            .border_style(theme.border())
+            .title(Span::styled(
+                format!(" dial · {} ", ui.frame.name()),
+                theme.strong(),
+            ))
+            .title_bottom(Span::styled(legend, theme.strong()));
+        let inner = block.inner(area);
+        block.render(area, buf);
+        if inner.width < 6 || inner.height < 3 {
+            return;
+        }
+        let (w, h) = (inner.width as f64, inner.height as f64);
+        let half = 1.45;
+        let (xr, yr) = if w >= 2.0 * h {
+            (half * w / (2.0 * h), half)
+        } else {
+            (half, half * 2.0 * h / w)
+        };
+        // The dial's top is the chosen frame's 0: north, the arena mark, or the sun.
+        let top_deg = match ui.frame {
+            HeadingFrame::World => 0.0,
+            HeadingFrame::Arena => snap.arena_bearing_deg,
+            HeadingFrame::Sun => snap.sun_azimuth_deg,
+        };
+        let screen = |world_deg: f64| wrap_360_deg(world_deg - top_deg);
+        let fg = if theme.is_mono() {
+            Color::Reset
+        } else {
+            theme.fg
+        };
+        let col = |c: Color| if theme.is_mono() { Color::Reset } else { c };
+
+        let heading_world = snap.world_heading_deg;
+        let flying = snap.flying && !snap.health.sensor_lost;
+        let ev = snap.zenith_evector_deg;
+        let canvas = Canvas::default()
+            .marker(Marker::Braille)
+            .background_color(theme.bg)
+            .x_bounds([-xr, xr])
+            .y_bounds([-yr, yr])
+            .paint(move |ctx| {
+                ctx.draw(&Circle {
+                    x: 0.0,
+                    y: 0.0,
+                    radius: 1.0,
+                    color: fg,
+                });
+                for k in 0..12 {
+                    let a = wrap_360_deg(k as f64 * 30.0);
+                    let r0 = if k % 3 == 0 { 0.82 } else { 0.91 };
+                    let (x0, y0) = polar(r0, a);
+                    let (x1, y1) = polar(1.0, a);
+                    ctx.draw(&CanvasLine::new(x0, y0, x1, y1, fg));
+                }
+                ctx.layer();
+                // Zenith e-vector axis: dashed, through the centre.
+                let a = screen(ev);
+                let mut r = -0.95;
+                while r < 0.95 {
+                    let (x0, y0) = polar(r, a);
+                    let (x1, y1) = polar((r + 0.09).min(0.95), a);
+                    ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.evector)));
+                    r += 0.17;
+                }
+                ctx.layer();
+                if let Some(hw) = heading_world {
+                    let a = screen(hw);
+                    if flying {
+                        let (x1, y1) = polar(0.8, a);
+                        ctx.draw(&CanvasLine::new(0.0, 0.0, x1, y1, col(theme.heading)));
+                        // A second stroke beside the first makes the needle bolder.
+                        let (dx, dy) = polar(0.03, a + 90.0);
+                        ctx.draw(&CanvasLine::new(
+                            dx,
+                            dy,
+                            x1 + dx,
+                            y1 + dy,
+                            col(theme.heading),
+                        ));
+                    } else {
+                        let mut r = 0.0;
+                        while r < 0.8 {
+                            let (x0, y0) = polar(r, a);
+                            let (x1, y1) = polar(r + 0.05, a);
+                            ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.heading)));
+                            r += 0.15;
+                        }
                     }
                 }
-            }
-            // Labels (always on top of the dots).
-            // Cardinal labels about one row outside the rim, marks about one row inside it.
-            let row = 2.0 * yr / h;
-            let label_r = (1.0 + 1.2 * row).min(1.3);
-            let mark_r = (1.0 - row).clamp(0.8, 0.92);
-            for (name, b) in [("N", 0.0), ("E", 90.0), ("S", 180.0), ("W", 270.0)] {
-                let (x, y) = polar(label_r, screen(b));
-                ctx.print(x, y, Span::styled(name, theme.strong()));
-            }
-            let (x, y) = polar(mark_r, screen(snap.arena_bearing_deg));
-            ctx.print(x, y, Span::styled("A", theme.flag(theme.mark)));
-            let (x, y) = polar(mark_r, screen(snap.sun_azimuth_deg));
-            ctx.print(x, y, Span::styled("*", theme.flag(theme.sun)));
-            if let Some(hw) = heading_world {
-                let (x, y) = polar(0.8, screen(hw));
-                let tip = if flying { "●" } else { "○" };
-                ctx.print(x, y, Span::styled(tip, theme.accent(theme.heading)));
-            } else {
-                ctx.print(
-                    -0.3,
-                    0.0,
-                    Span::styled("no heading", theme.flag(theme.alarm)),
-                );
-            }
-        });
-    frame.render_widget(canvas, inner);
+                // Labels (always on top of the dots).
+                // Cardinal labels about one row outside the rim, marks about one row inside it.
+                let row = 2.0 * yr / h;
+                let label_r = (1.0 + 1.2 * row).min(1.3);
+                let mark_r = (1.0 - row).clamp(0.8, 0.92);
+                for (name, b) in [("N", 0.0), ("E", 90.0), ("S", 180.0), ("W", 270.0)] {
+                    let (x, y) = polar(label_r, screen(b));
+                    ctx.print(x, y, Span::styled(name, theme.strong()));
+                }
+                let (x, y) = polar(mark_r, screen(snap.arena_bearing_deg));
+                ctx.print(x, y, Span::styled("A", theme.flag(theme.mark)));
+                let (x, y) = polar(mark_r, screen(snap.sun_azimuth_deg));
+                ctx.print(x, y, Span::styled("*", theme.flag(theme.sun)));
+                if let Some(hw) = heading_world {
+                    let (x, y) = polar(0.8, screen(hw));
+                    let tip = if flying { "●" } else { "○" };
+                    ctx.print(x, y, Span::styled(tip, theme.accent(theme.heading)));
+                } else {
+                    ctx.print(
+                        -0.3,
+                        0.0,
+                        Span::styled("no heading", theme.flag(theme.alarm)),
+                    );
+                }
+            });
+        canvas.render(inner, buf);
+    }
 }

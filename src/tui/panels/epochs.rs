@@ -5,11 +5,11 @@ use crate::tui::format::{self, deg, duration, fit, p_value, r_value};
 use crate::tui::panels::verdict;
 use crate::tui::state::{HeadingFrame, UiState};
 use crate::tui::theme::Theme;
-use ratatui::Frame;
+use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Rect};
 use ratatui::style::Modifier;
 use ratatui::text::{Line, Span};
-use ratatui::widgets::{Block, Cell, Row, Table};
+use ratatui::widgets::{Block, Borders, Cell, Row, Table, Widget};
 
 /// The slice of epochs that fits in `rows`, kept around the current one.
 fn epoch_window(snap: &Snapshot, rows: usize) -> (usize, usize) {
@@ -31,8 +31,7 @@ fn epoch_window(snap: &Snapshot, rows: usize) -> (usize, usize) {
     (start, start + rows)
 }
 
-pub(crate) fn table_title<'a>(snap: &Snapshot, rows: usize, ui: &UiState) -> Line<'a> {
-    let theme = Theme::new(ui.theme);
+fn table_title<'a>(snap: &Snapshot, rows: usize, theme: &Theme) -> Line<'a> {
     let n = snap.epochs.len();
     let (a, b) = epoch_window(snap, rows);
     let range = if b - a < n && b > a {
@@ -247,41 +246,63 @@ fn epoch_columns<'s>(snap: &'s Snapshot, ui: &UiState, width: u16) -> Vec<Col<'s
     cols
 }
 
-pub(crate) fn draw_epoch_table(
-    frame: &mut Frame,
-    area: Rect,
-    block: Block,
-    snap: &Snapshot,
-    ui: &UiState,
-    theme: &Theme,
-) {
-    let inner = block.inner(area);
-    frame.render_widget(block, area);
-    if inner.height < 2 || inner.width < 20 {
-        return;
+/// The epoch table panel; its title names the epochs in view and the session's r.
+pub struct EpochTable<'a> {
+    /// What to draw.
+    pub snap: &'a Snapshot,
+    /// The screen's own state (the frame picks the mean column on narrow screens).
+    pub ui: &'a UiState,
+    /// Colours.
+    pub theme: &'a Theme,
+    /// A full box (wide layout) instead of a rule above the table (compact layout).
+    pub boxed: bool,
+}
+
+impl Widget for EpochTable<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        let EpochTable {
+            snap,
+            ui,
+            theme,
+            boxed,
+        } = self;
+        let block = if boxed {
+            Block::bordered()
+        } else {
+            Block::default().borders(Borders::TOP)
+        }
+        .border_style(theme.border());
+        // Rows of epochs in view: the block's inner height less the column header.
+        let rows = block.inner(area).height.saturating_sub(1) as usize;
+        let block = block.title(table_title(snap, rows, theme));
+        let inner = block.inner(area);
+        block.render(area, buf);
+        if inner.height < 2 || inner.width < 20 {
+            return;
+        }
+        let rows_avail = inner.height.saturating_sub(1) as usize;
+        let (a, b) = epoch_window(snap, rows_avail);
+        let cols = epoch_columns(snap, ui, inner.width);
+        let header = Row::new(cols.iter().map(|c| c.header)).style(theme.label());
+        let rows: Vec<Row> = snap.epochs[a..b]
+            .iter()
+            .map(|e| {
+                let style = match e.state {
+                    EpochState::Current => theme.strong().add_modifier(Modifier::REVERSED),
+                    EpochState::Skipped => theme.base().add_modifier(Modifier::CROSSED_OUT),
+                    EpochState::Done => theme.strong(),
+                    EpochState::Pending => theme.base(),
+                };
+                Row::new(cols.iter().map(|c| Cell::from((c.cell)(e)))).style(style)
+            })
+            .collect();
+        let widths: Vec<Constraint> = cols.iter().map(|c| Constraint::Length(c.width)).collect();
+        let table = Table::new(rows, widths)
+            .header(header)
+            .column_spacing(1)
+            .style(theme.base());
+        table.render(inner, buf);
     }
-    let rows_avail = inner.height.saturating_sub(1) as usize;
-    let (a, b) = epoch_window(snap, rows_avail);
-    let cols = epoch_columns(snap, ui, inner.width);
-    let header = Row::new(cols.iter().map(|c| c.header)).style(theme.label());
-    let rows: Vec<Row> = snap.epochs[a..b]
-        .iter()
-        .map(|e| {
-            let style = match e.state {
-                EpochState::Current => theme.strong().add_modifier(Modifier::REVERSED),
-                EpochState::Skipped => theme.base().add_modifier(Modifier::CROSSED_OUT),
-                EpochState::Done => theme.strong(),
-                EpochState::Pending => theme.base(),
-            };
-            Row::new(cols.iter().map(|c| Cell::from((c.cell)(e)))).style(style)
-        })
-        .collect();
-    let widths: Vec<Constraint> = cols.iter().map(|c| Constraint::Length(c.width)).collect();
-    let table = Table::new(rows, widths)
-        .header(header)
-        .column_spacing(1)
-        .style(theme.base());
-    frame.render_widget(table, inner);
 }
 
 #[cfg(test)]

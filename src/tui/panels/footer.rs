@@ -1,13 +1,28 @@
 //! The key footer: hints with priorities, the least needed dropped first on narrow screens.
 
 use crate::engine::snapshot::Snapshot;
-use crate::tui::lines::{Item, flow_with, item_width};
+use crate::tui::lines::{Item, TextLines, flow_with, item_width};
 use crate::tui::state::UiState;
 use crate::tui::theme::Theme;
 use ratatui::text::{Line, Span};
 
+/// The key footer for a screen `width` cells wide; the wide layout adds the view keys.
+pub fn footer<'a>(
+    snap: &Snapshot,
+    ui: &UiState,
+    theme: &Theme,
+    wide: bool,
+    width: u16,
+) -> TextLines<'a> {
+    let sep = if wide { "  " } else { " " };
+    TextLines::new(
+        footer_line(footer_items(snap, ui, theme, wide), width, sep, theme),
+        theme,
+    )
+}
+
 /// Key hints with a priority each (higher stays longer when the screen is narrow).
-pub(crate) fn footer_items<'a>(
+fn footer_items<'a>(
     snap: &Snapshot,
     ui: &UiState,
     theme: &Theme,
@@ -63,7 +78,7 @@ pub(crate) fn footer_items<'a>(
 }
 
 /// One line of prioritised items: the lowest-priority items go first until the rest fits.
-pub(crate) fn footer_line<'a>(
+fn footer_line<'a>(
     mut items: Vec<(u8, Item<'a>)>,
     width: u16,
     sep: &'static str,

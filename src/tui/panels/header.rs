@@ -1,15 +1,82 @@
-//! The session line and the glance line (flight state, heading, archive trouble, next turn).
+//! The status lines: the session line, the glance line (flight state, heading, archive
+//! trouble, next turn) and the tiny screen for windows too small for any layout.
 
 use crate::engine::snapshot::{EpochRow, EpochState, Snapshot, TurnRow};
 use crate::tui::format::{self, countdown, deg, deg1, duration, fit, r_value};
-use crate::tui::lines::Item;
+use crate::tui::lines::{Item, TextLines, flow};
+use crate::tui::panels::devices::sync_spans;
 use crate::tui::panels::{SYNC_LATE_S, heading_in, sync_age_s, verdict};
 use crate::tui::state::UiState;
 use crate::tui::theme::Theme;
+use ratatui::buffer::Buffer;
+use ratatui::layout::Rect;
 use ratatui::style::Modifier;
-use ratatui::text::Span;
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Paragraph, Widget};
 
-pub(crate) fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -> Vec<Item<'a>> {
+/// The session line (at most two rows): animal, site, clocks, sun, time left, next turn, epoch
+/// and protocol; the wide layout adds the UTC offset and the session id.
+pub fn session_line<'a>(
+    snap: &'a Snapshot,
+    theme: &Theme,
+    wide: bool,
+    width: u16,
+) -> TextLines<'a> {
+    TextLines::new(
+        flow(session_items(snap, theme, wide), width, 2, theme),
+        theme,
+    )
+}
+
+/// The glance line (at most `max_lines` rows): flight state, heading, archive trouble,
+/// operator feedback, next turn, hold and last turn, what does not fit dropped from the end.
+pub fn glance_line<'a>(
+    snap: &Snapshot,
+    ui: &UiState,
+    theme: &Theme,
+    width: u16,
+    max_lines: usize,
+) -> TextLines<'a> {
+    TextLines::new(
+        flow(glance_items(snap, ui, theme), width, max_lines, theme),
+        theme,
+    )
+}
+
+/// The whole screen when the window is too small for the compact layout: the few lines that
+/// matter most, and a request for a bigger window.
+pub struct TinyStatus<'a> {
+    /// What to draw.
+    pub snap: &'a Snapshot,
+    /// The screen's own state (frame).
+    pub ui: &'a UiState,
+    /// Colours.
+    pub theme: &'a Theme,
+}
+
+impl Widget for TinyStatus<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        let TinyStatus { snap, ui, theme } = self;
+        let mut lines = Vec::new();
+        lines.push(Line::from(state_spans(snap, theme)));
+        lines.push(Line::from(vec![
+            Span::styled(format!("{} ", ui.frame.name()), theme.strong()),
+            Span::styled(deg(heading_in(snap, ui.frame)), theme.accent(theme.heading)),
+        ]));
+        if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
+            lines.push(Line::from(Span::styled(
+                format!("turn {} in {}", format::signed_deg(d), countdown(t)),
+                theme.strong(),
+            )));
+        }
+        lines.push(Line::from(sync_spans(snap, theme, true)));
+        lines.push(Line::from(Span::styled("enlarge: 80x24+", theme.strong())));
+        lines.push(Line::from(Span::styled("? help  q end", theme.strong())));
+        Paragraph::new(lines).style(theme.base()).render(area, buf);
+    }
+}
+
+fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -> Vec<Item<'a>> {
     let local = snap.now_utc.with_timezone(&snap.local_offset);
     let mut items: Vec<Item> = vec![
         vec![
@@ -88,7 +155,7 @@ pub(crate) fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -
 }
 
 /// The main state flag and its modifiers: words, so it reads without colour.
-pub(crate) fn state_spans<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Span<'a>> {
+fn state_spans<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Span<'a>> {
     let mut spans = Vec::new();
     let (word, style) = if snap.ended {
         (" ENDED ", theme.flag(theme.fg))
@@ -130,7 +197,7 @@ fn last_scored_turn(snap: &Snapshot) -> Option<(&TurnRow, f64)> {
 
 /// The glance line, most important first (what does not fit is dropped from the end):
 /// flight state, heading, archive trouble, operator feedback, next turn, hold, last turn.
-pub(crate) fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a>> {
+fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a>> {
     let mut items: Vec<Item> = Vec::new();
     items.push(state_spans(snap, theme));
     items.push(vec![

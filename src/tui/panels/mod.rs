@@ -3,6 +3,7 @@
 pub mod devices;
 pub mod dial;
 pub mod epochs;
+pub mod events;
 pub mod footer;
 pub mod header;
 pub mod help;
@@ -20,6 +21,7 @@ pub const SYNC_LATE_S: f64 = 3.0;
 /// itself, for turns of at least this size (a display rule of our own, not a statistical test).
 pub const VERDICT_MIN_TURN_DEG: f64 = 30.0;
 
+/// The heading in `frame` (None while no heading is known).
 pub(crate) fn heading_in(snap: &Snapshot, frame: HeadingFrame) -> Option<f64> {
     match frame {
         HeadingFrame::Arena => snap.arena_heading_deg,
@@ -36,6 +38,7 @@ pub(crate) fn verdict(turn_deg: f64, shift_deg: f64) -> Option<bool> {
     Some(shift_deg.abs() <= signed_difference_deg(turn_deg, shift_deg).abs())
 }
 
+/// Seconds since the archive's last successful sync (None: never synced).
 pub(crate) fn sync_age_s(snap: &Snapshot) -> Option<f64> {
     snap.health
         .last_sync_utc

@@ -2,17 +2,17 @@
 
 use crate::engine::snapshot::Snapshot;
 use crate::tui::format::{countdown, duration};
-use crate::tui::panels::help::draw_help;
+use crate::tui::panels::help::Help;
 use crate::tui::state::{Mode, UiState};
 use crate::tui::theme::Theme;
-use ratatui::Frame;
+use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::text::{Line, Span};
-use ratatui::widgets::{Block, BorderType, Clear, Paragraph, Wrap};
+use ratatui::widgets::{Block, BorderType, Clear, Paragraph, Widget, Wrap};
 
 /// A centered box of at most `w`×`h`, clipped to `area`, cleared and bordered.
 pub(crate) fn dialog(
-    frame: &mut Frame,
+    buf: &mut Buffer,
     area: Rect,
     w: u16,
     h: u16,
@@ -28,8 +28,8 @@ pub(crate) fn dialog(
         width: w,
         height: h,
     };
-    frame.render_widget(Clear, r);
-    frame.buffer_mut().set_style(r, theme.base());
+    Clear.render(r, buf);
+    buf.set_style(r, theme.base());
     let block = Block::bordered()
         .border_type(if thick {
             BorderType::Thick
@@ -39,165 +39,169 @@ pub(crate) fn dialog(
         .border_style(theme.border())
         .title(title);
     let inner = block.inner(r);
-    frame.render_widget(block, r);
+    block.render(r, buf);
     inner
 }
 
-pub(crate) fn draw_overlays(
-    frame: &mut Frame,
-    area: Rect,
-    snap: &Snapshot,
-    ui: &UiState,
-    theme: &Theme,
-) {
-    if snap.ended {
-        draw_ended(frame, area, snap, theme);
-        return;
-    }
-    if ui.mode == Mode::Help {
-        draw_help(frame, area, snap, ui, theme);
-    }
-    if let Some(p) = &snap.prompt {
-        let w = area.width.saturating_sub(4).min(64);
-        let text_w = w.saturating_sub(4).max(1) as usize;
-        let text_lines = p.text.chars().count().div_ceil(text_w).max(1) as u16;
-        let h = text_lines + 6;
-        let inner = dialog(
-            frame,
-            area,
-            w,
-            h,
-            Span::styled(" ACTION NEEDED ", theme.flag(theme.turn)),
-            theme,
-            true,
-        );
-        let due = if p.countdown_s >= 0.0 {
-            vec![
-                Span::styled("next epoch due in ", theme.base()),
-                Span::styled(countdown(p.countdown_s), theme.strong()),
-            ]
-        } else {
-            vec![Span::styled(
-                format!(" LATE by {} ", duration(-p.countdown_s)),
-                theme.flag(theme.alarm),
-            )]
-        };
-        let mut lines = vec![Line::from(Span::styled(p.text.clone(), theme.strong()))];
-        lines.push(Line::from(""));
-        let mut l = due;
-        l.push(Span::styled(
-            format!("   waiting {}", duration(p.waiting_s)),
-            theme.base(),
-        ));
-        lines.push(Line::from(l));
-        lines.push(Line::from(vec![
-            Span::styled(" Enter ", theme.flag(theme.fg)),
-            Span::styled(" when done", theme.strong()),
-        ]));
-        frame.render_widget(
+/// Whatever overlays the moment needs, drawn over the panels: the end box, help, the turn
+/// prompt, a confirmation or the note line.
+pub struct Overlays<'a> {
+    /// What to draw.
+    pub snap: &'a Snapshot,
+    /// The screen's own state (keyboard mode).
+    pub ui: &'a UiState,
+    /// Colours.
+    pub theme: &'a Theme,
+}
+
+impl Widget for Overlays<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        let Overlays { snap, ui, theme } = self;
+        if snap.ended {
+            draw_ended(buf, area, snap, theme);
+            return;
+        }
+        if ui.mode == Mode::Help {
+            Help { snap, ui, theme }.render(area, buf);
+        }
+        if let Some(p) = &snap.prompt {
+            let w = area.width.saturating_sub(4).min(64);
+            let text_w = w.saturating_sub(4).max(1) as usize;
+            let text_lines = p.text.chars().count().div_ceil(text_w).max(1) as u16;
+            let h = text_lines + 6;
+            let inner = dialog(
+                buf,
+                area,
+                w,
+                h,
+                Span::styled(" ACTION NEEDED ", theme.flag(theme.turn)),
+                theme,
+                true,
+            );
+            let due = if p.countdown_s >= 0.0 {
+                vec![
+                    Span::styled("next epoch due in ", theme.base()),
+                    Span::styled(countdown(p.countdown_s), theme.strong()),
+                ]
+            } else {
+                vec![Span::styled(
+                    format!(" LATE by {} ", duration(-p.countdown_s)),
+                    theme.flag(theme.alarm),
+                )]
+            };
+            let mut lines = vec![Line::from(Span::styled(p.text.clone(), theme.strong()))];
+            lines.push(Line::from(""));
+            let mut l = due;
+            l.push(Span::styled(
+                format!("   waiting {}", duration(p.waiting_s)),
+                theme.base(),
+            ));
+            lines.push(Line::from(l));
+            lines.push(Line::from(vec![
+                Span::styled(" Enter ", theme.flag(theme.fg)),
+                Span::styled(" when done", theme.strong()),
+            ]));
             Paragraph::new(lines)
                 .style(theme.base())
                 .wrap(Wrap { trim: true })
-                .block(Block::default().padding(ratatui::widgets::Padding::horizontal(1))),
-            inner,
-        );
-    }
-    match &ui.mode {
-        Mode::ConfirmEnd => {
-            let inner = dialog(
-                frame,
-                area,
-                46,
-                6,
-                Span::styled(" END SESSION? ", theme.flag(theme.alarm)),
-                theme,
-                true,
-            );
-            let lines = vec![
-                Line::from(Span::styled(
-                    "End the session now and save it?",
-                    theme.strong(),
-                )),
-                Line::from(""),
-                Line::from(vec![
-                    Span::styled(" y ", theme.flag(theme.alarm)),
-                    Span::styled(" yes, end   ", theme.strong()),
-                    Span::styled("any other key: go on", theme.strong()),
-                ]),
-            ];
-            frame.render_widget(Paragraph::new(lines).style(theme.base()), inner);
+                .block(Block::default().padding(ratatui::widgets::Padding::horizontal(1)))
+                .render(inner, buf);
         }
-        Mode::ConfirmSkip => {
-            let inner = dialog(
-                frame,
-                area,
-                50,
-                6,
-                Span::styled(" SKIP EPOCH? ", theme.flag(theme.caution)),
-                theme,
-                true,
-            );
-            let lines = vec![
-                Line::from(Span::styled(
-                    format!(
-                        "Skip the rest of epoch {} ({})?",
-                        snap.epoch, snap.condition
-                    ),
-                    theme.strong(),
-                )),
-                Line::from(""),
-                Line::from(vec![
-                    Span::styled(" y ", theme.flag(theme.caution)),
-                    Span::styled(" yes, skip   ", theme.strong()),
-                    Span::styled("any other key: no", theme.strong()),
-                ]),
-            ];
-            frame.render_widget(
+        match &ui.mode {
+            Mode::ConfirmEnd => {
+                let inner = dialog(
+                    buf,
+                    area,
+                    46,
+                    6,
+                    Span::styled(" END SESSION? ", theme.flag(theme.alarm)),
+                    theme,
+                    true,
+                );
+                let lines = vec![
+                    Line::from(Span::styled(
+                        "End the session now and save it?",
+                        theme.strong(),
+                    )),
+                    Line::from(""),
+                    Line::from(vec![
+                        Span::styled(" y ", theme.flag(theme.alarm)),
+                        Span::styled(" yes, end   ", theme.strong()),
+                        Span::styled("any other key: go on", theme.strong()),
+                    ]),
+                ];
+                Paragraph::new(lines).style(theme.base()).render(inner, buf);
+            }
+            Mode::ConfirmSkip => {
+                let inner = dialog(
+                    buf,
+                    area,
+                    50,
+                    6,
+                    Span::styled(" SKIP EPOCH? ", theme.flag(theme.caution)),
+                    theme,
+                    true,
+                );
+                let lines = vec![
+                    Line::from(Span::styled(
+                        format!(
+                            "Skip the rest of epoch {} ({})?",
+                            snap.epoch, snap.condition
+                        ),
+                        theme.strong(),
+                    )),
+                    Line::from(""),
+                    Line::from(vec![
+                        Span::styled(" y ", theme.flag(theme.caution)),
+                        Span::styled(" yes, skip   ", theme.strong()),
+                        Span::styled("any other key: no", theme.strong()),
+                    ]),
+                ];
                 Paragraph::new(lines)
                     .style(theme.base())
-                    .wrap(Wrap { trim: true }),
-                inner,
-            );
+                    .wrap(Wrap { trim: true })
+                    .render(inner, buf);
+            }
+            Mode::Note(text) => {
+                let w = area.width.saturating_sub(4).min(72);
+                let inner = dialog(
+                    buf,
+                    area,
+                    w,
+                    5,
+                    Span::styled(" NOTE ", theme.flag(theme.heading)),
+                    theme,
+                    true,
+                );
+                let room = inner.width.saturating_sub(3) as usize;
+                let chars: Vec<char> = text.chars().collect();
+                let shown: String = chars[chars.len().saturating_sub(room)..].iter().collect();
+                let lines = vec![
+                    Line::from(vec![
+                        Span::styled("> ", theme.strong()),
+                        Span::styled(shown, theme.strong()),
+                        Span::styled("█", theme.strong()),
+                    ]),
+                    Line::from(""),
+                    Line::from(Span::styled(
+                        "Enter: save note   Esc: cancel",
+                        theme.strong(),
+                    )),
+                ];
+                Paragraph::new(lines).style(theme.base()).render(inner, buf);
+            }
+            _ => {}
         }
-        Mode::Note(text) => {
-            let w = area.width.saturating_sub(4).min(72);
-            let inner = dialog(
-                frame,
-                area,
-                w,
-                5,
-                Span::styled(" NOTE ", theme.flag(theme.heading)),
-                theme,
-                true,
-            );
-            let room = inner.width.saturating_sub(3) as usize;
-            let chars: Vec<char> = text.chars().collect();
-            let shown: String = chars[chars.len().saturating_sub(room)..].iter().collect();
-            let lines = vec![
-                Line::from(vec![
-                    Span::styled("> ", theme.strong()),
-                    Span::styled(shown, theme.strong()),
-                    Span::styled("█", theme.strong()),
-                ]),
-                Line::from(""),
-                Line::from(Span::styled(
-                    "Enter: save note   Esc: cancel",
-                    theme.strong(),
-                )),
-            ];
-            frame.render_widget(Paragraph::new(lines).style(theme.base()), inner);
-        }
-        _ => {}
     }
 }
 
-fn draw_ended(frame: &mut Frame, area: Rect, snap: &Snapshot, theme: &Theme) {
+fn draw_ended(buf: &mut Buffer, area: Rect, snap: &Snapshot, theme: &Theme) {
     let dir = snap.session_dir.display().to_string();
     let w = (dir.chars().count() as u16 + 8)
         .max(40)
         .min(area.width.saturating_sub(2).max(1));
     let inner = dialog(
-        frame,
+        buf,
         area,
         w,
         7,
@@ -218,10 +222,8 @@ fn draw_ended(frame: &mut Frame, area: Rect, snap: &Snapshot, theme: &Theme) {
         Line::from(Span::styled(dir, theme.accent(theme.heading))),
         Line::from(Span::styled("any key closes", theme.base())),
     ];
-    frame.render_widget(
-        Paragraph::new(lines)
-            .style(theme.base())
-            .wrap(Wrap { trim: false }),
-        inner,
-    );
+    Paragraph::new(lines)
+        .style(theme.base())
+        .wrap(Wrap { trim: false })
+        .render(inner, buf);
 }
