@@ -1,9 +1,9 @@
 //! `skybearing batch` as a user runs it, on synthetic session folders.
 
-mod batch_support;
+mod support;
 
-use batch_support::{Mode, col, read_csv, write_session};
 use std::process::Command;
+use support::sessions::{Mode, col, read_csv, write_session};
 
 fn batch(args: &[&str]) -> std::process::Output {
     Command::new(env!("CARGO_BIN_EXE_skybearing"))

@@ -6,12 +6,12 @@
 //! (n_eff 1e-6: a ratio of sums that cancel); p-values 1e-9 absolute or 1e-6 relative. The
 //! two sides sum in different orders, so agreement to rounding is expected, not bit equality.
 
-mod batch_support;
+mod support;
 
-use batch_support::read_csv;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
+use support::sessions::read_csv;
 
 #[derive(Clone, Copy)]
 enum Kind {

@@ -1,11 +1,11 @@
 //! `skybearing report` as a user runs it: tables, summary and figures that are valid SVG/PNG
 //! with the expected content (checked loosely: element counts and labels, not bytes).
 
-mod batch_support;
+mod support;
 
-use batch_support::{Mode, col, read_csv, write_session};
 use std::path::Path;
 use std::process::Command;
+use support::sessions::{Mode, col, read_csv, write_session};
 
 /// A small XML well-formedness check: every tag closes in order, and the root is <svg>.
 /// Returns the element names in document order and the (trimmed) text between tags.

@@ -6,9 +6,9 @@
 use std::path::PathBuf;
 use std::process::{Command, Stdio};
 
-mod sim_support;
-use sim_support::{BIN, start_sim};
+mod support;
 use std::time::Duration;
+use support::sim::{BIN, start_sim};
 
 const FAKETIME_LIB: &str = "/usr/lib/x86_64-linux-gnu/faketime/libfaketime.so.1";
 

@@ -5,8 +5,8 @@
 use std::path::PathBuf;
 use std::process::{Command, Stdio};
 
-mod sim_support;
-use sim_support::{BIN, start_sim};
+mod support;
+use support::sim::{BIN, start_sim};
 
 #[test]
 fn run_completes_against_the_pty_simulator_with_faults() {
