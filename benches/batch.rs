@@ -4,7 +4,7 @@
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 use skybearing::analysis::batch::{Filters, run_batch, write_tables};
 
-#[path = "../tests/batch_support/mod.rs"]
+#[path = "../tests/support/sessions.rs"]
 mod batch_support;
 
 fn batch(c: &mut Criterion) {

@@ -1,6 +1,9 @@
 //! The session archive end to end through the library: write with `SessionWriter` and a live
 //! `SummaryBuilder`, read back, check, tear, repair, and a writer killed with SIGKILL.
 
+mod support;
+use support::sessions::{make_lock_stale, session_meta};
+
 use std::path::{Path, PathBuf};
 
 use chrono::{DateTime, Utc};
@@ -8,7 +11,7 @@ use skybearing::archive::check::{check_session, compare_summaries, repair_sessio
 use skybearing::archive::read::{for_each_sample, read_events};
 use skybearing::archive::{
     EventRow, LOCK_FILE, PlannedEpoch, SAMPLES_FILE, SampleRow, SessionMeta, SessionStatus,
-    SessionWriter, SiteMeta, Summary, SummaryBuilder,
+    SessionWriter, Summary, SummaryBuilder,
 };
 
 fn epochs() -> Vec<PlannedEpoch> {
@@ -28,31 +31,14 @@ fn epochs() -> Vec<PlannedEpoch> {
 
 fn meta(id: &str) -> SessionMeta {
     SessionMeta {
-        format_version: skybearing::archive::FORMAT_VERSION,
-        id: id.into(),
-        status: SessionStatus::Running,
-        started_utc: "2026-06-14T09:30:00Z".parse().unwrap(),
-        ended_utc: None,
-        animal: "lm-07".into(),
-        site: SiteMeta {
-            name: "Larkfield Meadow (demo)".into(),
-            latitude_deg: 52.1,
-            longitude_deg: 0.4,
-            elevation_m: 30.0,
-        },
-        time_zone: "UTC".into(),
         arena_mark_bearing_deg: 12.5,
         arena_mark_bearing_measured_deg: 11.0,
         arena_mark_reference: "magnetic".into(),
         declination_deg: Some(1.5),
         protocol: serde_json::json!({"name": "archive test"}),
-        epochs: epochs(),
         rig: serde_json::json!({"sensor": "simulated"}),
-        program_version: skybearing::VERSION.into(),
-        mode: "demo".into(),
         seed: Some(3),
-        end_reason: None,
-        notes: 0,
+        ..session_meta(id, epochs())
     }
 }
 
@@ -118,14 +104,6 @@ fn finish(w: SessionWriter, b: &SummaryBuilder, id: &str) -> PathBuf {
     w.append_event(&event(30.0, "session_end", "complete"))
         .unwrap();
     w.finish(&m, &b.summary()).unwrap()
-}
-
-/// Overwrites the lock with the pid of a process that has exited (as a killed writer leaves it).
-fn make_lock_stale(dir: &Path) {
-    let mut child = std::process::Command::new("true").spawn().unwrap();
-    let pid = child.id();
-    child.wait().unwrap();
-    std::fs::write(dir.join(LOCK_FILE), format!("{pid}\n")).unwrap();
 }
 
 fn count_rows(dir: &Path) -> u64 {

@@ -1,16 +1,11 @@
 //! `skybearing batch` as a user runs it, on synthetic session folders.
 
-mod batch_support;
-
-use batch_support::{Mode, col, read_csv, write_session};
-use std::process::Command;
+mod support;
+use support::bin;
+use support::sessions::{Mode, col, read_csv, write_session};
 
 fn batch(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
-        .arg("batch")
-        .args(args)
-        .output()
-        .unwrap()
+    bin().arg("batch").args(args).output().unwrap()
 }
 
 #[test]

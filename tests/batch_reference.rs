@@ -6,12 +6,12 @@
 //! (n_eff 1e-6: a ratio of sums that cancel); p-values 1e-9 absolute or 1e-6 relative. The
 //! two sides sum in different orders, so agreement to rounding is expected, not bit equality.
 
-mod batch_support;
+mod support;
+use support::bin;
+use support::sessions::read_csv;
 
-use batch_support::read_csv;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 #[derive(Clone, Copy)]
 enum Kind {
@@ -92,7 +92,7 @@ fn batch_equals_the_python_reference() {
     let fixtures = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/batch_reference");
     let tmp = tempfile::tempdir().unwrap();
     let out = tmp.path().join("out");
-    let o = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let o = bin()
         .arg("batch")
         .arg(data_dir())
         .arg("--out")
@@ -221,7 +221,7 @@ fn batch_equals_the_python_reference() {
 fn batch_epochs_equal_each_sessions_summary_json() {
     let tmp = tempfile::tempdir().unwrap();
     let out = tmp.path().join("out");
-    let o = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let o = bin()
         .arg("batch")
         .arg(data_dir())
         .arg("--out")

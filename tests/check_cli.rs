@@ -1,58 +1,38 @@
 //! `skybearing check` as a user runs it: exit codes, text and JSON output, --repair.
 
+mod support;
+use support::run;
+use support::sessions::{make_lock_stale, session_meta};
+
 use std::path::{Path, PathBuf};
-use std::process::Command;
 
 use chrono::{DateTime, Utc};
 use skybearing::archive::{
-    LOCK_FILE, PlannedEpoch, SampleRow, SessionMeta, SessionStatus, SessionWriter, SiteMeta,
-    SummaryBuilder,
+    PlannedEpoch, SampleRow, SessionMeta, SessionStatus, SessionWriter, SummaryBuilder,
 };
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
-}
 
 fn meta(id: &str) -> SessionMeta {
     SessionMeta {
-        format_version: skybearing::archive::FORMAT_VERSION,
-        id: id.into(),
-        status: SessionStatus::Running,
-        started_utc: "2026-06-14T09:30:00Z".parse().unwrap(),
-        ended_utc: None,
-        animal: "lm-07".into(),
-        site: SiteMeta {
-            name: "Larkfield Meadow (demo)".into(),
-            latitude_deg: 52.1,
-            longitude_deg: 0.4,
-            elevation_m: 30.0,
-        },
-        time_zone: "UTC".into(),
         arena_mark_bearing_deg: 40.0,
         arena_mark_bearing_measured_deg: 40.0,
-        arena_mark_reference: "true".into(),
-        declination_deg: None,
         protocol: serde_json::json!({"name": "check test"}),
-        epochs: vec![
-            PlannedEpoch {
-                index: 1,
-                condition: "open sky".into(),
-                turn_before_deg: 0.0,
-                duration_s: 5.0,
-            },
-            PlannedEpoch {
-                index: 2,
-                condition: "open sky".into(),
-                turn_before_deg: -90.0,
-                duration_s: 5.0,
-            },
-        ],
-        rig: serde_json::json!({}),
-        program_version: skybearing::VERSION.into(),
-        mode: "demo".into(),
-        seed: None,
-        end_reason: None,
-        notes: 0,
+        ..session_meta(
+            id,
+            vec![
+                PlannedEpoch {
+                    index: 1,
+                    condition: "open sky".into(),
+                    turn_before_deg: 0.0,
+                    duration_s: 5.0,
+                },
+                PlannedEpoch {
+                    index: 2,
+                    condition: "open sky".into(),
+                    turn_before_deg: -90.0,
+                    duration_s: 5.0,
+                },
+            ],
+        )
     }
 }
 
@@ -97,21 +77,9 @@ fn session(sessions: &Path, id: &str, n: u64, close: bool) -> PathBuf {
         w.sync_now().unwrap();
         let dir = w.dir().to_path_buf();
         std::mem::forget(w);
-        let mut child = Command::new("true").spawn().unwrap();
-        let pid = child.id();
-        child.wait().unwrap();
-        std::fs::write(dir.join(LOCK_FILE), format!("{pid}\n")).unwrap();
+        make_lock_stale(&dir);
         dir
     }
-}
-
-fn run(args: &[&str]) -> (i32, String, String) {
-    let out = bin().args(args).output().unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
 }
 
 #[test]

@@ -3,44 +3,11 @@
 //! `samples.csv`; sun columns against pvlib; determinism; a flight stop through stdin.
 
 use std::collections::BTreeMap;
-use std::path::{Path, PathBuf};
-use std::process::Command;
+use std::path::Path;
 
-const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
-const START: &str = "2026-06-14T07:30:00Z";
-
-fn demo(dir: &Path, extra: &[&str]) -> PathBuf {
-    let out = Command::new(BIN)
-        .args([
-            "demo",
-            "--headless",
-            "--speed",
-            "max",
-            "--seed",
-            "11",
-            "--start",
-            START,
-        ])
-        .arg("--sessions")
-        .arg(dir)
-        .args(extra)
-        .output()
-        .expect("run demo");
-    assert!(
-        out.status.success(),
-        "demo failed: {}\n{}",
-        String::from_utf8_lossy(&out.stderr),
-        String::from_utf8_lossy(&out.stdout)
-    );
-    let stdout = String::from_utf8(out.stdout).expect("utf8");
-    let last = stdout.lines().last().expect("a last line");
-    let p = PathBuf::from(last.trim());
-    assert!(
-        p.join("session.json").is_file(),
-        "last line is not a session folder: {last}"
-    );
-    p
-}
+mod support;
+use support::demo::{START, demo_command, headless_demo};
+use support::{bin, read_json, session_folder};
 
 struct Table {
     header: Vec<String>,
@@ -92,14 +59,10 @@ fn signed(d: f64) -> f64 {
     if w > 180.0 { w - 360.0 } else { w }
 }
 
-fn json(path: &Path) -> serde_json::Value {
-    serde_json::from_str(&std::fs::read_to_string(path).expect("read json")).expect("json")
-}
-
 #[test]
 fn demo_session_recomputed_independently() {
     let tmp = tempfile::tempdir().expect("tmp");
-    let dir = demo(tmp.path(), &[]);
+    let dir = headless_demo(tmp.path(), &[]);
     let t = Table::read(&dir.join("samples.csv"));
     for c in [
         "t_utc",
@@ -160,7 +123,7 @@ fn demo_session_recomputed_independently() {
             all_arena.push(a);
         }
     }
-    let summary = json(&dir.join("summary.json"));
+    let summary = read_json(&dir.join("summary.json"));
     let epochs = summary["epochs"].as_array().expect("epochs");
     assert_eq!(epochs.len(), 10, "the demo protocol has 10 epochs");
     let mut means = BTreeMap::new();
@@ -211,7 +174,7 @@ fn demo_session_recomputed_independently() {
         "a sky animal holds the world frame: r_world {rw} r_arena {ra}"
     );
 
-    let meta = json(&dir.join("session.json"));
+    let meta = read_json(&dir.join("session.json"));
     assert_eq!(meta["status"], "complete");
     assert_eq!(
         meta["started_utc"]
@@ -240,8 +203,8 @@ fn demo_session_recomputed_independently() {
 #[test]
 fn arena_animal_does_not_compensate() {
     let tmp = tempfile::tempdir().expect("tmp");
-    let dir = demo(tmp.path(), &["--animal-mode", "arena"]);
-    let summary = json(&dir.join("summary.json"));
+    let dir = headless_demo(tmp.path(), &["--animal-mode", "arena"]);
+    let summary = read_json(&dir.join("summary.json"));
     let mut follows = 0;
     let turns = summary["turns"].as_array().expect("turns");
     for tr in turns {
@@ -270,7 +233,7 @@ fn sun_columns_match_pvlib() {
         reference.insert(v[0] as i64, (v[1], v[2]));
     }
     let tmp = tempfile::tempdir().expect("tmp");
-    let dir = demo(
+    let dir = headless_demo(
         tmp.path(),
         &["--protocol", "protocols/smoke.toml", "--rate-hz", "50"],
     );
@@ -304,8 +267,8 @@ fn same_seed_and_start_give_identical_archives() {
     let a = tempfile::tempdir().expect("tmp");
     let b = tempfile::tempdir().expect("tmp");
     let args = ["--protocol", "protocols/smoke.toml", "--garbage", "0.05"];
-    let da = demo(a.path(), &args);
-    let db = demo(b.path(), &args);
+    let da = headless_demo(a.path(), &args);
+    let db = headless_demo(b.path(), &args);
     for f in ["samples.csv", "events.csv", "summary.json", "session.json"] {
         let x = std::fs::read(da.join(f)).expect("a");
         let y = std::fs::read(db.join(f)).expect("b");
@@ -320,24 +283,21 @@ fn same_seed_and_start_give_identical_archives() {
 fn flight_stop_typed_on_stdin_is_recorded_and_not_scored() {
     use std::io::Write;
     let tmp = tempfile::tempdir().expect("tmp");
-    let mut child = Command::new(BIN)
-        .args([
-            "demo",
-            "--headless",
+    let mut child = demo_command(
+        tmp.path(),
+        &[
             "--speed",
             "20",
             "--seed",
             "3",
-            "--start",
-            START,
-        ])
-        .args(["--protocol", "protocols/smoke.toml"])
-        .arg("--sessions")
-        .arg(tmp.path())
-        .stdin(std::process::Stdio::piped())
-        .stdout(std::process::Stdio::piped())
-        .spawn()
-        .expect("spawn");
+            "--protocol",
+            "protocols/smoke.toml",
+        ],
+    )
+    .stdin(std::process::Stdio::piped())
+    .stdout(std::process::Stdio::piped())
+    .spawn()
+    .expect("spawn");
     {
         let stdin = child.stdin.as_mut().expect("stdin");
         std::thread::sleep(std::time::Duration::from_millis(300));
@@ -349,7 +309,7 @@ fn flight_stop_typed_on_stdin_is_recorded_and_not_scored() {
     let out = child.wait_with_output().expect("wait");
     assert!(out.status.success());
     let stdout = String::from_utf8(out.stdout).expect("utf8");
-    let dir = PathBuf::from(stdout.lines().last().expect("last").trim());
+    let dir = session_folder(&stdout);
     let ev = Table::read(&dir.join("events.csv"));
     let kinds: Vec<&str> = ev.rows.iter().map(|r| r[ev.col("kind")].as_str()).collect();
     assert!(
@@ -381,19 +341,7 @@ fn flight_stop_typed_on_stdin_is_recorded_and_not_scored() {
 #[test]
 fn unsafe_animal_id_writes_nothing() {
     let tmp = tempfile::tempdir().expect("tmp");
-    let out = Command::new(BIN)
-        .args([
-            "demo",
-            "--headless",
-            "--speed",
-            "max",
-            "--animal",
-            "../escape",
-            "--start",
-            START,
-        ])
-        .arg("--sessions")
-        .arg(tmp.path())
+    let out = demo_command(tmp.path(), &["--speed", "max", "--animal", "../escape"])
         .output()
         .expect("run");
     assert!(!out.status.success());
@@ -406,7 +354,7 @@ fn unsafe_animal_id_writes_nothing() {
 #[test]
 fn live_screen_without_a_terminal_says_so_and_writes_nothing() {
     let tmp = tempfile::tempdir().expect("tmp");
-    let out = Command::new(BIN)
+    let out = bin()
         .args(["demo", "--speed", "max", "--start", START])
         .arg("--sessions")
         .arg(tmp.path())

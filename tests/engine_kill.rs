@@ -3,10 +3,12 @@
 
 use std::io::{BufRead, BufReader};
 use std::path::PathBuf;
-use std::process::{Command, Stdio};
+use std::process::Stdio;
 use std::time::{Duration, Instant};
 
-const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+mod support;
+use support::demo::demo_command;
+use support::{bin, read_json};
 
 fn last_t_s(dir: &std::path::Path) -> (usize, f64) {
     let text = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");
@@ -29,25 +31,15 @@ fn last_t_s(dir: &std::path::Path) -> (usize, f64) {
 fn sigkill_then_check_then_repair() {
     let tmp = tempfile::tempdir().expect("tmp");
     let spawned = Instant::now();
-    let mut child = Command::new(BIN)
-        .args([
-            "demo",
-            "--headless",
-            "--speed",
-            "1",
-            "--seed",
-            "5",
-            "--rate-hz",
-            "200",
-        ])
-        .args(["--start", "2026-06-14T07:30:00Z"])
-        .arg("--sessions")
-        .arg(tmp.path())
-        .stdin(Stdio::null())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::null())
-        .spawn()
-        .expect("spawn");
+    let mut child = demo_command(
+        tmp.path(),
+        &["--speed", "1", "--seed", "5", "--rate-hz", "200"],
+    )
+    .stdin(Stdio::null())
+    .stdout(Stdio::piped())
+    .stderr(Stdio::null())
+    .spawn()
+    .expect("spawn");
     // Wait for the session to start (first progress line), then let it record a while.
     let stdout = child.stdout.take().expect("stdout");
     let mut lines = BufReader::new(stdout).lines();
@@ -72,11 +64,7 @@ fn sigkill_then_check_then_repair() {
         "last sample on disk at {last_before:.2} s, killed after {killed_after:.2} s"
     );
 
-    let check = Command::new(BIN)
-        .arg("check")
-        .arg(dir)
-        .output()
-        .expect("check");
+    let check = bin().arg("check").arg(dir).output().expect("check");
     assert!(
         !check.status.success(),
         "check must flag an interrupted session"
@@ -85,7 +73,7 @@ fn sigkill_then_check_then_repair() {
         + &String::from_utf8_lossy(&check.stderr).to_lowercase();
     assert!(text.contains("interrupted"), "{text}");
 
-    let repair = Command::new(BIN)
+    let repair = bin()
         .args(["check", "--repair"])
         .arg(dir)
         .output()
@@ -95,11 +83,7 @@ fn sigkill_then_check_then_repair() {
         "{}",
         String::from_utf8_lossy(&repair.stderr)
     );
-    let again = Command::new(BIN)
-        .arg("check")
-        .arg(dir)
-        .output()
-        .expect("check");
+    let again = bin().arg("check").arg(dir).output().expect("check");
     assert!(
         again.status.success(),
         "{}",
@@ -108,9 +92,7 @@ fn sigkill_then_check_then_repair() {
     let (n_after, last_after) = last_t_s(dir);
     assert_eq!(n_after, n_before, "repair must keep every whole sample");
     assert_eq!(last_after, last_before);
-    let meta: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("session.json")).expect("json"))
-            .expect("json");
+    let meta = read_json(&dir.join("session.json"));
     assert_eq!(meta["status"], "recovered");
     assert!(dir.join("summary.json").is_file());
 }

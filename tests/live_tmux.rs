@@ -2,11 +2,12 @@
 //! resizes it, sends `q` (then another key: nothing must happen), then `q` `y`, and checks the
 //! session folder. `.ci/run` installs tmux where it is missing.
 
+mod support;
+use support::BIN;
+
 use std::path::Path;
 use std::process::Command;
 use std::time::{Duration, Instant};
-
-const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
 
 struct Tmux {
     socket: String,

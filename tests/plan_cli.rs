@@ -3,13 +3,12 @@
 //! Sun check values: pvlib 0.16.1, `solarposition.get_solarposition(..., method="nrel_numpy")`
 //! (NREL SPA, Reda & Andreas 2008) for the demo site (43.2170 N, 5.4420 E, 210 m).
 
+mod support;
+use support::bin;
+
 use serde_json::Value;
 use std::path::PathBuf;
-use std::process::{Command, Output};
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
-}
+use std::process::Output;
 
 fn protocol(name: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))

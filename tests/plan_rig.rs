@@ -4,10 +4,13 @@
 //! .calculate(glat=43.2170, glon=5.4420, alt=0.210, time=decimal_year_from_date(2026-06-21))`
 //! gives D = 2.8015 deg (WMM2025).
 
+mod support;
+use support::bin;
+
 use serde_json::Value;
 use skybearing::rig::config::TEMPLATE;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn protocol(name: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -16,7 +19,7 @@ fn protocol(name: &str) -> PathBuf {
 }
 
 fn plan(rig: &Path, extra: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    bin()
         .arg("plan")
         .arg("--protocol")
         .arg(protocol("demo.toml"))

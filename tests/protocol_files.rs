@@ -1,8 +1,10 @@
 //! Protocol files through the binary (`skybearing plan`): each bad file gives one line naming
 //! the file, the line and the field, and exit status 2; every shipped file plans cleanly.
 
+mod support;
+use support::bin;
+
 use std::path::PathBuf;
-use std::process::Command;
 
 const HEAD: &str = "name = \"bad\"\nsettle_s = 5\n";
 
@@ -11,7 +13,7 @@ fn error_for(file_name: &str, body: &str) -> String {
     let dir = tempfile::tempdir().unwrap();
     let f = dir.path().join(file_name);
     std::fs::write(&f, format!("{HEAD}{body}")).unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let out = bin()
         .args(["plan", "--start", "2026-06-21T08:00:00Z", "--protocol"])
         .arg(&f)
         .output()
@@ -103,7 +105,7 @@ fn shipped_protocols_plan_cleanly() {
             continue;
         }
         n += 1;
-        let out = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+        let out = bin()
             .args([
                 "plan",
                 "--start",

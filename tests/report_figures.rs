@@ -1,11 +1,11 @@
 //! `skybearing report` as a user runs it: tables, summary and figures that are valid SVG/PNG
 //! with the expected content (checked loosely: element counts and labels, not bytes).
 
-mod batch_support;
+mod support;
+use support::bin;
+use support::sessions::{Mode, col, read_csv, write_session};
 
-use batch_support::{Mode, col, read_csv, write_session};
 use std::path::Path;
-use std::process::Command;
 
 /// A small XML well-formedness check: every tag closes in order, and the root is <svg>.
 /// Returns the element names in document order and the (trimmed) text between tags.
@@ -81,11 +81,7 @@ fn report_writes_tables_summary_and_figures() {
         3,
         300,
     );
-    let o = Command::new(env!("CARGO_BIN_EXE_skybearing"))
-        .arg("report")
-        .arg(&dir)
-        .output()
-        .unwrap();
+    let o = bin().arg("report").arg(&dir).output().unwrap();
     let stdout = String::from_utf8_lossy(&o.stdout);
     assert_eq!(
         o.status.code(),
@@ -165,7 +161,7 @@ fn report_on_a_folder_without_samples_names_the_file() {
         50,
     );
     std::fs::remove_file(dir.join("samples.csv")).unwrap();
-    let o = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let o = bin()
         .args(["report", dir.to_str().unwrap(), "--out"])
         .arg(tmp.path().join("rep"))
         .output()

@@ -1,10 +1,7 @@
 //! `skybearing rig init` and `skybearing rig check`, run as a user would.
 
-use std::process::Command;
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
-}
+mod support;
+use support::bin;
 
 fn template() -> &'static str {
     skybearing::rig::config::TEMPLATE

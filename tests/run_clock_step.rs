@@ -3,12 +3,12 @@
 //! libfaketime (Debian package `faketime`, installed by `.ci/run`): the `run` process sees its
 //! wall clock jump by +1 h mid-session while the monotonic clock is left alone.
 
-use std::path::PathBuf;
-use std::process::{Command, Stdio};
-
-mod sim_support;
-use sim_support::{BIN, start_sim};
+use std::process::Stdio;
 use std::time::Duration;
+
+mod support;
+use support::finished_session;
+use support::sim::{headless_smoke_run, start_sim};
 
 const FAKETIME_LIB: &str = "/usr/lib/x86_64-linux-gnu/faketime/libfaketime.so.1";
 
@@ -23,24 +23,11 @@ fn wall_clock_step_leaves_t_s_continuous() {
     let stamp = tmp.path().join("faketime.txt");
     std::fs::write(&stamp, "+0\n").expect("write");
     let sessions = tmp.path().join("sessions");
-    let child = Command::new(BIN)
-        .args([
-            "run",
-            "--headless",
-            "--animal",
-            "lm-12",
-            "--protocol",
-            "protocols/smoke.toml",
-        ])
-        .arg("--rig")
-        .arg(&rig)
-        .arg("--sessions")
-        .arg(&sessions)
+    let child = headless_smoke_run("lm-12", &rig, &sessions)
         .env("LD_PRELOAD", FAKETIME_LIB)
         .env("FAKETIME_TIMESTAMP_FILE", &stamp)
         .env("FAKETIME_NO_CACHE", "1")
         .env("FAKETIME_DONT_FAKE_MONOTONIC", "1")
-        .stdin(Stdio::null())
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())
         .spawn()
@@ -48,13 +35,7 @@ fn wall_clock_step_leaves_t_s_continuous() {
     std::thread::sleep(Duration::from_secs(4));
     std::fs::write(&stamp, "+1h\n").expect("step the wall clock");
     let out = child.wait_with_output().expect("wait");
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    assert!(
-        out.status.success(),
-        "{stdout}\n{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let dir = PathBuf::from(stdout.lines().last().expect("last").trim());
+    let dir = finished_session(&out);
     let samples = std::fs::read_to_string(dir.join("samples.csv")).expect("samples");
     let mut prev: Option<f64> = None;
     let mut offset: Option<f64> = None;

@@ -2,11 +2,9 @@
 //! --headless` then completes the smoke protocol through the real serial code path, with
 //! malformed lines and an unplugged sensor recorded as events (issue "Done when").
 
-use std::path::PathBuf;
-use std::process::{Command, Stdio};
-
-mod sim_support;
-use sim_support::{BIN, start_sim};
+mod support;
+use support::sim::{headless_smoke_run, start_sim};
+use support::{bin, finished_session, read_json};
 
 #[test]
 fn run_completes_against_the_pty_simulator_with_faults() {
@@ -25,32 +23,11 @@ fn run_completes_against_the_pty_simulator_with_faults() {
         ],
     );
     let sessions = tmp.path().join("sessions");
-    let out = Command::new(BIN)
-        .args([
-            "run",
-            "--headless",
-            "--animal",
-            "lm-11",
-            "--protocol",
-            "protocols/smoke.toml",
-        ])
-        .arg("--rig")
-        .arg(&rig)
-        .arg("--sessions")
-        .arg(&sessions)
-        .stdin(Stdio::null())
+    let out = headless_smoke_run("lm-11", &rig, &sessions)
         .output()
         .expect("run");
-    let stdout = String::from_utf8_lossy(&out.stdout);
-    assert!(
-        out.status.success(),
-        "{stdout}\n{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let dir = PathBuf::from(stdout.lines().last().expect("last line").trim());
-    let meta: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("session.json")).expect("json"))
-            .expect("json");
+    let dir = finished_session(&out);
+    let meta = read_json(&dir.join("session.json"));
     assert_eq!(meta["status"], "complete");
     let events = std::fs::read_to_string(dir.join("events.csv")).expect("events");
     for kind in [
@@ -66,11 +43,7 @@ fn run_completes_against_the_pty_simulator_with_faults() {
     // About 15 s of epochs plus two turns at 100 Hz, minus the 2 s unplugged gap.
     let n = samples.lines().count() - 1;
     assert!(n > 1000, "{n} samples");
-    let check = Command::new(BIN)
-        .arg("check")
-        .arg(&dir)
-        .output()
-        .expect("check");
+    let check = bin().arg("check").arg(&dir).output().expect("check");
     assert!(
         check.status.success(),
         "{}",

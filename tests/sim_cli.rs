@@ -1,16 +1,19 @@
 //! `skybearing sim` run as a user would: it writes a rig file, serves it, and the real serial
 //! code path reads it; SIGTERM ends it cleanly.
 
+mod support;
+use support::bin;
+
 use skybearing::clock::{Clock, RealClock};
 use skybearing::rig::{SensorEvent, open_sensor};
 use std::io::{BufRead, BufReader};
-use std::process::{Command, Stdio};
+use std::process::Stdio;
 use std::sync::Arc;
 use std::time::Duration;
 
 fn start(dir: &std::path::Path, extra: &[&str]) -> (std::process::Child, std::path::PathBuf) {
     let rig = dir.join("sim-rig.toml");
-    let mut child = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let mut child = bin()
         .arg("sim")
         .arg("--write-rig")
         .arg(&rig)
@@ -77,7 +80,7 @@ fn sim_stops_on_sigterm_and_refuses_a_foreign_rig_file() {
     assert!(!dir.path().join("sim-rig-sensor.tty").exists());
     // A rig file sim did not write is not overwritten.
     std::fs::write(&rig_path, "# my own rig\n").unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let out = bin()
         .arg("sim")
         .arg("--write-rig")
         .arg(&rig_path)
@@ -92,7 +95,7 @@ fn sim_stops_on_sigterm_and_refuses_a_foreign_rig_file() {
 #[test]
 fn sim_flags_are_checked() {
     let dir = tempfile::tempdir().unwrap();
-    let out = Command::new(env!("CARGO_BIN_EXE_skybearing"))
+    let out = bin()
         .arg("sim")
         .arg("--write-rig")
         .arg(dir.path().join("r.toml"))

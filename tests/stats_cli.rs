@@ -1,13 +1,12 @@
 //! `skybearing stats` through the binary. Expected values come from
 //! tests/fixtures/circular_reference.json (pycircstat2 and astropy; versions in the fixture).
 
+mod support;
+use support::bin;
+
 use serde_json::Value;
 use std::io::Write;
-use std::process::{Command, Output, Stdio};
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
-}
+use std::process::{Output, Stdio};
 
 fn fixture() -> Value {
     let path = concat!(

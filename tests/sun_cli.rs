@@ -1,13 +1,10 @@
 //! `skybearing sun` run as a user would.
 
-use std::process::Command;
+mod support;
+use support::bin;
 
 fn sun(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_skybearing"))
-        .arg("sun")
-        .args(args)
-        .output()
-        .unwrap()
+    bin().arg("sun").args(args).output().unwrap()
 }
 
 fn json_of(out: &std::process::Output) -> serde_json::Value {

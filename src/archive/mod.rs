@@ -20,8 +20,10 @@
 //! recomputes `summary.json` and marks the session `recovered`. A last line without its
 //! newline is always treated as torn (its last field may be cut short), even if it parses.
 
+pub mod atomic;
 pub mod check;
 pub mod fmt;
+pub mod lock;
 pub mod read;
 pub mod summary;
 pub mod writer;

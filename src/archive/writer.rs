@@ -11,9 +11,11 @@ use std::time::{Duration, Instant};
 
 use chrono::{DateTime, Utc};
 
+use super::atomic::{sync_dir, write_json_atomic};
 use super::fmt::{
     UtcStamper, push_angle_deg, push_axial_deg, push_csv_field, push_exact, push_fixed, push_uint,
 };
+use super::lock::{lock_text, read_lock};
 use super::{
     ANGLE_DECIMALS, ArchiveError, EVENT_COLUMNS, EVENTS_FILE, EventRow, LOCK_FILE, SAMPLE_COLUMNS,
     SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SampleRow, SessionMeta, Summary, T_S_DECIMALS,
@@ -46,50 +48,6 @@ pub struct SessionWriter {
     finished: bool,
 }
 
-/// Writes `bytes` to `dir/name` atomically: temporary file, fsync, rename, fsync of the folder.
-pub fn write_atomic(dir: &Path, name: &str, bytes: &[u8]) -> Result<(), ArchiveError> {
-    let tmp = dir.join(format!(".{name}.tmp"));
-    let path = dir.join(name);
-    {
-        let mut f = File::create(&tmp).map_err(|e| ArchiveError::io(&tmp, e))?;
-        f.write_all(bytes).map_err(|e| ArchiveError::io(&tmp, e))?;
-        f.sync_all().map_err(|e| ArchiveError::io(&tmp, e))?;
-    }
-    std::fs::rename(&tmp, &path).map_err(|e| ArchiveError::io(&path, e))?;
-    sync_dir(dir)
-}
-
-/// Serializes `value` as pretty JSON and writes it atomically.
-pub fn write_json_atomic<T: serde::Serialize>(
-    dir: &Path,
-    name: &str,
-    value: &T,
-) -> Result<(), ArchiveError> {
-    let mut bytes = serde_json::to_vec_pretty(value).map_err(|source| ArchiveError::Json {
-        path: dir.join(name),
-        source,
-    })?;
-    bytes.push(b'\n');
-    write_atomic(dir, name, &bytes)
-}
-
-/// fsyncs a folder so that renames and new files in it are durable.
-pub fn sync_dir(dir: &Path) -> Result<(), ArchiveError> {
-    File::open(dir)
-        .and_then(|d| d.sync_all())
-        .map_err(|e| ArchiveError::io(dir, e))
-}
-
-/// The text of a lock file: our pid, and on Linux the process start time (to tell a reused pid
-/// from the writer).
-fn lock_text() -> String {
-    let pid = std::process::id();
-    match super::check::process_start_ticks(pid) {
-        Some(t) => format!("{pid} {t}\n"),
-        None => format!("{pid}\n"),
-    }
-}
-
 fn create_new(path: &Path) -> Result<File, ArchiveError> {
     OpenOptions::new()
         .write(true)
@@ -120,7 +78,7 @@ impl SessionWriter {
         {
             Ok(f) => f,
             Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
-                let pid = super::check::read_lock(&dir).map(|l| l.pid).unwrap_or(0);
+                let pid = read_lock(&dir).map(|l| l.pid).unwrap_or(0);
                 return Err(ArchiveError::Locked {
                     path: lock_path,
                     pid,

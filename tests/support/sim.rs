@@ -4,8 +4,7 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-/// The binary under test.
-pub const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+use super::BIN;
 
 /// Kills the simulator when the test ends, however it ends.
 pub struct Killer(std::process::Child);
@@ -40,4 +39,24 @@ pub fn start_sim(dir: &Path, flags: &[&str]) -> (Killer, PathBuf) {
     }
     std::thread::sleep(Duration::from_millis(200));
     (killer, rig)
+}
+
+/// `skybearing run --headless` of the smoke protocol for `animal` on the rig file `rig`, into
+/// `sessions`, with stdin closed; ready for more settings, then to run or spawn.
+pub fn headless_smoke_run(animal: &str, rig: &Path, sessions: &Path) -> Command {
+    let mut c = Command::new(BIN);
+    c.args([
+        "run",
+        "--headless",
+        "--animal",
+        animal,
+        "--protocol",
+        "protocols/smoke.toml",
+    ])
+    .arg("--rig")
+    .arg(rig)
+    .arg("--sessions")
+    .arg(sessions)
+    .stdin(Stdio::null());
+    c
 }

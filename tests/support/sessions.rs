@@ -5,6 +5,53 @@
 
 use std::path::{Path, PathBuf};
 
+use skybearing::archive::{
+    FORMAT_VERSION, LOCK_FILE, PlannedEpoch, SampleRow, SessionMeta, SessionStatus, SessionWriter,
+    SiteMeta, SummaryBuilder,
+};
+
+/// The metadata of a `running` session of animal lm-07 at the demo site, started
+/// 2026-06-14T09:30:00Z, with the arena's 0 mark at 0° true, no declination and no seed; tests
+/// set what they need on top.
+pub fn session_meta(id: &str, epochs: Vec<PlannedEpoch>) -> SessionMeta {
+    SessionMeta {
+        format_version: FORMAT_VERSION,
+        id: id.into(),
+        status: SessionStatus::Running,
+        started_utc: "2026-06-14T09:30:00Z".parse().unwrap(),
+        ended_utc: None,
+        animal: "lm-07".into(),
+        site: SiteMeta {
+            name: "Larkfield Meadow (demo)".into(),
+            latitude_deg: 52.1,
+            longitude_deg: 0.4,
+            elevation_m: 30.0,
+        },
+        time_zone: "UTC".into(),
+        arena_mark_bearing_deg: 0.0,
+        arena_mark_bearing_measured_deg: 0.0,
+        arena_mark_reference: "true".into(),
+        declination_deg: None,
+        protocol: serde_json::json!({"name": "synthetic"}),
+        epochs,
+        rig: serde_json::json!({}),
+        program_version: skybearing::VERSION.into(),
+        mode: "demo".into(),
+        seed: None,
+        end_reason: None,
+        notes: 0,
+    }
+}
+
+/// Overwrites the lock of `dir` with the pid of a process that has exited, as a writer killed
+/// with SIGKILL leaves it.
+pub fn make_lock_stale(dir: &Path) {
+    let mut child = std::process::Command::new("true").spawn().unwrap();
+    let pid = child.id();
+    child.wait().unwrap();
+    std::fs::write(dir.join(LOCK_FILE), format!("{pid}\n")).unwrap();
+}
+
 /// How the synthetic animal steers.
 #[derive(Clone, Copy, PartialEq)]
 pub enum Mode {
@@ -29,10 +76,6 @@ pub fn write_session(
     epochs: usize,
     n: usize,
 ) -> PathBuf {
-    use skybearing::archive::{
-        FORMAT_VERSION, PlannedEpoch, SampleRow, SessionMeta, SessionStatus, SessionWriter,
-        SiteMeta, SummaryBuilder,
-    };
     let conds = ["open sky", "diffuser"];
     let planned: Vec<PlannedEpoch> = (0..epochs)
         .map(|i| PlannedEpoch {
@@ -44,33 +87,14 @@ pub fn write_session(
         .collect();
     let day = 1 + (id.len() % 5) as u32;
     let start = chrono::TimeZone::with_ymd_and_hms(&chrono::Utc, 2026, 6, day, 9, 0, 0).unwrap();
-    let mut meta = SessionMeta {
-        format_version: FORMAT_VERSION,
-        id: id.to_string(),
-        status: SessionStatus::Running,
-        started_utc: start,
-        ended_utc: None,
-        animal: animal.to_string(),
-        site: SiteMeta {
-            name: "Larkfield Meadow (demo)".into(),
-            latitude_deg: 52.1,
-            longitude_deg: 5.2,
-            elevation_m: 10.0,
-        },
-        time_zone: "UTC".into(),
-        arena_mark_bearing_deg: 20.0,
-        arena_mark_bearing_measured_deg: 20.0,
-        arena_mark_reference: "true".into(),
-        declination_deg: Some(2.0),
-        protocol: serde_json::json!({"name": "synthetic"}),
-        epochs: planned.clone(),
-        rig: serde_json::json!({}),
-        program_version: skybearing::VERSION.into(),
-        mode: "demo".into(),
-        seed: None,
-        end_reason: None,
-        notes: 0,
-    };
+    let mut meta = session_meta(id, planned.clone());
+    meta.started_utc = start;
+    meta.animal = animal.to_string();
+    meta.site.longitude_deg = 5.2;
+    meta.site.elevation_m = 10.0;
+    meta.arena_mark_bearing_deg = 20.0;
+    meta.arena_mark_bearing_measured_deg = 20.0;
+    meta.declination_deg = Some(2.0);
     let mut w = SessionWriter::create(root, &meta).unwrap();
     let mut summary = SummaryBuilder::new(&planned);
     let mut t = 0.0;

@@ -1,0 +1,58 @@
+//! Scaffolding shared by the whole-program tests: each test file takes it with `mod support;`.
+//! Not every test file uses every helper.
+//!
+//! - this file: the binary under test, running it, reading what it wrote;
+//! - [`demo`]: headless demo sessions at a fixed start;
+//! - [`sessions`]: session folders written through the archive's own writer (also used by
+//!   `benches/batch.rs`, so it stands alone), and CSV reading;
+//! - [`sim`]: `skybearing sim` on pseudo-terminals, and `run` against it.
+#![allow(dead_code)]
+
+pub mod demo;
+pub mod sessions;
+pub mod sim;
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// The binary under test.
+pub const BIN: &str = env!("CARGO_BIN_EXE_skybearing");
+
+/// A command for the binary under test.
+pub fn bin() -> Command {
+    Command::new(BIN)
+}
+
+/// Runs the binary with `args`: exit code (-1 when a signal ended it), stdout, stderr.
+pub fn run(args: &[&str]) -> (i32, String, String) {
+    let out = bin().args(args).output().expect("run the binary");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// Reads and parses a JSON file.
+pub fn read_json(path: &Path) -> serde_json::Value {
+    let text =
+        std::fs::read_to_string(path).unwrap_or_else(|e| panic!("read {}: {e}", path.display()));
+    serde_json::from_str(&text).unwrap_or_else(|e| panic!("parse {}: {e}", path.display()))
+}
+
+/// The session folder that `run` and `demo` print as their last line of stdout.
+pub fn session_folder(stdout: &str) -> PathBuf {
+    PathBuf::from(stdout.lines().last().expect("a last line").trim())
+}
+
+/// Asserts that a `run` or `demo` succeeded (showing its output if not) and returns the session
+/// folder it printed last.
+pub fn finished_session(out: &Output) -> PathBuf {
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{stdout}\n{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    session_folder(&stdout)
+}
