@@ -6,3 +6,7 @@ pub use snapshot::{
     Command, EpochRow, EpochState, Health, Prompt, Snapshot, SnapshotCell, TracePoint, TurnRow,
 };
 pub mod session;
+mod setup;
+mod stamp;
+mod timeline;
+mod view;
