@@ -8,5 +8,7 @@ pub use snapshot::{
 pub mod session;
 mod setup;
 mod stamp;
+#[cfg(test)]
+mod testing;
 mod timeline;
 mod view;

@@ -8,10 +8,10 @@
 //! feeds the summary, appends to the archive and publishes a read-only [`Snapshot`].
 
 pub use super::setup::{EngineClock, EngineError, Outcome, SessionSetup, Speed, local_offset_for};
-use super::timeline::{EpochRt, Phase};
+use super::timeline::{Phase, Timeline};
 use crate::archive::{self, EventRow, SessionMeta, SessionWriter, SummaryBuilder};
 use crate::clock::Clock;
-use crate::engine::snapshot::{Command, EpochState, SnapshotCell, TracePoint};
+use crate::engine::snapshot::{Command, SnapshotCell, TracePoint};
 use crate::frames::wrap_360_deg;
 use crate::rig::config::BearingReference;
 use crate::rig::sim::SimOperator;
@@ -44,15 +44,8 @@ pub struct Engine {
     pub(super) sun: SunTrack,
     pub(super) local_offset: FixedOffset,
     pub(super) mark_true_deg: f64,
-    pub(super) epochs: Vec<EpochRt>,
-    pub(super) phase: Phase,
-    /// Time up to which the timeline has been advanced.
-    pub(super) t_s: f64,
-    pub(super) position_deg: f64,
-    pub(super) settle_until_s: f64,
-    pub(super) flying: bool,
-    pub(super) stopped_since_s: Option<f64>,
-    pub(super) paused: bool,
+    /// Epoch clock, turns, prompts and flight rules.
+    pub(super) timeline: Timeline,
     pub(super) sensor_lost: bool,
     pub(super) samples: u64,
     pub(super) last_sample: Option<(f64, f64, f64, f64)>,
@@ -61,7 +54,6 @@ pub struct Engine {
     pub(super) recent: VecDeque<String>,
     /// Real (monotonic) instant of the last successful archive sync.
     pub(super) last_sync: Option<std::time::Instant>,
-    pub(super) end: Option<(String, String)>,
     pub(super) sensor_desc: String,
     pub(super) turntable_desc: String,
     pub(super) health: crate::rig::SensorHealth,
@@ -106,27 +98,9 @@ impl Engine {
         )?;
         let local_offset = local_offset_for(&setup.rig.time_zone, setup.start_utc);
 
-        // Resolve the planned turns (GoTo relative to where the arena will be).
-        let mut pos = 0.0;
-        let mut epochs = Vec::with_capacity(setup.protocol.epochs.len());
-        for e in &setup.protocol.epochs {
-            let turn = e.arena.turn_from_deg(pos);
-            pos += turn;
-            epochs.push(EpochRt {
-                index: e.index,
-                condition: e.condition.clone(),
-                duration_s: e.duration_s,
-                arena: e.arena,
-                prompt: e.prompt.clone(),
-                planned_turn_deg: turn,
-                state: EpochState::Pending,
-                position_deg: pos,
-                started_s: None,
-                clock_s: 0.0,
-                flying_s: 0.0,
-            });
-        }
-        let planned: Vec<archive::PlannedEpoch> = epochs
+        let timeline = Timeline::new(&setup.protocol, mark_true_deg);
+        let planned: Vec<archive::PlannedEpoch> = timeline
+            .epochs
             .iter()
             .map(|e| archive::PlannedEpoch {
                 index: e.index,
@@ -182,14 +156,7 @@ impl Engine {
             sun,
             local_offset,
             mark_true_deg,
-            epochs,
-            phase: Phase::Finished,
-            t_s: 0.0,
-            position_deg: 0.0,
-            settle_until_s: 0.0,
-            flying: true,
-            stopped_since_s: None,
-            paused: false,
+            timeline,
             sensor_lost: false,
             samples: 0,
             last_sample: None,
@@ -197,7 +164,6 @@ impl Engine {
             turn_marks: VecDeque::new(),
             recent: VecDeque::new(),
             last_sync: None,
-            end: None,
             sensor_desc: String::new(),
             turntable_desc: String::new(),
             health: Default::default(),
@@ -253,6 +219,58 @@ impl Engine {
             w.append_event(&row)?;
         }
         Ok(())
+    }
+
+    /// Records the events the timeline queued, in order (and marks finished turns on the
+    /// trace).
+    fn record_timeline(&mut self) -> Result<(), EngineError> {
+        for e in self.timeline.take_events() {
+            if e.kind == "turn_done" {
+                self.turn_marks.push_back(e.t_s);
+            }
+            self.event(e.t_s, e.kind, e.detail)?;
+        }
+        Ok(())
+    }
+
+    /// Starts the transition into epoch `next` (see [`Timeline::begin_epoch`]).
+    pub(super) fn begin_epoch(
+        &mut self,
+        next: usize,
+        t: f64,
+        prompted: bool,
+    ) -> Result<(), EngineError> {
+        self.timeline.begin_epoch(next, t, prompted);
+        self.record_timeline()
+    }
+
+    /// Advances the timeline to `t` (see [`Timeline::advance_to`]).
+    pub(super) fn advance_to(&mut self, t: f64) -> Result<(), EngineError> {
+        self.timeline.advance_to(t);
+        self.record_timeline()
+    }
+
+    /// Hands an operator command to the timeline.
+    pub(super) fn on_command(
+        &mut self,
+        t: f64,
+        cmd: Command,
+        turntable: &mut dyn Turntable,
+    ) -> Result<(), EngineError> {
+        self.timeline.on_command(t, cmd, turntable);
+        self.record_timeline()
+    }
+
+    /// Hands a turntable reply to the timeline.
+    pub(super) fn on_turntable(&mut self, ev: TurntableEvent) -> Result<(), EngineError> {
+        self.timeline.on_turntable(ev);
+        self.record_timeline()
+    }
+
+    /// Commands a turn the timeline has just entered (see [`Timeline::drive_turn`]).
+    pub(super) fn drive_turn(&mut self, turntable: &mut dyn Turntable) -> Result<(), EngineError> {
+        self.timeline.drive_turn(turntable);
+        self.record_timeline()
     }
 }
 
@@ -385,7 +403,7 @@ impl Engine {
                 break;
             }
             if let (Some(after), Phase::Prompt { since_s, .. }) =
-                (auto_confirm_after_s, &self.phase)
+                (auto_confirm_after_s, &self.timeline.phase)
                 && now - since_s >= after
             {
                 let t = since_s + after;
@@ -413,18 +431,18 @@ impl Engine {
             for l in new_lines {
                 progress(&l);
             }
-            if now >= next_status_s && self.end.is_none() {
+            if now >= next_status_s && self.timeline.end.is_none() {
                 next_status_s = (now / 60.0).floor() * 60.0 + 60.0;
                 progress(&self.status_line(now));
             }
             let publish_due =
                 last_publish.is_none_or(|p| p.elapsed() >= std::time::Duration::from_millis(33));
-            if publish_due || self.end.is_some() {
+            if publish_due || self.timeline.end.is_some() {
                 self.health = sensor.health();
                 cell.publish(self.snapshot(now));
                 last_publish = Some(std::time::Instant::now());
             }
-            if self.end.is_some() {
+            if self.timeline.end.is_some() {
                 break;
             }
             if let EngineClock::Real(_) = clock {
@@ -458,7 +476,7 @@ impl Engine {
         } = bufs;
         sensor_buf.clear();
         if let Err(e) = sensor.drain(now, sensor_buf) {
-            self.event(self.t_s, "sensor_error", e.to_string())?;
+            self.event(self.timeline.t_s, "sensor_error", e.to_string())?;
         }
         for ev in sensor_buf.drain(..) {
             let t = match &ev {
@@ -470,7 +488,7 @@ impl Engine {
             // Never let a late stamp bend time backwards. Lines read from a serial port in one
             // burst carry the same arrival stamp: samples are spread by the archive's time
             // resolution (0.1 ms) so that t_s strictly increases.
-            let mut t = t.max(self.t_s);
+            let mut t = t.max(self.timeline.t_s);
             if matches!(ev, SensorEvent::Sample { .. })
                 && let Some((last, ..)) = self.last_sample
             {
@@ -481,13 +499,13 @@ impl Engine {
                 marks.clear();
                 op.poll(t, marks);
                 for (tm, cmd) in marks.drain(..) {
-                    self.on_command(tm.max(self.t_s), cmd, turntable)?;
+                    self.on_command(tm.max(self.timeline.t_s), cmd, turntable)?;
                     self.drive_turn(turntable)?;
                 }
             }
             self.advance_to(t)?;
             self.drive_turn(turntable)?;
-            if self.end.is_some() {
+            if self.timeline.end.is_some() {
                 return Ok(());
             }
             match ev {
@@ -509,11 +527,11 @@ impl Engine {
                 }
             }
         }
-        let now = now.max(self.t_s);
+        let now = now.max(self.timeline.t_s);
         self.poll_turntable(now, turntable, tt_buf)?;
         self.advance_to(now)?;
         self.drive_turn(turntable)?;
-        while self.end.is_none() {
+        while self.timeline.end.is_none() {
             match commands.try_recv() {
                 Ok(cmd) => {
                     self.on_command(now, cmd, turntable)?;
@@ -531,10 +549,11 @@ impl Engine {
         progress: &mut dyn FnMut(&str),
     ) -> Result<Outcome, EngineError> {
         let (status, reason) = self
+            .timeline
             .end
             .clone()
             .unwrap_or_else(|| ("aborted".into(), "stopped".into()));
-        let t_end = self.t_s;
+        let t_end = self.timeline.t_s;
         self.event(t_end, "session_end", format!("{status}: {reason}"))?;
         for l in std::mem::take(&mut self.progress_lines) {
             progress(&l);
@@ -565,5 +584,132 @@ impl Engine {
             reason,
             samples: self.samples,
         })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    //! The loop's own handling of samples across turns, settling, pauses and flight stops
+    //! (the timeline's rules on their own are tested in `timeline/tests.rs`).
+    use super::*;
+    use crate::engine::snapshot::EpochState;
+    use crate::engine::testing::{FakeTable, epoch};
+    use crate::protocol::{ArenaMove, EpochPlan, FlightRules, Protocol};
+
+    fn engine(dir: &std::path::Path, epochs: Vec<EpochPlan>, flight: FlightRules) -> Engine {
+        let protocol = Protocol {
+            name: "test".into(),
+            description: String::new(),
+            settle_s: 2.0,
+            flight,
+            epochs,
+        };
+        let setup = SessionSetup {
+            mode: "demo".into(),
+            animal: "t-01".into(),
+            sessions_dir: dir.to_path_buf(),
+            protocol,
+            rig: crate::rig::config::demo_rig(),
+            start_utc: "2026-06-14T07:30:00Z".parse().expect("time"),
+            speed: Speed::Max,
+            seed: None,
+            extra: serde_json::Value::Null,
+        };
+        Engine::new(setup).expect("engine")
+    }
+
+    fn started(e: &Engine, k: usize) -> Option<f64> {
+        e.timeline.epochs[k].started_s
+    }
+
+    fn cmd(e: &mut Engine, t: f64, c: Command, tt: &mut FakeTable) {
+        e.on_command(t, c, tt).expect("command");
+        e.drive_turn(tt).expect("turn");
+    }
+
+    fn advance(e: &mut Engine, t: f64, tt: &mut FakeTable) {
+        let mut buf = Vec::new();
+        e.poll_turntable(t, tt, &mut buf).expect("poll");
+        e.advance_to(t).expect("advance");
+        e.drive_turn(tt).expect("turn");
+    }
+
+    #[test]
+    fn turns_settle_and_skip() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let mut e = engine(
+            tmp.path(),
+            vec![
+                epoch(1, 10.0, ArenaMove::Stay, None),
+                epoch(2, 10.0, ArenaMove::TurnBy { deg: 90.0 }, None),
+                epoch(
+                    3,
+                    10.0,
+                    ArenaMove::GoTo {
+                        position_deg: 270.0,
+                    },
+                    None,
+                ),
+            ],
+            FlightRules::default(),
+        );
+        let mut tt = FakeTable::motor(3.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        advance(&mut e, 10.5, &mut tt);
+        assert!(
+            matches!(e.timeline.phase, Phase::Turning { .. }),
+            "turning after epoch 1"
+        );
+        assert_eq!(tt.commanded, vec![90.0]);
+        // A sample mid-turn is recorded but not scored.
+        e.on_sample(11.0, 0.0, 10.0, &tt).expect("sample");
+        advance(&mut e, 13.5, &mut tt);
+        assert!(
+            (started(&e, 1).expect("epoch 2") - 13.0).abs() < 1e-9,
+            "epoch 2 starts when the turn is done"
+        );
+        assert!((e.timeline.settle_until_s - 15.0).abs() < 1e-9);
+        // GoTo 270 from 90 is the shortest way: +180.
+        cmd(&mut e, 16.0, Command::SkipEpoch, &mut tt);
+        assert_eq!(e.timeline.epochs[1].state, EpochState::Skipped);
+        assert_eq!(tt.commanded, vec![90.0, 180.0]);
+        let s = e.summary.summary();
+        assert_eq!(
+            s.epochs.iter().map(|x| x.n).sum::<u64>(),
+            0,
+            "nothing scored yet"
+        );
+    }
+
+    #[test]
+    fn scored_only_when_flying_running_and_settled() {
+        let tmp = tempfile::tempdir().expect("tmp");
+        let mut e = engine(
+            tmp.path(),
+            vec![epoch(1, 100.0, ArenaMove::TurnBy { deg: 90.0 }, None)],
+            FlightRules::default(),
+        );
+        let mut tt = FakeTable::motor(1.0);
+        e.begin_epoch(0, 0.0, false).expect("begin");
+        e.drive_turn(&mut tt).expect("turn");
+        advance(&mut e, 1.5, &mut tt);
+        // Turn done at 1 s, settle until 3 s.
+        for (t, expect) in [(2.0, false), (3.5, true)] {
+            advance(&mut e, t, &mut tt);
+            e.on_sample(t, 0.0, 45.0, &tt).expect("sample");
+            assert_eq!(e.summary.summary().epochs[0].n, u64::from(expect), "at {t}");
+        }
+        cmd(&mut e, 4.0, Command::Pause, &mut tt);
+        e.on_sample(4.5, 0.0, 45.0, &tt).expect("sample");
+        cmd(&mut e, 5.0, Command::Resume, &mut tt);
+        cmd(&mut e, 5.0, Command::FlightStop, &mut tt);
+        e.on_sample(5.5, 0.0, 45.0, &tt).expect("sample");
+        assert_eq!(
+            e.summary.summary().epochs[0].n,
+            1,
+            "paused and stopped samples are not scored"
+        );
+        // World heading = arena heading + mark bearing (true 0) + arena position (90).
+        assert_eq!(e.last_sample.map(|s| s.2), Some(135.0));
     }
 }

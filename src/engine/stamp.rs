@@ -13,9 +13,11 @@ use crate::sky::polarization::zenith_evector_deg;
 
 impl Engine {
     pub(super) fn arena_position_at(&self, t: f64, turntable: &dyn Turntable) -> f64 {
-        match &self.phase {
-            Phase::Turning { .. } => turntable.position_deg(t).unwrap_or(self.position_deg),
-            _ => self.position_deg,
+        match &self.timeline.phase {
+            Phase::Turning { .. } => turntable
+                .position_deg(t)
+                .unwrap_or(self.timeline.position_deg),
+            _ => self.timeline.position_deg,
         }
     }
 
@@ -31,18 +33,21 @@ impl Engine {
         let world = world_heading_deg(arena_heading_deg, bearing);
         let sun = self.sun.at(t);
         let sun_rel = sun_relative_heading_deg(world, sun.azimuth_deg);
-        let running = matches!(self.phase, Phase::Running { .. });
-        let scored = running && !self.paused && self.flying && t >= self.settle_until_s;
+        let running = matches!(self.timeline.phase, Phase::Running { .. });
+        let scored = running
+            && !self.timeline.paused
+            && self.timeline.flying
+            && t >= self.timeline.settle_until_s;
         let row = SampleRow {
             t_utc: self.utc_at(t),
             t_s: t,
-            epoch: self.current_epoch(),
+            epoch: self.timeline.current_epoch(),
             arena_heading_deg,
             arena_bearing_deg: bearing,
             world_heading_deg: world,
             sun_azimuth_deg: sun.azimuth_deg,
             sun_elevation_deg: sun.elevation_deg,
-            flying: self.flying,
+            flying: self.timeline.flying,
             scored,
             sun_relative_heading_deg: sun_rel,
             zenith_evector_deg: zenith_evector_deg(sun.azimuth_deg),
@@ -64,7 +69,7 @@ impl Engine {
                 arena_deg: arena_heading_deg,
                 world_deg: world,
                 sun_deg: sun_rel,
-                flying: self.flying,
+                flying: self.timeline.flying,
             });
             while self
                 .trace

@@ -10,13 +10,13 @@ use chrono::Duration;
 impl Engine {
     pub(super) fn status_line(&self, now: f64) -> String {
         let s = self.summary.summary();
-        let epoch = self.current_epoch();
+        let epoch = self.timeline.current_epoch();
         let ep = s.epochs.iter().find(|e| e.index == epoch);
         format!(
             "t {:>6.0} s  epoch {}/{}  n {}  r {:.2}  mean world {}  samples {}",
             now,
             epoch,
-            self.epochs.len(),
+            self.timeline.epochs.len(),
             ep.map(|e| e.n).unwrap_or(0),
             ep.map(|e| e.r).unwrap_or(0.0),
             ep.and_then(|e| e.mean_world_deg)
@@ -30,8 +30,9 @@ impl Engine {
     pub fn snapshot(&self, now: f64) -> Snapshot {
         let summary = self.summary.summary();
         let sun_now = self.sun.clone().at(now.max(0.0));
-        let pos = self.position_deg;
+        let pos = self.timeline.position_deg;
         let epochs: Vec<EpochRow> = self
+            .timeline
             .epochs
             .iter()
             .map(|e| {
@@ -63,9 +64,9 @@ impl Engine {
                 world_shift_deg: t.world_shift_deg,
             })
             .collect();
-        let (epoch_left, k_opt) = match &self.phase {
+        let (epoch_left, k_opt) = match &self.timeline.phase {
             Phase::Running { k } => {
-                let e = &self.epochs[*k];
+                let e = &self.timeline.epochs[*k];
                 ((e.duration_s - e.clock_s).max(0.0), Some(*k))
             }
             Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
@@ -73,16 +74,21 @@ impl Engine {
             }
             Phase::Finished => (0.0, None),
         };
-        let later: f64 = match &self.phase {
-            Phase::Running { k } => self.epochs[k + 1..].iter().map(|e| e.duration_s).sum(),
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
-                self.epochs[*next..].iter().map(|e| e.duration_s).sum()
-            }
+        let later: f64 = match &self.timeline.phase {
+            Phase::Running { k } => self.timeline.epochs[k + 1..]
+                .iter()
+                .map(|e| e.duration_s)
+                .sum(),
+            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => self.timeline.epochs
+                [*next..]
+                .iter()
+                .map(|e| e.duration_s)
+                .sum(),
             Phase::Finished => 0.0,
         };
-        let (next_turn_in_s, next_turn_deg) = match (&self.phase, k_opt) {
-            (Phase::Running { .. }, Some(k)) if k + 1 < self.epochs.len() => {
-                let t = self.epochs[k + 1].arena.turn_from_deg(pos);
+        let (next_turn_in_s, next_turn_deg) = match (&self.timeline.phase, k_opt) {
+            (Phase::Running { .. }, Some(k)) if k + 1 < self.timeline.epochs.len() => {
+                let t = self.timeline.epochs[k + 1].arena.turn_from_deg(pos);
                 if t.abs() > 1e-9 {
                     (Some(epoch_left), Some(t))
                 } else {
@@ -91,7 +97,7 @@ impl Engine {
             }
             _ => (None, None),
         };
-        let prompt = match &self.phase {
+        let prompt = match &self.timeline.phase {
             Phase::Prompt { text, since_s, .. } => Some(Prompt {
                 text: text.clone(),
                 waiting_s: now - since_s,
@@ -99,14 +105,14 @@ impl Engine {
             }),
             _ => None,
         };
-        let condition = match &self.phase {
-            Phase::Running { k } => self.epochs[*k].condition.clone(),
+        let condition = match &self.timeline.phase {
+            Phase::Running { k } => self.timeline.epochs[*k].condition.clone(),
             Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
-                self.epochs[*next].condition.clone()
+                self.timeline.epochs[*next].condition.clone()
             }
             Phase::Finished => String::new(),
         };
-        let cur_pos = match &self.phase {
+        let cur_pos = match &self.timeline.phase {
             Phase::Turning { from_deg, .. } => *from_deg,
             _ => pos,
         };
@@ -119,20 +125,21 @@ impl Engine {
             now_utc: self.utc_at(now),
             local_offset: self.local_offset,
             t_s: now,
-            remaining_s: if self.end.is_some() {
+            remaining_s: if self.timeline.end.is_some() {
                 None
             } else {
                 Some(epoch_left + later)
             },
-            epoch: self.current_epoch(),
-            epoch_count: self.epochs.len(),
+            epoch: self.timeline.current_epoch(),
+            epoch_count: self.timeline.epochs.len(),
             condition,
             next_turn_in_s,
             next_turn_deg,
-            turning: matches!(self.phase, Phase::Turning { .. }),
-            settling: matches!(self.phase, Phase::Running { .. }) && now < self.settle_until_s,
-            paused: self.paused,
-            flying: self.flying,
+            turning: matches!(self.timeline.phase, Phase::Turning { .. }),
+            settling: matches!(self.timeline.phase, Phase::Running { .. })
+                && now < self.timeline.settle_until_s,
+            paused: self.timeline.paused,
+            flying: self.timeline.flying,
             arena_bearing_deg: arena_bearing_after_rotation_deg(self.mark_true_deg, cur_pos),
             sun_azimuth_deg: sun_now.azimuth_deg,
             sun_elevation_deg: sun_now.elevation_deg,
