@@ -6,51 +6,52 @@
 //! the same archive whatever the loop's pace), stamps every sample (UTC = anchor + monotonic
 //! seconds), converts frames, attaches sun geometry, marks settle windows, turns and flight,
 //! feeds the summary, appends to the archive and publishes a read-only [`Snapshot`].
+//!
+//! The loop is the one owner of time; what it calls are plain parts: the protocol's
+//! [`Timeline`] (`timeline.rs`), the [`Stamper`] of samples (`stamp.rs`), the live
+//! [`Scoring`] (`scoring.rs`) and the snapshot builder and trace (`view.rs`); `setup.rs` holds
+//! what a session is made from and how it ends.
 
+use super::scoring::{Scoring, is_scored};
 pub use super::setup::{EngineClock, EngineError, Outcome, SessionSetup, Speed, local_offset_for};
+use super::stamp::{SampleContext, Stamped, Stamper, session_time_s};
 use super::timeline::{Phase, Timeline};
+use super::view::Trace;
 use crate::archive::{self, EventRow, SessionMeta, SessionWriter, SummaryBuilder};
 use crate::clock::Clock;
-use crate::engine::snapshot::{Command, SnapshotCell, TracePoint};
-use crate::frames::wrap_360_deg;
-use crate::rig::config::BearingReference;
+use crate::engine::snapshot::{Command, SnapshotCell};
 use crate::rig::sim::SimOperator;
 use crate::rig::{HeadingSource, SensorEvent, Turntable, TurntableEvent};
 use crate::sky::sun::SunTrack;
-use chrono::{DateTime, Duration, FixedOffset, Utc};
+use chrono::FixedOffset;
 use std::collections::VecDeque;
 use std::path::PathBuf;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc::Receiver;
 
 /// Session seconds of sim time advanced per loop iteration at `--speed max`.
-pub(super) const MAX_SPEED_STEP_S: f64 = 0.05;
-/// Resolution of `t_s` in the archive (4 decimals): consecutive samples are at least this far
-/// apart.
-pub(super) const T_S_RESOLUTION_S: f64 = 1e-4;
-/// Spacing of trace points kept for screens, session seconds.
-pub(super) const TRACE_SPACING_S: f64 = 0.25;
-/// Length of the trace kept for screens, session seconds.
-pub(super) const TRACE_WINDOW_S: f64 = 15.0 * 60.0;
+const MAX_SPEED_STEP_S: f64 = 0.05;
 /// Recent event lines kept for screens.
-pub(super) const RECENT_EVENTS: usize = 12;
+const RECENT_EVENTS: usize = 12;
 
 /// The session engine.
 pub struct Engine {
     pub(super) setup: SessionSetup,
     pub(super) meta: SessionMeta,
     pub(super) writer: Option<SessionWriter>,
-    pub(super) summary: SummaryBuilder,
-    pub(super) sun: SunTrack,
+    /// Live scores.
+    pub(super) scoring: Scoring,
+    /// UTC stamps, frames and sun geometry of samples.
+    pub(super) stamper: Stamper,
     pub(super) local_offset: FixedOffset,
-    pub(super) mark_true_deg: f64,
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
     pub(super) sensor_lost: bool,
     pub(super) samples: u64,
-    pub(super) last_sample: Option<(f64, f64, f64, f64)>,
-    pub(super) trace: VecDeque<TracePoint>,
-    pub(super) turn_marks: VecDeque<f64>,
+    /// The last sample's frames.
+    pub(super) last_sample: Option<Stamped>,
+    /// Heading trace and turn marks for screens.
+    pub(super) trace: Trace,
     pub(super) recent: VecDeque<String>,
     /// Real (monotonic) instant of the last successful archive sync.
     pub(super) last_sync: Option<std::time::Instant>,
@@ -64,32 +65,9 @@ impl Engine {
     /// Opens the archive folder and prepares the timeline. Nothing is written when the setup
     /// is invalid (unsafe animal id, magnetic mark with no declination, bad site).
     pub fn new(setup: SessionSetup) -> Result<Self, EngineError> {
-        archive::validate_animal_id(&setup.animal)?;
-        setup.rig.site.validate()?;
-        if setup.protocol.epochs.is_empty() {
-            return Err(EngineError::Setup("the protocol has no epochs".into()));
-        }
+        let (mark_true_deg, declination) = setup.checked_mark_bearing()?;
         let site = &setup.rig.site;
         let date = setup.start_utc.date_naive();
-        let declination = crate::sky::magnetic::declination_deg(
-            site.latitude_deg,
-            site.longitude_deg,
-            site.elevation_m,
-            date,
-        );
-        let mark_true_deg = match setup.rig.arena_mark_reference {
-            BearingReference::True => wrap_360_deg(setup.rig.arena_mark_bearing_deg),
-            BearingReference::Magnetic => match declination {
-                Some(d) => {
-                    crate::frames::true_from_magnetic_deg(setup.rig.arena_mark_bearing_deg, d)
-                }
-                None => {
-                    return Err(EngineError::Setup(format!(
-                        "rig: arena mark bearing is magnetic but the World Magnetic Model gives no declination for {date}; measure the bearing against true north"
-                    )));
-                }
-            },
-        };
         let sun = SunTrack::new(
             site.latitude_deg,
             site.longitude_deg,
@@ -110,58 +88,18 @@ impl Engine {
             })
             .collect();
         let id = archive::new_session_id(&setup.sessions_dir, date, &site.name, &setup.animal)?;
-        let meta = SessionMeta {
-            format_version: archive::FORMAT_VERSION,
-            id,
-            status: archive::SessionStatus::Running,
-            started_utc: setup.start_utc,
-            ended_utc: None,
-            animal: setup.animal.clone(),
-            site: archive::SiteMeta {
-                name: site.name.clone(),
-                latitude_deg: site.latitude_deg,
-                longitude_deg: site.longitude_deg,
-                elevation_m: site.elevation_m,
-            },
-            time_zone: setup.rig.time_zone.clone(),
-            arena_mark_bearing_deg: mark_true_deg,
-            arena_mark_bearing_measured_deg: setup.rig.arena_mark_bearing_deg,
-            arena_mark_reference: match setup.rig.arena_mark_reference {
-                BearingReference::True => "true".into(),
-                BearingReference::Magnetic => "magnetic".into(),
-            },
-            declination_deg: declination,
-            protocol: serde_json::to_value(&setup.protocol).unwrap_or(serde_json::Value::Null),
-            epochs: planned.clone(),
-            rig: {
-                let mut rig = serde_json::to_value(&setup.rig).unwrap_or(serde_json::Value::Null);
-                if let (Some(obj), Some(extra)) = (rig.as_object_mut(), setup.extra.as_object()) {
-                    for (k, v) in extra {
-                        obj.insert(k.clone(), v.clone());
-                    }
-                }
-                rig
-            },
-            program_version: crate::VERSION.to_string(),
-            mode: setup.mode.clone(),
-            seed: setup.seed,
-            end_reason: None,
-            notes: 0,
-        };
-        let summary = SummaryBuilder::new(&planned);
+        let meta = setup.session_meta(id, mark_true_deg, declination, &planned);
         Ok(Self {
             meta,
             writer: None,
-            summary,
-            sun,
+            scoring: Scoring::new(SummaryBuilder::new(&planned)),
+            stamper: Stamper::new(setup.start_utc, mark_true_deg, sun),
             local_offset,
-            mark_true_deg,
             timeline,
             sensor_lost: false,
             samples: 0,
             last_sample: None,
-            trace: VecDeque::new(),
-            turn_marks: VecDeque::new(),
+            trace: Trace::default(),
             recent: VecDeque::new(),
             last_sync: None,
             sensor_desc: String::new(),
@@ -182,10 +120,6 @@ impl Engine {
         self.setup.sessions_dir.join(&self.meta.id)
     }
 
-    pub(super) fn utc_at(&self, t_s: f64) -> DateTime<Utc> {
-        self.setup.start_utc + Duration::microseconds((t_s * 1e6).round() as i64)
-    }
-
     pub(super) fn event(
         &mut self,
         t_s: f64,
@@ -194,7 +128,7 @@ impl Engine {
     ) -> Result<(), EngineError> {
         let detail = detail.into();
         let row = EventRow {
-            t_utc: self.utc_at(t_s),
+            t_utc: self.stamper.utc_at(t_s),
             t_s,
             kind: kind.to_string(),
             detail,
@@ -226,7 +160,7 @@ impl Engine {
     fn record_timeline(&mut self) -> Result<(), EngineError> {
         for e in self.timeline.take_events() {
             if e.kind == "turn_done" {
-                self.turn_marks.push_back(e.t_s);
+                self.trace.mark_turn(e.t_s);
             }
             self.event(e.t_s, e.kind, e.detail)?;
         }
@@ -272,6 +206,31 @@ impl Engine {
         self.timeline.drive_turn(turntable);
         self.record_timeline()
     }
+
+    /// Stamps, converts, archives and scores one sample at `t` (already monotonic).
+    pub(super) fn on_sample(
+        &mut self,
+        t: f64,
+        raw: f64,
+        arena_heading_deg: f64,
+        turntable: &dyn Turntable,
+    ) -> Result<(), EngineError> {
+        let ctx = SampleContext {
+            epoch: self.timeline.current_epoch(),
+            arena_position_deg: self.timeline.arena_position_at(t, turntable),
+            flying: self.timeline.flying,
+            scored: is_scored(&self.timeline, t),
+        };
+        let (row, stamped) = self.stamper.row(t, raw, arena_heading_deg, ctx);
+        if let Some(w) = self.writer.as_mut() {
+            w.append_sample(&row)?;
+        }
+        self.scoring.push(&row);
+        self.samples += 1;
+        self.last_sample = Some(stamped);
+        self.trace.push(&stamped, self.timeline.flying);
+        Ok(())
+    }
 }
 
 /// What the run loop talks to besides the engine itself.
@@ -304,7 +263,7 @@ struct Buffers {
 }
 
 /// Event kinds that also go to the progress output.
-pub(super) const PROGRESS_KINDS: &[&str] = &[
+const PROGRESS_KINDS: &[&str] = &[
     "session_start",
     "epoch_start",
     "turn_done",
@@ -433,7 +392,12 @@ impl Engine {
             }
             if now >= next_status_s && self.timeline.end.is_none() {
                 next_status_s = (now / 60.0).floor() * 60.0 + 60.0;
-                progress(&self.status_line(now));
+                progress(&self.scoring.status_line(
+                    now,
+                    self.timeline.current_epoch(),
+                    self.timeline.epochs.len(),
+                    self.samples,
+                ));
             }
             let publish_due =
                 last_publish.is_none_or(|p| p.elapsed() >= std::time::Duration::from_millis(33));
@@ -485,15 +449,12 @@ impl Engine {
                 | SensorEvent::Lost { t_s }
                 | SensorEvent::Back { t_s } => *t_s,
             };
-            // Never let a late stamp bend time backwards. Lines read from a serial port in one
-            // burst carry the same arrival stamp: samples are spread by the archive's time
-            // resolution (0.1 ms) so that t_s strictly increases.
-            let mut t = t.max(self.timeline.t_s);
-            if matches!(ev, SensorEvent::Sample { .. })
-                && let Some((last, ..)) = self.last_sample
-            {
-                t = t.max(last + T_S_RESOLUTION_S);
-            }
+            let t = session_time_s(
+                t,
+                self.timeline.t_s,
+                self.last_sample.map(|s| s.t_s),
+                matches!(ev, SensorEvent::Sample { .. }),
+            );
             self.poll_turntable(t, turntable, tt_buf)?;
             if let Some(op) = operator.as_deref_mut() {
                 marks.clear();
@@ -558,13 +519,13 @@ impl Engine {
         for l in std::mem::take(&mut self.progress_lines) {
             progress(&l);
         }
-        let summary = self.summary.summary();
+        let summary = self.scoring.summary();
         self.meta.status = if status == "complete" {
             archive::SessionStatus::Complete
         } else {
             archive::SessionStatus::Aborted
         };
-        self.meta.ended_utc = Some(self.utc_at(t_end));
+        self.meta.ended_utc = Some(self.stamper.utc_at(t_end));
         self.meta.end_reason = Some(reason.clone());
         let dir = match self.writer.take() {
             Some(w) => w.finish(&self.meta, &summary)?,
@@ -588,128 +549,4 @@ impl Engine {
 }
 
 #[cfg(test)]
-mod tests {
-    //! The loop's own handling of samples across turns, settling, pauses and flight stops
-    //! (the timeline's rules on their own are tested in `timeline/tests.rs`).
-    use super::*;
-    use crate::engine::snapshot::EpochState;
-    use crate::engine::testing::{FakeTable, epoch};
-    use crate::protocol::{ArenaMove, EpochPlan, FlightRules, Protocol};
-
-    fn engine(dir: &std::path::Path, epochs: Vec<EpochPlan>, flight: FlightRules) -> Engine {
-        let protocol = Protocol {
-            name: "test".into(),
-            description: String::new(),
-            settle_s: 2.0,
-            flight,
-            epochs,
-        };
-        let setup = SessionSetup {
-            mode: "demo".into(),
-            animal: "t-01".into(),
-            sessions_dir: dir.to_path_buf(),
-            protocol,
-            rig: crate::rig::config::demo_rig(),
-            start_utc: "2026-06-14T07:30:00Z".parse().expect("time"),
-            speed: Speed::Max,
-            seed: None,
-            extra: serde_json::Value::Null,
-        };
-        Engine::new(setup).expect("engine")
-    }
-
-    fn started(e: &Engine, k: usize) -> Option<f64> {
-        e.timeline.epochs[k].started_s
-    }
-
-    fn cmd(e: &mut Engine, t: f64, c: Command, tt: &mut FakeTable) {
-        e.on_command(t, c, tt).expect("command");
-        e.drive_turn(tt).expect("turn");
-    }
-
-    fn advance(e: &mut Engine, t: f64, tt: &mut FakeTable) {
-        let mut buf = Vec::new();
-        e.poll_turntable(t, tt, &mut buf).expect("poll");
-        e.advance_to(t).expect("advance");
-        e.drive_turn(tt).expect("turn");
-    }
-
-    #[test]
-    fn turns_settle_and_skip() {
-        let tmp = tempfile::tempdir().expect("tmp");
-        let mut e = engine(
-            tmp.path(),
-            vec![
-                epoch(1, 10.0, ArenaMove::Stay, None),
-                epoch(2, 10.0, ArenaMove::TurnBy { deg: 90.0 }, None),
-                epoch(
-                    3,
-                    10.0,
-                    ArenaMove::GoTo {
-                        position_deg: 270.0,
-                    },
-                    None,
-                ),
-            ],
-            FlightRules::default(),
-        );
-        let mut tt = FakeTable::motor(3.0);
-        e.begin_epoch(0, 0.0, false).expect("begin");
-        advance(&mut e, 10.5, &mut tt);
-        assert!(
-            matches!(e.timeline.phase, Phase::Turning { .. }),
-            "turning after epoch 1"
-        );
-        assert_eq!(tt.commanded, vec![90.0]);
-        // A sample mid-turn is recorded but not scored.
-        e.on_sample(11.0, 0.0, 10.0, &tt).expect("sample");
-        advance(&mut e, 13.5, &mut tt);
-        assert!(
-            (started(&e, 1).expect("epoch 2") - 13.0).abs() < 1e-9,
-            "epoch 2 starts when the turn is done"
-        );
-        assert!((e.timeline.settle_until_s - 15.0).abs() < 1e-9);
-        // GoTo 270 from 90 is the shortest way: +180.
-        cmd(&mut e, 16.0, Command::SkipEpoch, &mut tt);
-        assert_eq!(e.timeline.epochs[1].state, EpochState::Skipped);
-        assert_eq!(tt.commanded, vec![90.0, 180.0]);
-        let s = e.summary.summary();
-        assert_eq!(
-            s.epochs.iter().map(|x| x.n).sum::<u64>(),
-            0,
-            "nothing scored yet"
-        );
-    }
-
-    #[test]
-    fn scored_only_when_flying_running_and_settled() {
-        let tmp = tempfile::tempdir().expect("tmp");
-        let mut e = engine(
-            tmp.path(),
-            vec![epoch(1, 100.0, ArenaMove::TurnBy { deg: 90.0 }, None)],
-            FlightRules::default(),
-        );
-        let mut tt = FakeTable::motor(1.0);
-        e.begin_epoch(0, 0.0, false).expect("begin");
-        e.drive_turn(&mut tt).expect("turn");
-        advance(&mut e, 1.5, &mut tt);
-        // Turn done at 1 s, settle until 3 s.
-        for (t, expect) in [(2.0, false), (3.5, true)] {
-            advance(&mut e, t, &mut tt);
-            e.on_sample(t, 0.0, 45.0, &tt).expect("sample");
-            assert_eq!(e.summary.summary().epochs[0].n, u64::from(expect), "at {t}");
-        }
-        cmd(&mut e, 4.0, Command::Pause, &mut tt);
-        e.on_sample(4.5, 0.0, 45.0, &tt).expect("sample");
-        cmd(&mut e, 5.0, Command::Resume, &mut tt);
-        cmd(&mut e, 5.0, Command::FlightStop, &mut tt);
-        e.on_sample(5.5, 0.0, 45.0, &tt).expect("sample");
-        assert_eq!(
-            e.summary.summary().epochs[0].n,
-            1,
-            "paused and stopped samples are not scored"
-        );
-        // World heading = arena heading + mark bearing (true 0) + arena position (90).
-        assert_eq!(e.last_sample.map(|s| s.2), Some(135.0));
-    }
-}
+mod tests;

@@ -1,9 +1,10 @@
 //! What a session is set up from and how it ends: setup, speed, clock, errors, outcome.
 
-use crate::archive;
+use crate::archive::{self, PlannedEpoch, SessionMeta};
 use crate::clock::{Clock, SimClock};
+use crate::frames::wrap_360_deg;
 use crate::protocol::Protocol;
-use crate::rig::config::Rig;
+use crate::rig::config::{BearingReference, Rig};
 use chrono::{DateTime, FixedOffset, Offset, TimeZone, Utc};
 use std::path::PathBuf;
 
@@ -54,6 +55,90 @@ pub struct SessionSetup {
     pub seed: Option<u64>,
     /// Extra fields to record in session.json (simulator settings...).
     pub extra: serde_json::Value,
+}
+
+impl SessionSetup {
+    /// Checks what must hold before anything is written (a safe animal id, a valid site, at
+    /// least one epoch) and resolves the arena mark to a true bearing. Returns the mark's true
+    /// bearing and the site's magnetic declination on the start date (World Magnetic Model).
+    pub(super) fn checked_mark_bearing(&self) -> Result<(f64, Option<f64>), EngineError> {
+        archive::validate_animal_id(&self.animal)?;
+        self.rig.site.validate()?;
+        if self.protocol.epochs.is_empty() {
+            return Err(EngineError::Setup("the protocol has no epochs".into()));
+        }
+        let site = &self.rig.site;
+        let date = self.start_utc.date_naive();
+        let declination = crate::sky::magnetic::declination_deg(
+            site.latitude_deg,
+            site.longitude_deg,
+            site.elevation_m,
+            date,
+        );
+        let mark_true_deg = match self.rig.arena_mark_reference {
+            BearingReference::True => wrap_360_deg(self.rig.arena_mark_bearing_deg),
+            BearingReference::Magnetic => match declination {
+                Some(d) => {
+                    crate::frames::true_from_magnetic_deg(self.rig.arena_mark_bearing_deg, d)
+                }
+                None => {
+                    return Err(EngineError::Setup(format!(
+                        "rig: arena mark bearing is magnetic but the World Magnetic Model gives no declination for {date}; measure the bearing against true north"
+                    )));
+                }
+            },
+        };
+        Ok((mark_true_deg, declination))
+    }
+
+    /// The `session.json` of a new session `id` (status running).
+    pub(super) fn session_meta(
+        &self,
+        id: String,
+        mark_true_deg: f64,
+        declination: Option<f64>,
+        planned: &[PlannedEpoch],
+    ) -> SessionMeta {
+        let site = &self.rig.site;
+        SessionMeta {
+            format_version: archive::FORMAT_VERSION,
+            id,
+            status: archive::SessionStatus::Running,
+            started_utc: self.start_utc,
+            ended_utc: None,
+            animal: self.animal.clone(),
+            site: archive::SiteMeta {
+                name: site.name.clone(),
+                latitude_deg: site.latitude_deg,
+                longitude_deg: site.longitude_deg,
+                elevation_m: site.elevation_m,
+            },
+            time_zone: self.rig.time_zone.clone(),
+            arena_mark_bearing_deg: mark_true_deg,
+            arena_mark_bearing_measured_deg: self.rig.arena_mark_bearing_deg,
+            arena_mark_reference: match self.rig.arena_mark_reference {
+                BearingReference::True => "true".into(),
+                BearingReference::Magnetic => "magnetic".into(),
+            },
+            declination_deg: declination,
+            protocol: serde_json::to_value(&self.protocol).unwrap_or(serde_json::Value::Null),
+            epochs: planned.to_vec(),
+            rig: {
+                let mut rig = serde_json::to_value(&self.rig).unwrap_or(serde_json::Value::Null);
+                if let (Some(obj), Some(extra)) = (rig.as_object_mut(), self.extra.as_object()) {
+                    for (k, v) in extra {
+                        obj.insert(k.clone(), v.clone());
+                    }
+                }
+                rig
+            },
+            program_version: crate::VERSION.to_string(),
+            mode: self.mode.clone(),
+            seed: self.seed,
+            end_reason: None,
+            notes: 0,
+        }
+    }
 }
 
 /// How the session ended.

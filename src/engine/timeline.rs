@@ -136,6 +136,15 @@ impl Timeline {
         }
     }
 
+    /// Arena position (degrees from start) at `t`: mid-turn, what the turntable says (if it
+    /// can tell), else the last completed position.
+    pub(super) fn arena_position_at(&self, t: f64, turntable: &dyn Turntable) -> f64 {
+        match &self.phase {
+            Phase::Turning { .. } => turntable.position_deg(t).unwrap_or(self.position_deg),
+            _ => self.position_deg,
+        }
+    }
+
     /// The events queued since the last call, oldest first.
     pub(super) fn take_events(&mut self) -> Vec<TimelineEvent> {
         std::mem::take(&mut self.events)

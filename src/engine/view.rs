@@ -1,35 +1,71 @@
-//! Building the snapshot screens render.
+//! Building the snapshot screens render, and the heading trace kept for it.
 
 use super::session::Engine;
+use super::stamp::Stamped;
 use super::timeline::Phase;
-use crate::engine::snapshot::{EpochRow, Health, Prompt, Snapshot, TurnRow};
-use crate::frames::arena_bearing_after_rotation_deg;
+use crate::engine::snapshot::{EpochRow, Health, Prompt, Snapshot, TracePoint, TurnRow};
 use crate::sky::polarization::zenith_evector_deg;
 use chrono::Duration;
+use std::collections::VecDeque;
 
-impl Engine {
-    pub(super) fn status_line(&self, now: f64) -> String {
-        let s = self.summary.summary();
-        let epoch = self.timeline.current_epoch();
-        let ep = s.epochs.iter().find(|e| e.index == epoch);
-        format!(
-            "t {:>6.0} s  epoch {}/{}  n {}  r {:.2}  mean world {}  samples {}",
-            now,
-            epoch,
-            self.timeline.epochs.len(),
-            ep.map(|e| e.n).unwrap_or(0),
-            ep.map(|e| e.r).unwrap_or(0.0),
-            ep.and_then(|e| e.mean_world_deg)
-                .map(|m| format!("{m:.0}°"))
-                .unwrap_or_else(|| "-".into()),
-            self.samples
-        )
+/// Spacing of trace points kept for screens, session seconds.
+const TRACE_SPACING_S: f64 = 0.25;
+/// Length of the trace kept for screens, session seconds.
+const TRACE_WINDOW_S: f64 = 15.0 * 60.0;
+
+/// The recent headings (one point every [`TRACE_SPACING_S`]) and turn instants screens draw,
+/// over the last [`TRACE_WINDOW_S`].
+#[derive(Debug, Clone, Default)]
+pub(super) struct Trace {
+    pub(super) points: VecDeque<TracePoint>,
+    pub(super) turn_marks: VecDeque<f64>,
+}
+
+impl Trace {
+    /// Marks a finished turn at session second `t_s`.
+    pub(super) fn mark_turn(&mut self, t_s: f64) {
+        self.turn_marks.push_back(t_s);
     }
 
+    /// Adds a sample if a point is due, and forgets what fell out of the window.
+    pub(super) fn push(&mut self, s: &Stamped, flying: bool) {
+        let t = s.t_s;
+        let due = self
+            .points
+            .back()
+            .is_none_or(|p| t - p.t_s >= TRACE_SPACING_S);
+        if !due {
+            return;
+        }
+        self.points.push_back(TracePoint {
+            t_s: t,
+            arena_deg: s.arena_heading_deg,
+            world_deg: s.world_heading_deg,
+            sun_deg: s.sun_relative_heading_deg,
+            flying,
+        });
+        while self
+            .points
+            .front()
+            .is_some_and(|p| t - p.t_s > TRACE_WINDOW_S)
+        {
+            self.points.pop_front();
+        }
+        while self
+            .turn_marks
+            .front()
+            .is_some_and(|m| t - m > TRACE_WINDOW_S)
+        {
+            self.turn_marks.pop_front();
+        }
+    }
+}
+
+impl Engine {
     /// The read-only picture of the session for screens.
     pub fn snapshot(&self, now: f64) -> Snapshot {
-        let summary = self.summary.summary();
-        let sun_now = self.sun.clone().at(now.max(0.0));
+        let summary = self.scoring.summary();
+        let sun_now = self.stamper.sun_at(now.max(0.0));
         let pos = self.timeline.position_deg;
         let epochs: Vec<EpochRow> = self
             .timeline
@@ -40,10 +76,7 @@ impl Engine {
                 EpochRow {
                     index: e.index,
                     condition: e.condition.clone(),
-                    arena_bearing_deg: arena_bearing_after_rotation_deg(
-                        self.mark_true_deg,
-                        e.position_deg,
-                    ),
+                    arena_bearing_deg: self.stamper.arena_bearing_deg(e.position_deg),
                     duration_s: e.duration_s,
                     flying_s: e.flying_s,
                     n: s.map(|x| x.n).unwrap_or(0),
@@ -122,7 +155,7 @@ impl Engine {
             animal: self.setup.animal.clone(),
             site_name: self.setup.rig.site.name.clone(),
             protocol_name: self.setup.protocol.name.clone(),
-            now_utc: self.utc_at(now),
+            now_utc: self.stamper.utc_at(now),
             local_offset: self.local_offset,
             t_s: now,
             remaining_s: if self.timeline.end.is_some() {
@@ -140,15 +173,15 @@ impl Engine {
                 && now < self.timeline.settle_until_s,
             paused: self.timeline.paused,
             flying: self.timeline.flying,
-            arena_bearing_deg: arena_bearing_after_rotation_deg(self.mark_true_deg, cur_pos),
+            arena_bearing_deg: self.stamper.arena_bearing_deg(cur_pos),
             sun_azimuth_deg: sun_now.azimuth_deg,
             sun_elevation_deg: sun_now.elevation_deg,
             zenith_evector_deg: zenith_evector_deg(sun_now.azimuth_deg),
-            arena_heading_deg: self.last_sample.map(|s| s.1),
-            world_heading_deg: self.last_sample.map(|s| s.2),
-            sun_relative_heading_deg: self.last_sample.map(|s| s.3),
-            trace: self.trace.iter().copied().collect(),
-            turn_marks_s: self.turn_marks.iter().copied().collect(),
+            arena_heading_deg: self.last_sample.map(|s| s.arena_heading_deg),
+            world_heading_deg: self.last_sample.map(|s| s.world_heading_deg),
+            sun_relative_heading_deg: self.last_sample.map(|s| s.sun_relative_heading_deg),
+            trace: self.trace.points.iter().copied().collect(),
+            turn_marks_s: self.trace.turn_marks.iter().copied().collect(),
             epochs,
             turns,
             r_world: summary.r_world,
@@ -162,7 +195,8 @@ impl Engine {
                 // Shown as an age on the session's own time line: now minus the real time since
                 // the sync (so an accelerated demo does not look stale).
                 last_sync_utc: self.last_sync.map(|i| {
-                    self.utc_at(now) - Duration::milliseconds(i.elapsed().as_millis() as i64)
+                    self.stamper.utc_at(now)
+                        - Duration::milliseconds(i.elapsed().as_millis() as i64)
                 }),
                 samples_written: self.samples,
                 archive_error: None,
@@ -174,5 +208,45 @@ impl Engine {
             ended: false,
             end_reason: None,
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn at(t_s: f64) -> Stamped {
+        Stamped {
+            t_s,
+            arena_heading_deg: 10.0,
+            world_heading_deg: 20.0,
+            sun_relative_heading_deg: 30.0,
+        }
+    }
+
+    #[test]
+    fn trace_keeps_one_point_per_spacing_over_the_window() {
+        let mut tr = Trace::default();
+        tr.mark_turn(0.1);
+        // 100 Hz for 16 minutes: one point every 0.25 s, the last 15 minutes kept.
+        for i in 0..(16 * 60 * 100) {
+            tr.push(&at(f64::from(i) * 0.01), true);
+        }
+        let first = tr.points.front().expect("points").t_s;
+        let last = tr.points.back().expect("points").t_s;
+        assert!(last - first <= TRACE_WINDOW_S, "{first} .. {last}");
+        assert!(last - first > TRACE_WINDOW_S - 1.0, "{first} .. {last}");
+        assert!(
+            tr.points
+                .iter()
+                .zip(tr.points.iter().skip(1))
+                .all(|(a, b)| b.t_s - a.t_s >= TRACE_SPACING_S - 1e-9)
+        );
+        assert!(
+            tr.turn_marks.is_empty(),
+            "the turn at 0.1 s left the window"
+        );
+        let p = tr.points.back().expect("points");
+        assert_eq!((p.arena_deg, p.world_deg, p.sun_deg), (10.0, 20.0, 30.0));
     }
 }
