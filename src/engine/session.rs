@@ -20,7 +20,7 @@ use super::view::Trace;
 use crate::archive::{self, EventRow, SessionMeta, SessionWriter, SummaryBuilder};
 use crate::clock::Clock;
 use crate::engine::snapshot::{Command, SnapshotCell};
-use crate::rig::sim::SimOperator;
+use crate::rig::sim::{OperatorAction, SimOperator};
 use crate::rig::{HeadingSource, SensorEvent, Turntable, TurntableEvent};
 use crate::sky::sun::SunTrack;
 use chrono::FixedOffset;
@@ -259,7 +259,7 @@ pub struct Wiring<'a> {
 struct Buffers {
     sensor: Vec<SensorEvent>,
     turntable: Vec<TurntableEvent>,
-    marks: Vec<(f64, Command)>,
+    marks: Vec<(f64, OperatorAction)>,
 }
 
 /// Event kinds that also go to the progress output.
@@ -460,7 +460,7 @@ impl Engine {
                 marks.clear();
                 op.poll(t, marks);
                 for (tm, cmd) in marks.drain(..) {
-                    self.on_command(tm.max(self.timeline.t_s), cmd, turntable)?;
+                    self.on_command(tm.max(self.timeline.t_s), cmd.into(), turntable)?;
                     self.drive_turn(turntable)?;
                 }
             }
