@@ -13,7 +13,9 @@
 //! what a session is made from and how it ends.
 
 use super::scoring::{Scoring, is_scored};
-pub use super::setup::{EngineClock, EngineError, Outcome, SessionSetup, Speed, local_offset_for};
+pub use super::setup::{
+    EndReason, EngineClock, EngineError, Outcome, SessionSetup, Speed, local_offset_for,
+};
 use super::stamp::{SampleContext, Stamped, Stamper, session_time_s};
 use super::timeline::{Phase, Timeline};
 use super::view::Trace;
@@ -509,24 +511,21 @@ impl Engine {
         cell: &SnapshotCell,
         progress: &mut dyn FnMut(&str),
     ) -> Result<Outcome, EngineError> {
-        let (status, reason) = self
-            .timeline
-            .end
-            .clone()
-            .unwrap_or_else(|| ("aborted".into(), "stopped".into()));
+        let end = self.timeline.end.unwrap_or(EndReason::Stopped);
+        let (status, reason) = (end.status(), end.text());
         let t_end = self.timeline.t_s;
         self.event(t_end, "session_end", format!("{status}: {reason}"))?;
         for l in std::mem::take(&mut self.progress_lines) {
             progress(&l);
         }
         let summary = self.scoring.summary();
-        self.meta.status = if status == "complete" {
+        self.meta.status = if end.is_complete() {
             archive::SessionStatus::Complete
         } else {
             archive::SessionStatus::Aborted
         };
         self.meta.ended_utc = Some(self.stamper.utc_at(t_end));
-        self.meta.end_reason = Some(reason.clone());
+        self.meta.end_reason = Some(reason.to_string());
         let dir = match self.writer.take() {
             Some(w) => w.finish(&self.meta, &summary)?,
             None => self.session_dir(),
@@ -541,8 +540,7 @@ impl Engine {
         cell.publish(snap);
         Ok(Outcome {
             dir,
-            status,
-            reason,
+            end,
             samples: self.samples,
         })
     }

@@ -141,15 +141,62 @@ impl SessionSetup {
     }
 }
 
+/// Why a session ended. Its words (`status`, `text`) are what the archive, the events and the
+/// screens show; `demo` and `run` choose their exit status from it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EndReason {
+    /// Every epoch ran or was skipped (also when the operator ends after the last one).
+    ProtocolFinished,
+    /// The flight rules' abort: too long without flight.
+    NoFlight,
+    /// The operator ended the session before the protocol was done.
+    EndedByOperator,
+    /// The loop stopped without the timeline ending the session.
+    Stopped,
+}
+
+impl EndReason {
+    /// Final status in `session.json`: "complete" or "aborted".
+    pub fn status(self) -> &'static str {
+        if self.is_complete() {
+            "complete"
+        } else {
+            "aborted"
+        }
+    }
+
+    /// True when the protocol ran to its end.
+    pub fn is_complete(self) -> bool {
+        self == EndReason::ProtocolFinished
+    }
+
+    /// The reason in words (`end_reason` in `session.json`).
+    pub fn text(self) -> &'static str {
+        match self {
+            EndReason::ProtocolFinished => "protocol finished",
+            EndReason::NoFlight => "no flight",
+            EndReason::EndedByOperator => "ended by the operator",
+            EndReason::Stopped => "stopped",
+        }
+    }
+
+    /// Exit status of `demo` and `run`: 0 when the protocol finished or the operator chose to
+    /// end, 1 when the session was cut short otherwise (the abort rule).
+    pub fn exit_code(self) -> i32 {
+        match self {
+            EndReason::ProtocolFinished | EndReason::EndedByOperator => 0,
+            EndReason::NoFlight | EndReason::Stopped => 1,
+        }
+    }
+}
+
 /// How the session ended.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Outcome {
     /// The session folder.
     pub dir: PathBuf,
-    /// Final status ("complete" or "aborted").
-    pub status: String,
-    /// Why it ended.
-    pub reason: String,
+    /// Why it ended (its `status()` is the final status, "complete" or "aborted").
+    pub end: EndReason,
     /// Samples written.
     pub samples: u64,
 }
@@ -167,5 +214,42 @@ pub fn local_offset_for(time_zone: &str, at: DateTime<Utc>) -> FixedOffset {
     match time_zone.parse::<chrono_tz::Tz>() {
         Ok(tz) => tz.offset_from_utc_datetime(&at.naive_utc()).fix(),
         Err(_) => FixedOffset::east_opt(0).unwrap_or_else(|| Utc.fix()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn end_reasons_give_the_words_and_exit_status_of_before() {
+        // The words are the archive's (session.json `status` and `end_reason`); the exit status
+        // is 0 for a finished protocol or an operator's end, 1 for the abort rule.
+        let all = [
+            (
+                EndReason::ProtocolFinished,
+                "complete",
+                "protocol finished",
+                0,
+            ),
+            (EndReason::NoFlight, "aborted", "no flight", 1),
+            (
+                EndReason::EndedByOperator,
+                "aborted",
+                "ended by the operator",
+                0,
+            ),
+            (EndReason::Stopped, "aborted", "stopped", 1),
+        ];
+        for (end, status, text, code) in all {
+            assert_eq!(
+                (end.status(), end.text(), end.exit_code()),
+                (status, text, code)
+            );
+            assert_eq!(
+                end.status() == archive::SessionStatus::Complete.as_str(),
+                end.is_complete()
+            );
+        }
     }
 }

@@ -8,6 +8,7 @@
 //! recorded, which the loop takes with [`Timeline::take_events`] and writes in order. It owns no
 //! clock, no device and no file.
 
+use super::setup::EndReason;
 use crate::engine::snapshot::{Command, EpochState};
 use crate::frames::arena_bearing_after_rotation_deg;
 use crate::protocol::{ArenaMove, FlightRules, Protocol};
@@ -37,8 +38,8 @@ pub(super) struct Timeline {
     pub(super) flying: bool,
     pub(super) stopped_since_s: Option<f64>,
     pub(super) paused: bool,
-    /// Set once the session has ended: (status, reason).
-    pub(super) end: Option<(String, String)>,
+    /// Set once the session has ended.
+    pub(super) end: Option<EndReason>,
     settle_s: f64,
     flight: FlightRules,
     /// True bearing of the arena's 0 mark (for the epoch_start line).
@@ -172,7 +173,7 @@ impl Timeline {
     /// Starts the transition into epoch `next` at `t`: prompt, turn, then the epoch itself.
     pub(super) fn begin_epoch(&mut self, next: usize, t: f64, prompted: bool) {
         if next >= self.epochs.len() {
-            self.finish_timeline(t, "complete", "protocol finished");
+            self.finish_timeline(t, EndReason::ProtocolFinished);
             return;
         }
         if !prompted && let Some(text) = self.epochs[next].prompt.clone() {
@@ -236,7 +237,7 @@ impl Timeline {
         self.begin_epoch(k + 1, t, false)
     }
 
-    pub(super) fn finish_timeline(&mut self, t: f64, status: &str, reason: &str) {
+    pub(super) fn finish_timeline(&mut self, t: f64, end: EndReason) {
         if self.end.is_none() {
             if let Phase::Running { k } = self.phase
                 && self.epochs[k].state == EpochState::Current
@@ -245,7 +246,7 @@ impl Timeline {
             }
             self.phase = Phase::Finished;
             self.t_s = self.t_s.max(t);
-            self.end = Some((status.to_string(), reason.to_string()));
+            self.end = Some(end);
         }
     }
 
@@ -308,7 +309,7 @@ impl Timeline {
             if abort_at.is_some_and(|a| a <= step_to) {
                 let limit = self.flight.abort_after_stopped_s.unwrap_or(0.0);
                 self.event(step_to, "abort", format!("no flight for {limit:.0} s"));
-                self.finish_timeline(step_to, "aborted", "no flight");
+                self.finish_timeline(step_to, EndReason::NoFlight);
                 break;
             }
             if end_at.is_some_and(|a| a <= step_to)
@@ -465,9 +466,9 @@ impl Timeline {
                     .iter()
                     .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
                 if all_done {
-                    self.finish_timeline(t, "complete", "protocol finished");
+                    self.finish_timeline(t, EndReason::ProtocolFinished);
                 } else {
-                    self.finish_timeline(t, "aborted", "ended by the operator");
+                    self.finish_timeline(t, EndReason::EndedByOperator);
                 }
             }
         }

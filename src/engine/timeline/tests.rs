@@ -99,7 +99,7 @@ fn session_aborts_after_too_long_without_flight() {
     advance(&mut e, 6.9, &mut tt);
     assert!(e.end.is_none());
     advance(&mut e, 9.0, &mut tt);
-    assert_eq!(e.end.as_ref().map(|x| x.0.as_str()), Some("aborted"));
+    assert_eq!(e.end.map(EndReason::status), Some("aborted"));
     assert!(
         (e.t_s - 7.0).abs() < 1e-9,
         "aborted at exactly 7 s, not {}",
