@@ -5,11 +5,12 @@
 //! are computed from the epoch clock, not from loop iterations, so a simulated session gives
 //! the same archive whatever the loop's pace), stamps every sample (UTC = anchor + monotonic
 //! seconds), converts frames, attaches sun geometry, marks settle windows, turns and flight,
-//! feeds the summary, appends to the archive and publishes a read-only [`Snapshot`].
+//! feeds the summary, appends to the archive and publishes a read-only
+//! [`Snapshot`](crate::engine::Snapshot).
 //!
 //! The loop is the one owner of time; what it calls are plain parts: the protocol's
-//! [`Timeline`] (`timeline.rs`), the [`Stamper`] of samples (`stamp.rs`), the live
-//! [`Scoring`] (`scoring.rs`) and the snapshot builder and trace (`view.rs`); `setup.rs` holds
+//! `Timeline` (`timeline.rs`), the `Stamper` of samples (`stamp.rs`), the live
+//! `Scoring` (`scoring.rs`) and the snapshot builder and trace (`view.rs`); `setup.rs` holds
 //! what a session is made from and how it ends.
 
 use super::scoring::{Scoring, is_scored};
