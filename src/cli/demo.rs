@@ -207,11 +207,6 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
         },
         Some(operator),
     )?;
-    Ok(
-        if outcome.status == "complete" || outcome.reason.contains("operator") {
-            0
-        } else {
-            1
-        },
-    )
+    // 0 when the protocol finished or the operator ended the session; 1 after the abort rule.
+    Ok(outcome.end.exit_code())
 }

@@ -83,11 +83,6 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         },
         None,
     )?;
-    Ok(
-        if outcome.status == "complete" || outcome.reason.contains("operator") {
-            0
-        } else {
-            1
-        },
-    )
+    // 0 when the protocol finished or the operator ended the session; 1 after the abort rule.
+    Ok(outcome.end.exit_code())
 }

@@ -5,4 +5,11 @@ pub mod snapshot;
 pub use snapshot::{
     Command, EpochRow, EpochState, Health, Prompt, Snapshot, SnapshotCell, TracePoint, TurnRow,
 };
+mod scoring;
 pub mod session;
+mod setup;
+mod stamp;
+#[cfg(test)]
+mod testing;
+mod timeline;
+mod view;

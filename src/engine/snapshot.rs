@@ -26,6 +26,16 @@ pub enum Command {
     EndSession,
 }
 
+impl From<crate::rig::sim::OperatorAction> for Command {
+    /// The simulated operator's marks are the same commands a person sends with a key.
+    fn from(a: crate::rig::sim::OperatorAction) -> Self {
+        match a {
+            crate::rig::sim::OperatorAction::FlightStop => Command::FlightStop,
+            crate::rig::sim::OperatorAction::FlightStart => Command::FlightStart,
+        }
+    }
+}
+
 /// State of an epoch in the table.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]

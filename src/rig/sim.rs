@@ -11,17 +11,26 @@
 //! then barely moves, as a real tethered animal hanging still would). As on a real rig, stops
 //! are marked by the operator: the simulated operator sees each stop and each restart after
 //! [`SimConfig::operator_reaction_s`] and reports it through [`SimOperator::poll`] as
-//! [`Command::FlightStop`] / [`Command::FlightStart`]; the true state is also available from
+//! [`OperatorAction::FlightStop`] / [`OperatorAction::FlightStart`] (the engine turns them into
+//! its operator commands, so the rig does not depend on the engine); the true state is also available from
 //! [`SimOperator::flying`]. [`in_process`] drops the operator (stops happen, nobody marks them);
 //! [`in_process_with_operator`] returns it.
 
 use super::config::DecoderConfig;
 use super::decoder::Pipeline;
 use super::{HeadingSource, RigError, SensorEvent, SensorHealth, Turntable, TurntableEvent};
-use crate::engine::Command;
 use crate::frames::{SensorCalibration, SensorUnit, wrap_360_deg, wrap_signed_deg};
 use std::collections::VecDeque;
 use std::sync::{Arc, Mutex, MutexGuard};
+
+/// A mark the simulated operator makes, as a person at the rig would with a key.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum OperatorAction {
+    /// The animal stopped flying.
+    FlightStop,
+    /// The animal flies again.
+    FlightStart,
+}
 
 /// What the simulated animal steers by.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum, serde::Serialize)]
@@ -206,7 +215,7 @@ pub struct SimWorld {
     motions: Vec<Motion>,
     last_id: u64,
     // operator
-    marks: VecDeque<(f64, Command)>,
+    marks: VecDeque<(f64, OperatorAction)>,
 }
 
 impl SimWorld {
@@ -310,16 +319,20 @@ impl SimWorld {
             self.flying = false;
             let (lo, hi) = self.cfg.stop_duration_s;
             self.stop_end_s = t_s + lo + (hi - lo) * self.rng.uniform();
-            self.marks
-                .push_back((t_s + self.cfg.operator_reaction_s, Command::FlightStop));
+            self.marks.push_back((
+                t_s + self.cfg.operator_reaction_s,
+                OperatorAction::FlightStop,
+            ));
         } else if !self.flying && t_s >= self.stop_end_s {
             self.flying = true;
             self.next_stop_s = t_s
                 + self
                     .rng
                     .exponential(3600.0 / self.cfg.flight_stops_per_hour);
-            self.marks
-                .push_back((t_s + self.cfg.operator_reaction_s, Command::FlightStart));
+            self.marks.push_back((
+                t_s + self.cfg.operator_reaction_s,
+                OperatorAction::FlightStart,
+            ));
         }
         let sigma = self.cfg.heading_noise_deg_per_sqrt_s;
         let noise = self.rng.normal();
@@ -488,7 +501,7 @@ impl SimWorld {
     }
 
     /// Operator marks due at or before `now_s`.
-    pub fn due_marks(&mut self, now_s: f64, out: &mut Vec<(f64, Command)>) {
+    pub fn due_marks(&mut self, now_s: f64, out: &mut Vec<(f64, OperatorAction)>) {
         while self.marks.front().is_some_and(|(t, _)| *t <= now_s) {
             if let Some(m) = self.marks.pop_front() {
                 out.push(m);
@@ -601,7 +614,7 @@ pub struct SimOperator {
 
 impl SimOperator {
     /// Flight stop and start marks the operator makes at or before `now_s`, with their times.
-    pub fn poll(&mut self, now_s: f64, out: &mut Vec<(f64, Command)>) {
+    pub fn poll(&mut self, now_s: f64, out: &mut Vec<(f64, OperatorAction)>) {
         lock(&self.world).due_marks(now_s, out);
     }
 
@@ -821,9 +834,9 @@ mod tests {
         }
         assert!(marks.len() >= 4, "{}", marks.len());
         for pair in marks.chunks(2) {
-            assert_eq!(pair[0].1, Command::FlightStop);
+            assert_eq!(pair[0].1, OperatorAction::FlightStop);
             if pair.len() == 2 {
-                assert_eq!(pair[1].1, Command::FlightStart);
+                assert_eq!(pair[1].1, OperatorAction::FlightStart);
                 assert!(pair[1].0 - pair[0].0 >= 4.0 - 1e-9);
             }
         }

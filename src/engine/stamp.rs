@@ -1,0 +1,184 @@
+//! Stamping and frame conversion of samples.
+//!
+//! A sample's time is session seconds on the monotonic clock; its UTC is the session's anchor
+//! plus those seconds (the wall clock is never read again). Its heading is converted from the
+//! arena frame to the world frame through the arena mark's true bearing and the arena's
+//! position, and the sun's position and the zenith e-vector at that instant are attached.
+
+use crate::archive::SampleRow;
+use crate::frames::{
+    arena_bearing_after_rotation_deg, sun_relative_heading_deg, world_heading_deg,
+};
+use crate::sky::polarization::zenith_evector_deg;
+use crate::sky::sun::{SunPosition, SunTrack};
+use chrono::{DateTime, Duration, Utc};
+
+/// Resolution of `t_s` in the archive (4 decimals): consecutive samples are at least this far
+/// apart.
+pub(super) const T_S_RESOLUTION_S: f64 = 1e-4;
+
+/// The session time of an input stamped `arrival_s`: never before `timeline_s` (a late stamp
+/// must not bend time backwards), and for a sample at least [`T_S_RESOLUTION_S`] after the
+/// previous sample (lines read from a serial port in one burst carry the same arrival stamp;
+/// spreading them keeps `t_s` strictly increasing in the archive).
+pub(super) fn session_time_s(
+    arrival_s: f64,
+    timeline_s: f64,
+    previous_sample_s: Option<f64>,
+    is_sample: bool,
+) -> f64 {
+    let mut t = arrival_s.max(timeline_s);
+    if is_sample && let Some(last) = previous_sample_s {
+        t = t.max(last + T_S_RESOLUTION_S);
+    }
+    t
+}
+
+/// What a sample's frames came to (kept for screens).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct Stamped {
+    /// Session seconds.
+    pub(super) t_s: f64,
+    /// Heading in the arena frame, degrees.
+    pub(super) arena_heading_deg: f64,
+    /// Heading from true north, degrees.
+    pub(super) world_heading_deg: f64,
+    /// Heading relative to the sun's azimuth, degrees.
+    pub(super) sun_relative_heading_deg: f64,
+}
+
+/// Puts UTC stamps, frames and sun geometry on samples.
+#[derive(Debug, Clone)]
+pub(super) struct Stamper {
+    start_utc: DateTime<Utc>,
+    mark_true_deg: f64,
+    sun: SunTrack,
+}
+
+/// The fields of a sample row that come from the timeline rather than from the sample.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct SampleContext {
+    /// The epoch the sample belongs to.
+    pub(super) epoch: usize,
+    /// Arena position (degrees from start) at the sample.
+    pub(super) arena_position_deg: f64,
+    /// The operator's flight mark.
+    pub(super) flying: bool,
+    /// Counted in the epoch's scores.
+    pub(super) scored: bool,
+}
+
+impl Stamper {
+    /// Stamps for a session anchored at `start_utc` whose arena mark points at
+    /// `mark_true_deg` (true bearing) before any turn.
+    pub(super) fn new(start_utc: DateTime<Utc>, mark_true_deg: f64, sun: SunTrack) -> Self {
+        Self {
+            start_utc,
+            mark_true_deg,
+            sun,
+        }
+    }
+
+    /// UTC at session second `t_s` (anchor + monotonic seconds, to the microsecond).
+    pub(super) fn utc_at(&self, t_s: f64) -> DateTime<Utc> {
+        self.start_utc + Duration::microseconds((t_s * 1e6).round() as i64)
+    }
+
+    /// True bearing of the arena mark after the arena turned `position_deg` from its start.
+    pub(super) fn arena_bearing_deg(&self, position_deg: f64) -> f64 {
+        arena_bearing_after_rotation_deg(self.mark_true_deg, position_deg)
+    }
+
+    /// The sun at session second `t_s`, without disturbing the track used for samples.
+    pub(super) fn sun_at(&self, t_s: f64) -> SunPosition {
+        self.sun.clone().at(t_s)
+    }
+
+    /// The archive row of a sample at `t_s` (already made monotonic) with arena heading
+    /// `arena_heading_deg` and raw reading `raw`.
+    pub(super) fn row(
+        &mut self,
+        t_s: f64,
+        raw: f64,
+        arena_heading_deg: f64,
+        ctx: SampleContext,
+    ) -> (SampleRow, Stamped) {
+        let bearing = self.arena_bearing_deg(ctx.arena_position_deg);
+        let world = world_heading_deg(arena_heading_deg, bearing);
+        let sun = self.sun.at(t_s);
+        let sun_rel = sun_relative_heading_deg(world, sun.azimuth_deg);
+        let row = SampleRow {
+            t_utc: self.utc_at(t_s),
+            t_s,
+            epoch: ctx.epoch,
+            arena_heading_deg,
+            arena_bearing_deg: bearing,
+            world_heading_deg: world,
+            sun_azimuth_deg: sun.azimuth_deg,
+            sun_elevation_deg: sun.elevation_deg,
+            flying: ctx.flying,
+            scored: ctx.scored,
+            sun_relative_heading_deg: sun_rel,
+            zenith_evector_deg: zenith_evector_deg(sun.azimuth_deg),
+            raw,
+        };
+        let stamped = Stamped {
+            t_s,
+            arena_heading_deg,
+            world_heading_deg: world,
+            sun_relative_heading_deg: sun_rel,
+        };
+        (row, stamped)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn late_and_burst_stamps_never_go_backwards() {
+        // A stamp before the timeline's time is moved up to it (events and samples alike).
+        assert_eq!(session_time_s(4.0, 5.0, None, false), 5.0);
+        assert_eq!(session_time_s(4.0, 5.0, Some(3.0), true), 5.0);
+        // A burst of samples with one arrival stamp is spread by the archive's resolution.
+        let t1 = session_time_s(5.0, 5.0, Some(5.0), true);
+        assert!((t1 - 5.0001).abs() < 1e-12, "{t1}");
+        // Only samples are spread; other events keep the arrival stamp.
+        assert_eq!(session_time_s(5.0, 5.0, Some(5.0), false), 5.0);
+    }
+
+    #[test]
+    fn rows_carry_utc_frames_and_the_sky() {
+        let start: DateTime<Utc> = "2026-06-14T07:30:00Z".parse().expect("time");
+        let site = crate::rig::config::demo_rig().site;
+        let track = SunTrack::new(
+            site.latitude_deg,
+            site.longitude_deg,
+            site.elevation_m,
+            start,
+        )
+        .expect("sun");
+        // Mark at true 30°, arena turned +90°: the mark points at 120°.
+        let mut s = Stamper::new(start, 30.0, track.clone());
+        let ctx = SampleContext {
+            epoch: 2,
+            arena_position_deg: 90.0,
+            flying: true,
+            scored: false,
+        };
+        let (row, st) = s.row(1.5, 7.0, 45.0, ctx);
+        assert_eq!(row.t_utc, start + Duration::milliseconds(1500));
+        assert_eq!(row.arena_bearing_deg, 120.0);
+        // World heading = arena heading + bearing of the arena's 0 mark (clockwise angles).
+        assert_eq!(row.world_heading_deg, 165.0);
+        assert_eq!(st.world_heading_deg, 165.0);
+        let sun = track.clone().at(1.5);
+        assert_eq!(row.sun_azimuth_deg, sun.azimuth_deg);
+        assert_eq!(row.sun_elevation_deg, sun.elevation_deg);
+        assert_eq!(s.sun_at(1.5), sun);
+        assert_eq!(row.epoch, 2);
+        assert!(row.flying && !row.scored);
+        assert_eq!(row.raw, 7.0);
+    }
+}

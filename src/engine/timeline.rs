@@ -1,0 +1,531 @@
+//! The timeline: the epoch clock, turns, prompts and flight rules of a protocol.
+//!
+//! A plain state machine the engine loop drives: the loop says what time it is
+//! ([`Timeline::advance_to`]), what the operator did ([`Timeline::on_command`]) and what the
+//! turntable answered ([`Timeline::on_turntable`]); the timeline executes epoch ends and the
+//! abort rule at the exact instants they fall on (computed from the epoch clock, not from loop
+//! iterations), commands turns through [`Timeline::drive_turn`] and queues the events it wants
+//! recorded, which the loop takes with [`Timeline::take_events`] and writes in order. It owns no
+//! clock, no device and no file.
+
+use super::setup::EndReason;
+use crate::engine::snapshot::{Command, EpochState};
+use crate::frames::arena_bearing_after_rotation_deg;
+use crate::protocol::{ArenaMove, FlightRules, Protocol};
+use crate::rig::{Turntable, TurntableEvent};
+
+/// An event the timeline asks the loop to record (in the order queued).
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct TimelineEvent {
+    /// Session seconds.
+    pub(super) t_s: f64,
+    /// Event kind (`epoch_start`, `turn_done`, `prompt`...).
+    pub(super) kind: &'static str,
+    /// Free text.
+    pub(super) detail: String,
+}
+
+/// The protocol's timeline and the operator-visible state it depends on.
+#[derive(Debug, Clone)]
+pub(super) struct Timeline {
+    pub(super) epochs: Vec<EpochRt>,
+    pub(super) phase: Phase,
+    /// Time up to which the timeline has been advanced.
+    pub(super) t_s: f64,
+    /// Arena position (degrees from start) after the last completed turn.
+    pub(super) position_deg: f64,
+    pub(super) settle_until_s: f64,
+    pub(super) flying: bool,
+    pub(super) stopped_since_s: Option<f64>,
+    pub(super) paused: bool,
+    /// Set once the session has ended.
+    pub(super) end: Option<EndReason>,
+    settle_s: f64,
+    flight: FlightRules,
+    /// True bearing of the arena's 0 mark (for the epoch_start line).
+    mark_true_deg: f64,
+    events: Vec<TimelineEvent>,
+}
+
+#[derive(Debug, Clone)]
+pub(super) struct EpochRt {
+    pub(super) index: usize,
+    pub(super) condition: String,
+    pub(super) duration_s: f64,
+    pub(super) arena: ArenaMove,
+    pub(super) prompt: Option<String>,
+    /// Planned turn before this epoch (resolved from the plan), degrees.
+    pub(super) planned_turn_deg: f64,
+    pub(super) state: EpochState,
+    /// Arena position (degrees from start) during the epoch.
+    pub(super) position_deg: f64,
+    pub(super) started_s: Option<f64>,
+    pub(super) clock_s: f64,
+    pub(super) flying_s: f64,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub(super) enum PromptKind {
+    /// The protocol's prompt before epoch k.
+    Protocol,
+    /// The operator turns the arena by hand.
+    ManualTurn { by_deg: f64 },
+    /// The turntable failed: turn by hand or skip.
+    TurntableFault { by_deg: f64 },
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub(super) enum Phase {
+    /// Waiting for the operator before epoch `next`.
+    Prompt {
+        next: usize,
+        kind: PromptKind,
+        text: String,
+        since_s: f64,
+    },
+    /// The turntable is turning before epoch `next`.
+    Turning {
+        next: usize,
+        by_deg: f64,
+        from_deg: f64,
+        since_s: f64,
+        commanded: bool,
+    },
+    /// Epoch `k` runs.
+    Running { k: usize },
+    /// All done.
+    Finished,
+}
+
+impl Timeline {
+    /// The timeline of `protocol`, before its first epoch (call [`Timeline::begin_epoch`] with
+    /// 0 to start). Planned turns are resolved here (GoTo relative to where the arena will be).
+    pub(super) fn new(protocol: &Protocol, mark_true_deg: f64) -> Self {
+        let mut pos = 0.0;
+        let mut epochs = Vec::with_capacity(protocol.epochs.len());
+        for e in &protocol.epochs {
+            let turn = e.arena.turn_from_deg(pos);
+            pos += turn;
+            epochs.push(EpochRt {
+                index: e.index,
+                condition: e.condition.clone(),
+                duration_s: e.duration_s,
+                arena: e.arena,
+                prompt: e.prompt.clone(),
+                planned_turn_deg: turn,
+                state: EpochState::Pending,
+                position_deg: pos,
+                started_s: None,
+                clock_s: 0.0,
+                flying_s: 0.0,
+            });
+        }
+        Self {
+            epochs,
+            phase: Phase::Finished,
+            t_s: 0.0,
+            position_deg: 0.0,
+            settle_until_s: 0.0,
+            flying: true,
+            stopped_since_s: None,
+            paused: false,
+            end: None,
+            settle_s: protocol.settle_s,
+            flight: protocol.flight,
+            mark_true_deg,
+            events: Vec::new(),
+        }
+    }
+
+    /// Arena position (degrees from start) at `t`: mid-turn, what the turntable says (if it
+    /// can tell), else the last completed position.
+    pub(super) fn arena_position_at(&self, t: f64, turntable: &dyn Turntable) -> f64 {
+        match &self.phase {
+            Phase::Turning { .. } => turntable.position_deg(t).unwrap_or(self.position_deg),
+            _ => self.position_deg,
+        }
+    }
+
+    /// The events queued since the last call, oldest first.
+    pub(super) fn take_events(&mut self) -> Vec<TimelineEvent> {
+        std::mem::take(&mut self.events)
+    }
+
+    fn event(&mut self, t_s: f64, kind: &'static str, detail: impl Into<String>) {
+        self.events.push(TimelineEvent {
+            t_s,
+            kind,
+            detail: detail.into(),
+        });
+    }
+
+    pub(super) fn current_epoch(&self) -> usize {
+        match &self.phase {
+            Phase::Running { k } => self.epochs[*k].index,
+            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
+                // Samples while getting ready for epoch `next` belong to it (never scored).
+                self.epochs[*next].index
+            }
+            Phase::Finished => self.epochs.last().map(|e| e.index).unwrap_or(0),
+        }
+    }
+
+    /// Starts the transition into epoch `next` at `t`: prompt, turn, then the epoch itself.
+    pub(super) fn begin_epoch(&mut self, next: usize, t: f64, prompted: bool) {
+        if next >= self.epochs.len() {
+            self.finish_timeline(t, EndReason::ProtocolFinished);
+            return;
+        }
+        if !prompted && let Some(text) = self.epochs[next].prompt.clone() {
+            self.event(t, "prompt", text.clone());
+            self.phase = Phase::Prompt {
+                next,
+                kind: PromptKind::Protocol,
+                text,
+                since_s: t,
+            };
+            return;
+        }
+        let by_deg = self.epochs[next].arena.turn_from_deg(self.position_deg);
+        if by_deg.abs() > 1e-9 {
+            return self.start_turn(next, by_deg, t);
+        }
+        self.start_epoch(next, t, false)
+    }
+
+    pub(super) fn start_turn(&mut self, next: usize, by_deg: f64, t: f64) {
+        self.phase = Phase::Turning {
+            next,
+            by_deg,
+            from_deg: self.position_deg,
+            since_s: t,
+            commanded: false,
+        };
+    }
+
+    pub(super) fn start_epoch(&mut self, k: usize, t: f64, turned: bool) {
+        self.epochs[k].state = EpochState::Current;
+        self.epochs[k].started_s = Some(t);
+        self.epochs[k].position_deg = self.position_deg;
+        if turned || k > 0 {
+            self.settle_until_s = t + self.settle_s;
+        } else {
+            self.settle_until_s = t;
+        }
+        let e = &self.epochs[k];
+        let bearing = arena_bearing_after_rotation_deg(self.mark_true_deg, self.position_deg);
+        let detail = format!(
+            "epoch {} of {}; condition {}; arena bearing {:.1} deg; {:.0} s",
+            e.index,
+            self.epochs.len(),
+            e.condition,
+            bearing,
+            e.duration_s
+        );
+        self.phase = Phase::Running { k };
+        self.event(t, "epoch_start", detail)
+    }
+
+    pub(super) fn end_epoch(&mut self, k: usize, t: f64, state: EpochState) {
+        self.epochs[k].state = state;
+        let kind = if state == EpochState::Skipped {
+            "epoch_skipped"
+        } else {
+            "epoch_end"
+        };
+        self.event(t, kind, format!("epoch {}", self.epochs[k].index));
+        self.begin_epoch(k + 1, t, false)
+    }
+
+    pub(super) fn finish_timeline(&mut self, t: f64, end: EndReason) {
+        if self.end.is_none() {
+            if let Phase::Running { k } = self.phase
+                && self.epochs[k].state == EpochState::Current
+            {
+                self.epochs[k].state = EpochState::Done;
+            }
+            self.phase = Phase::Finished;
+            self.t_s = self.t_s.max(t);
+            self.end = Some(end);
+        }
+    }
+
+    /// Is the epoch clock running right now?
+    pub(super) fn clock_runs(&self) -> bool {
+        !self.paused && (self.flying || !self.flight.pause_clock_when_stopped)
+    }
+
+    /// Advances the timeline to `t`, executing epoch ends (and the abort rule) at the exact
+    /// instants they fall on.
+    pub(super) fn advance_to(&mut self, t: f64) {
+        while t > self.t_s && self.end.is_none() {
+            let from = self.t_s;
+            // Abort rule: too long without flight.
+            let abort_at = match (self.flight.abort_after_stopped_s, self.stopped_since_s) {
+                (Some(limit), Some(since)) if !self.flying => Some(since + limit),
+                _ => None,
+            };
+            let end_at = match self.phase {
+                Phase::Running { k } => {
+                    let e = &self.epochs[k];
+                    let runs = self.clock_runs();
+                    let need_clock = (e.duration_s - e.clock_s).max(0.0);
+                    let need_fly = match self.flight.min_flying_s {
+                        Some(m) => (m - e.flying_s).max(0.0),
+                        None => 0.0,
+                    };
+                    let fly_runs = self.flying && !self.paused;
+                    let clock_done_at = if need_clock == 0.0 {
+                        Some(from)
+                    } else if runs {
+                        Some(from + need_clock)
+                    } else {
+                        None
+                    };
+                    let fly_done_at = if need_fly == 0.0 {
+                        Some(from)
+                    } else if fly_runs {
+                        Some(from + need_fly)
+                    } else {
+                        None
+                    };
+                    match (clock_done_at, fly_done_at) {
+                        (Some(a), Some(b)) => Some(a.max(b)),
+                        _ => None,
+                    }
+                }
+                _ => None,
+            };
+            let next_at = [end_at, abort_at]
+                .into_iter()
+                .flatten()
+                .fold(f64::INFINITY, f64::min);
+            let step_to = next_at.min(t).max(from);
+            self.accrue(from, step_to);
+            self.t_s = step_to;
+            if step_to >= t && next_at > t {
+                break;
+            }
+            if abort_at.is_some_and(|a| a <= step_to) {
+                let limit = self.flight.abort_after_stopped_s.unwrap_or(0.0);
+                self.event(step_to, "abort", format!("no flight for {limit:.0} s"));
+                self.finish_timeline(step_to, EndReason::NoFlight);
+                break;
+            }
+            if end_at.is_some_and(|a| a <= step_to)
+                && let Phase::Running { k } = self.phase
+            {
+                self.end_epoch(k, step_to, EpochState::Done);
+            }
+            if step_to >= t {
+                break;
+            }
+        }
+    }
+
+    pub(super) fn accrue(&mut self, from: f64, to: f64) {
+        let dt = to - from;
+        if dt <= 0.0 {
+            return;
+        }
+        if let Phase::Running { k } = self.phase {
+            let runs = self.clock_runs();
+            let e = &mut self.epochs[k];
+            if runs {
+                e.clock_s += dt;
+            }
+            if self.flying && !self.paused {
+                e.flying_s += dt;
+            }
+        }
+    }
+
+    pub(super) fn set_flying(&mut self, t: f64, flying: bool) {
+        if flying == self.flying {
+            return;
+        }
+        self.advance_to(t);
+        self.flying = flying;
+        if flying {
+            self.stopped_since_s = None;
+            self.event(t, "flight_start", "");
+        } else {
+            self.stopped_since_s = Some(t);
+            self.event(t, "flight_stop", "");
+        }
+    }
+
+    pub(super) fn on_turntable(&mut self, ev: TurntableEvent) {
+        match ev {
+            TurntableEvent::Done { t_s, position_deg } => {
+                self.advance_to(t_s);
+                if let Phase::Turning {
+                    next,
+                    by_deg,
+                    from_deg,
+                    ..
+                } = self.phase.clone()
+                {
+                    self.position_deg = from_deg + by_deg;
+                    let reported = position_deg
+                        .map(|p| format!("; reported position {p:.1} deg"))
+                        .unwrap_or_default();
+                    self.event(t_s, "turn_done", format!("{by_deg:+.1} deg{reported}"));
+                    self.start_epoch(next, t_s, true);
+                } else {
+                    self.event(t_s, "turntable_reply", "unexpected done");
+                }
+            }
+            TurntableEvent::Fault { t_s, text } => {
+                self.advance_to(t_s);
+                self.event(t_s, "turn_fault", text.clone());
+                if let Phase::Turning {
+                    next,
+                    by_deg,
+                    from_deg,
+                    ..
+                } = self.phase.clone()
+                {
+                    self.position_deg = from_deg;
+                    let prompt = format!(
+                        "Turntable fault ({text}). Turn the arena {by_deg:+.0}° by hand (clockwise seen from above is +), then press Enter"
+                    );
+                    self.event(t_s, "prompt", prompt.clone());
+                    self.phase = Phase::Prompt {
+                        next,
+                        kind: PromptKind::TurntableFault { by_deg },
+                        text: prompt,
+                        since_s: t_s,
+                    };
+                }
+            }
+        }
+    }
+
+    pub(super) fn on_command(&mut self, t: f64, cmd: Command, turntable: &mut dyn Turntable) {
+        self.advance_to(t);
+        match cmd {
+            Command::FlightStop => self.set_flying(t, false),
+            Command::FlightStart => self.set_flying(t, true),
+            Command::Note(text) => self.event(t, "note", text),
+            Command::Pause => {
+                if !self.paused {
+                    self.paused = true;
+                    self.event(t, "pause", "");
+                }
+            }
+            Command::Resume => {
+                if self.paused {
+                    self.paused = false;
+                    self.event(t, "resume", "");
+                }
+            }
+            Command::SkipEpoch => match self.phase.clone() {
+                Phase::Running { k } => self.end_epoch(k, t, EpochState::Skipped),
+                Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
+                    self.epochs[next].state = EpochState::Skipped;
+                    self.event(
+                        t,
+                        "epoch_skipped",
+                        format!("epoch {}", self.epochs[next].index),
+                    );
+                    self.begin_epoch(next + 1, t, false);
+                }
+                Phase::Finished => {}
+            },
+            Command::ConfirmPrompt => {
+                if let Phase::Prompt { next, kind, .. } = self.phase.clone() {
+                    self.event(t, "prompt_confirmed", "");
+                    match kind {
+                        PromptKind::Protocol => {
+                            let by_deg = self.epochs[next].arena.turn_from_deg(self.position_deg);
+                            if by_deg.abs() > 1e-9 {
+                                self.start_turn(next, by_deg, t);
+                                self.drive_turn(turntable);
+                            } else {
+                                self.start_epoch(next, t, false);
+                            }
+                        }
+                        PromptKind::ManualTurn { by_deg }
+                        | PromptKind::TurntableFault { by_deg } => {
+                            self.position_deg += by_deg;
+                            self.event(
+                                t,
+                                "turn_done",
+                                format!("{by_deg:+.1} deg (by hand, confirmed)"),
+                            );
+                            self.start_epoch(next, t, true);
+                        }
+                    }
+                }
+            }
+            Command::EndSession => {
+                self.event(t, "end_requested", "by the operator");
+                let all_done = self
+                    .epochs
+                    .iter()
+                    .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
+                if all_done {
+                    self.finish_timeline(t, EndReason::ProtocolFinished);
+                } else {
+                    self.finish_timeline(t, EndReason::EndedByOperator);
+                }
+            }
+        }
+    }
+
+    pub(super) fn manual_turn_prompt(&mut self, next: usize, by_deg: f64, t: f64) {
+        let text = format!(
+            "Turn the arena {by_deg:+.0}° ({}), then press Enter",
+            if by_deg >= 0.0 {
+                "clockwise seen from above"
+            } else {
+                "counterclockwise seen from above"
+            }
+        );
+        self.event(t, "prompt", text.clone());
+        self.phase = Phase::Prompt {
+            next,
+            kind: PromptKind::ManualTurn { by_deg },
+            text,
+            since_s: t,
+        };
+    }
+
+    /// If the timeline has just entered a turn, command it (or prompt for a manual one).
+    pub(super) fn drive_turn(&mut self, turntable: &mut dyn Turntable) {
+        loop {
+            let Phase::Turning {
+                next,
+                by_deg,
+                since_s,
+                commanded: false,
+                ..
+            } = self.phase.clone()
+            else {
+                return;
+            };
+            if let Phase::Turning { commanded, .. } = &mut self.phase {
+                *commanded = true;
+            }
+            if turntable.is_manual() {
+                return self.manual_turn_prompt(next, by_deg, since_s);
+            }
+            self.event(
+                since_s,
+                "turn_commanded",
+                format!("{by_deg:+.1} deg before epoch {}", self.epochs[next].index),
+            );
+            if let Err(e) = turntable.start_turn(since_s, by_deg) {
+                self.on_turntable(TurntableEvent::Fault {
+                    t_s: since_s,
+                    text: e.to_string(),
+                });
+            }
+            // A fault may have moved us on; loop in case a new turn is pending.
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests;
