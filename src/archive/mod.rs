@@ -5,7 +5,7 @@
 //! - `session.json` ([`SessionMeta`]): written atomically (temporary file, fsync, rename,
 //!   fsync of the folder) at the start with status `running`, and again when the session ends;
 //! - `samples.csv` ([`SAMPLE_COLUMNS`]): one row per sample. `t_utc` RFC 3339 UTC with
-//!   milliseconds (truncated), `t_s` with 4 decimals, angles with 3 decimals (directions in
+//!   milliseconds (truncated), `t_s` with 6 decimals (microseconds), angles with 3 decimals (directions in
 //!   [0, 360), `zenith_evector_deg` in [0, 180)), `sun_elevation_deg` with 3 decimals, `flying`
 //!   and `scored` 0/1, `raw` the shortest text that reads back to the exact value received;
 //! - `events.csv` ([`EVENT_COLUMNS`]): `detail` (and `kind`) quoted per RFC 4180 when needed;
@@ -175,8 +175,9 @@ pub const LOCK_FILE: &str = ".lock";
 
 /// Decimals written for angles (degrees) in `samples.csv`: 3 (a thousandth of a degree).
 pub const ANGLE_DECIMALS: u32 = 3;
-/// Decimals written for `t_s` (seconds) in both CSV files: 4 (a tenth of a millisecond).
-pub const T_S_DECIMALS: u32 = 4;
+/// Decimals written for `t_s` (seconds) in the CSV files: 6 (a microsecond, so a sensor
+/// faster than 10 kHz keeps its own arrival times).
+pub const T_S_DECIMALS: u32 = 6;
 
 /// Everything that can go wrong in the archive. Every variant names the file (and line or
 /// field) it is about.

@@ -1,7 +1,7 @@
 //! The session writer: append-only CSV with periodic fsync, atomic JSON, a lock file.
 //!
 //! Number formats in the CSV files: angles with 3 decimals (directions reduced to [0, 360),
-//! axes to [0, 180)), `sun_elevation_deg` with 3 decimals, `t_s` with 4 decimals, `raw` as the
+//! axes to [0, 180)), `sun_elevation_deg` with 3 decimals, `t_s` with 6 decimals, `raw` as the
 //! shortest text that reads back to the exact value, instants RFC 3339 UTC with milliseconds.
 
 use std::fs::{File, OpenOptions};

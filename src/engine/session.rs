@@ -18,6 +18,7 @@ pub use super::setup::{
     EndReason, EngineClock, EngineError, Outcome, SessionSetup, Speed, local_offset_for,
 };
 use super::stamp::{SampleContext, Stamped, Stamper, session_time_s};
+use super::tally::SecondTally;
 use super::timeline::{Phase, Timeline};
 use super::view::Trace;
 use crate::archive::{self, EventRow, SessionMeta, SessionWriter, SummaryBuilder};
@@ -50,6 +51,8 @@ pub struct Engine {
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
     pub(super) sensor_lost: bool,
+    /// Samples a burst could not stamp at or before the clock, counted per second.
+    pub(super) dropped: SecondTally,
     pub(super) samples: u64,
     /// The last sample's frames.
     pub(super) last_sample: Option<Stamped>,
@@ -100,6 +103,7 @@ impl Engine {
             local_offset,
             timeline,
             sensor_lost: false,
+            dropped: SecondTally::default(),
             samples: 0,
             last_sample: None,
             trace: Trace::default(),
@@ -129,7 +133,34 @@ impl Engine {
         kind: &str,
         detail: impl Into<String>,
     ) -> Result<(), EngineError> {
-        let detail = detail.into();
+        self.close_seconds(Some(t_s))?;
+        self.write_event(t_s, kind, detail.into())
+    }
+
+    /// Writes the per-second counts whose second lies before `t_s` (all of them at the end,
+    /// `None`), so that `events.csv` stays in time order.
+    fn close_seconds(&mut self, t_s: Option<f64>) -> Result<(), EngineError> {
+        let at_most = t_s.unwrap_or(self.timeline.t_s);
+        let closed = match t_s {
+            Some(t) => self.dropped.due(t),
+            None => self.dropped.close(),
+        };
+        if let Some(c) = closed {
+            self.write_event(
+                c.row_time_s(at_most),
+                "samples_dropped",
+                format!(
+                    "{} samples in {:.0}-{:.0} s came faster than the archive's 1 µs resolution can stamp them",
+                    c.count,
+                    c.start_s,
+                    c.start_s + 1.0
+                ),
+            )?;
+        }
+        Ok(())
+    }
+
+    fn write_event(&mut self, t_s: f64, kind: &str, detail: String) -> Result<(), EngineError> {
         let row = EventRow {
             t_utc: self.stamper.utc_at(t_s),
             t_s,
@@ -452,12 +483,20 @@ impl Engine {
                 | SensorEvent::Lost { t_s }
                 | SensorEvent::Back { t_s } => *t_s,
             };
-            let t = session_time_s(
+            let Some(t) = session_time_s(
                 t,
                 self.timeline.t_s,
                 self.last_sample.map(|s| s.t_s),
                 matches!(ev, SensorEvent::Sample { .. }),
-            );
+                now,
+            ) else {
+                // No stamp of its own at or before the clock: dropped and counted, never
+                // stamped in the future.
+                let t = self.timeline.t_s;
+                self.close_seconds(Some(t))?;
+                self.dropped.add(t);
+                continue;
+            };
             self.poll_turntable(t, turntable, tt_buf)?;
             if let Some(op) = operator.as_deref_mut() {
                 marks.clear();
@@ -515,6 +554,7 @@ impl Engine {
         let end = self.timeline.end.unwrap_or(EndReason::Stopped);
         let (status, reason) = (end.status(), end.text());
         let t_end = self.timeline.t_s;
+        self.close_seconds(None)?;
         self.event(t_end, "session_end", format!("{status}: {reason}"))?;
         for l in std::mem::take(&mut self.progress_lines) {
             progress(&l);
