@@ -53,6 +53,8 @@ pub struct Engine {
     pub(super) sensor_lost: bool,
     /// Samples a burst could not stamp at or before the clock, counted per second.
     pub(super) dropped: SecondTally,
+    /// Malformed sensor lines, counted per second (the lines go to `malformed.csv`).
+    pub(super) malformed: SecondTally,
     pub(super) samples: u64,
     /// The last sample's frames.
     pub(super) last_sample: Option<Stamped>,
@@ -104,6 +106,7 @@ impl Engine {
             timeline,
             sensor_lost: false,
             dropped: SecondTally::default(),
+            malformed: SecondTally::default(),
             samples: 0,
             last_sample: None,
             trace: Trace::default(),
@@ -141,6 +144,23 @@ impl Engine {
     /// `None`), so that `events.csv` stays in time order.
     fn close_seconds(&mut self, t_s: Option<f64>) -> Result<(), EngineError> {
         let at_most = t_s.unwrap_or(self.timeline.t_s);
+        let closed = match t_s {
+            Some(t) => self.malformed.due(t),
+            None => self.malformed.close(),
+        };
+        if let Some(c) = closed {
+            self.write_event(
+                c.row_time_s(at_most),
+                "malformed_lines",
+                format!(
+                    "{} malformed sensor line{} in {:.0}-{:.0} s (the lines are in malformed.csv)",
+                    c.count,
+                    if c.count == 1 { "" } else { "s" },
+                    c.start_s,
+                    c.start_s + 1.0
+                ),
+            )?;
+        }
         let closed = match t_s {
             Some(t) => self.dropped.due(t),
             None => self.dropped.close(),
@@ -517,8 +537,17 @@ impl Engine {
                     arena_heading_deg,
                     ..
                 } => self.on_sample(t, raw, arena_heading_deg, turntable)?,
-                SensorEvent::Malformed { reason, text, .. } => {
-                    self.event(t, "malformed_line", format!("{reason}: {text}"))?
+                SensorEvent::Malformed { reason, line, .. } => {
+                    self.close_seconds(Some(t))?;
+                    self.malformed.add(t);
+                    if let Some(w) = self.writer.as_mut() {
+                        w.append_malformed(&archive::MalformedRow {
+                            t_utc: self.stamper.utc_at(t),
+                            t_s: t,
+                            reason,
+                            line,
+                        })?;
+                    }
                 }
                 SensorEvent::Lost { .. } => {
                     self.sensor_lost = true;
