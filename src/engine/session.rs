@@ -26,11 +26,12 @@ use crate::clock::Clock;
 use crate::engine::snapshot::{Command, SnapshotCell};
 use crate::rig::sim::{OperatorAction, SimOperator};
 use crate::rig::{HeadingSource, SensorEvent, Turntable, TurntableEvent};
+use crate::signals::{StopSignal, stop_signal};
 use crate::sky::sun::SunTrack;
 use chrono::FixedOffset;
 use std::collections::VecDeque;
 use std::path::PathBuf;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::AtomicUsize;
 use std::sync::mpsc::Receiver;
 
 /// Session seconds of sim time advanced per loop iteration at `--speed max`.
@@ -299,8 +300,9 @@ pub struct Wiring<'a> {
     pub cell: &'a SnapshotCell,
     /// Operator commands.
     pub commands: &'a Receiver<Command>,
-    /// Set from a signal handler: end the session properly.
-    pub stop: &'a AtomicBool,
+    /// Set from a signal handler to the signal's number: end the session properly and record
+    /// which signal it was ([`crate::signals::received`]).
+    pub stop: &'a AtomicUsize,
     /// Progress lines (headless runs print them).
     pub progress: &'a mut dyn FnMut(&str),
     /// Confirm operator prompts by itself after this many session seconds (headless demo).
@@ -408,7 +410,7 @@ impl Engine {
                 sensor,
                 turntable,
                 &mut bufs,
-                commands,
+                (commands, stop),
                 sim_operator.as_mut(),
             );
             if let Err(e) = step {
@@ -424,9 +426,9 @@ impl Engine {
                 self.on_command(t, Command::ConfirmPrompt, turntable)?;
                 self.drive_turn(turntable)?;
             }
-            if stop.load(Ordering::SeqCst) && !stop_sent {
+            if !stop_sent && let Some(sig) = stop_signal(stop) {
                 stop_sent = true;
-                self.on_command(now, Command::EndSession, turntable)?;
+                self.end_by_signal(now, sig)?;
             }
             if let Some(wr) = self.writer.as_mut() {
                 match wr.sync_if_due() {
@@ -467,7 +469,7 @@ impl Engine {
                 std::thread::sleep(std::time::Duration::from_millis(5));
             }
         }
-        if let Some(e) = fatal {
+        if let Some(e) = fatal.map(EngineError::named_limit) {
             // Keep what reached the disk: try to flush, then report.
             if let Some(wr) = self.writer.as_mut() {
                 let _ = wr.sync_now();
@@ -484,7 +486,7 @@ impl Engine {
         sensor: &mut dyn HeadingSource,
         turntable: &mut dyn Turntable,
         bufs: &mut Buffers,
-        commands: &Receiver<Command>,
+        (commands, stop): (&Receiver<Command>, &AtomicUsize),
         mut operator: Option<&mut SimOperator>,
     ) -> Result<(), EngineError> {
         let Buffers {
@@ -565,6 +567,10 @@ impl Engine {
         self.drive_turn(turntable)?;
         while self.timeline.end.is_none() {
             match commands.try_recv() {
+                // A screen forwards a signal as EndSession: record the signal itself.
+                Ok(Command::EndSession) if let Some(sig) = stop_signal(stop) => {
+                    self.end_by_signal(now, sig)?;
+                }
                 Ok(cmd) => {
                     self.on_command(now, cmd, turntable)?;
                     self.drive_turn(turntable)?;
@@ -573,6 +579,13 @@ impl Engine {
             }
         }
         Ok(())
+    }
+
+    /// Ends the session on a termination signal, naming it in the events and `end_reason`.
+    fn end_by_signal(&mut self, t: f64, sig: StopSignal) -> Result<(), EngineError> {
+        self.timeline
+            .end_requested(t, super::setup::EndReason::Signal(sig));
+        self.record_timeline()
     }
 
     fn close(
