@@ -36,6 +36,9 @@ use std::sync::mpsc::Receiver;
 
 /// Session seconds of sim time advanced per loop iteration at `--speed max`.
 const MAX_SPEED_STEP_S: f64 = 0.05;
+/// Suspended time, seconds, that makes a gap worth an event (the boot-time and monotonic
+/// clocks drift apart by far less).
+const SUSPEND_GAP_MIN_S: f64 = 0.5;
 /// Recent event lines kept for screens.
 const RECENT_EVENTS: usize = 12;
 
@@ -56,6 +59,8 @@ pub struct Engine {
     pub(super) dropped: SecondTally,
     /// Malformed sensor lines, counted per second (the lines go to `malformed.csv`).
     pub(super) malformed: SecondTally,
+    /// Suspended seconds already marked as events.
+    pub(super) suspended_seen_s: f64,
     pub(super) samples: u64,
     /// The last sample's frames.
     pub(super) last_sample: Option<Stamped>,
@@ -108,6 +113,7 @@ impl Engine {
             sensor_lost: false,
             dropped: SecondTally::default(),
             malformed: SecondTally::default(),
+            suspended_seen_s: 0.0,
             samples: 0,
             last_sample: None,
             trace: Trace::default(),
@@ -262,6 +268,30 @@ impl Engine {
         self.record_timeline()
     }
 
+    /// Marks a suspend of the computer as an event when the clock reports more suspended time
+    /// than already marked (`suspended_total_s` since the session started). The real clock
+    /// counts suspended time, so `t_s` and `t_utc` stay true; the event says why no samples
+    /// came in the gap.
+    pub(super) fn note_suspend(
+        &mut self,
+        now: f64,
+        suspended_total_s: f64,
+    ) -> Result<(), EngineError> {
+        let gap = suspended_total_s - self.suspended_seen_s;
+        if gap < SUSPEND_GAP_MIN_S {
+            return Ok(());
+        }
+        self.suspended_seen_s = suspended_total_s;
+        let t = now.max(self.timeline.t_s);
+        self.event(
+            t,
+            "suspended",
+            format!(
+                "the computer was suspended for {gap:.1} s before this; session time counted it, no samples were taken in the gap"
+            ),
+        )
+    }
+
     /// Stamps, converts, archives and scores one sample at `t` (already monotonic).
     pub(super) fn on_sample(
         &mut self,
@@ -328,6 +358,7 @@ const PROGRESS_KINDS: &[&str] = &[
     "prompt_confirmed",
     "sensor_lost",
     "sensor_back",
+    "suspended",
     "flight_stop",
     "flight_start",
     "abort",
@@ -403,7 +434,11 @@ impl Engine {
                     c.advance_to(n);
                     n
                 }
-                EngineClock::Real(c) => c.now_s(),
+                EngineClock::Real(c) => {
+                    let now = c.now_s();
+                    self.note_suspend(now, c.suspended_s())?;
+                    now
+                }
             };
             let step = self.step(
                 now,
