@@ -25,7 +25,7 @@ fn posix_clock_s(id: libc::clockid_t) -> Option<f64> {
     };
     // SAFETY: ts is a valid, writable timespec.
     let rc = unsafe { libc::clock_gettime(id, &mut ts) };
-    (rc == 0).then(|| ts.tv_sec as f64 + ts.tv_nsec as f64 * 1e-9)
+    (rc == 0).then_some(ts.tv_sec as f64 + ts.tv_nsec as f64 * 1e-9)
 }
 
 /// Real time from a monotonic clock that keeps counting while the computer is suspended
