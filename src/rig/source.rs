@@ -517,7 +517,8 @@ mod tests {
 
     #[test]
     fn unreadable_port_names_file_line_field() {
-        let text = crate::rig::config::TEMPLATE.replace("/dev/ttyUSB0", "/nonexistent/ttyNOPE");
+        let text =
+            crate::rig::config::filled_example().replace("/dev/ttyUSB0", "/nonexistent/ttyNOPE");
         let rig = crate::rig::config::parse_rig(&text, "rig.toml").unwrap();
         let e = open_sensor(&rig, Arc::new(SimClock::new()))
             .err()
