@@ -150,3 +150,112 @@ fn run_requires_an_animal_id() {
     assert!(stderr(&out).contains("--animal"), "{}", stderr(&out));
     assert!(!dir.path().join("s").exists());
 }
+
+// ---- point 11: replay lines with the stream decoder's limits; capped rig/protocol reads ------
+
+use skybearing::clock::SimClock;
+use skybearing::rig::config::{ReplayPace, SensorSource, demo_rig};
+use skybearing::rig::{SensorEvent, open_sensor};
+use std::sync::Arc;
+
+fn replay(path: &Path) -> Box<dyn skybearing::rig::HeadingSource> {
+    let mut rig = demo_rig();
+    rig.sensor.decoder.time_column = None;
+    rig.sensor.source = SensorSource::Replay {
+        path: path.to_path_buf(),
+        pace: ReplayPace::Fast,
+    };
+    open_sensor(&rig, Arc::new(SimClock::new())).unwrap()
+}
+
+fn raws(out: &[SensorEvent]) -> Vec<f64> {
+    out.iter()
+        .filter_map(|e| match e {
+            SensorEvent::Sample { raw, .. } => Some(*raw),
+            _ => None,
+        })
+        .collect()
+}
+
+#[test]
+fn replay_splits_cr_only_and_crlf_lines_and_keeps_a_last_line_without_newline() {
+    let dir = tempfile::tempdir().unwrap();
+    let f = write(dir.path(), "cr.txt", "10\r20\r\r30\r\n40\n50");
+    let mut src = replay(&f);
+    let mut out = Vec::new();
+    src.drain(0.5, &mut out).unwrap();
+    assert_eq!(raws(&out), [10.0, 20.0, 30.0, 40.0, 50.0]);
+    assert_eq!(src.health().malformed, 0);
+}
+
+#[test]
+fn replay_of_dev_zero_flags_one_over_long_line_and_returns() {
+    let mut src = replay(Path::new("/dev/zero"));
+    let mut out = Vec::new();
+    for k in 0..5 {
+        src.drain(0.1 * f64::from(k), &mut out).unwrap();
+    }
+    let malformed: Vec<&SensorEvent> = out
+        .iter()
+        .filter(|e| matches!(e, SensorEvent::Malformed { .. }))
+        .collect();
+    assert_eq!(malformed.len(), 1, "{out:?}");
+    match malformed[0] {
+        SensorEvent::Malformed { reason, .. } => {
+            assert!(reason.contains("longer than 256 bytes"), "{reason}")
+        }
+        e => panic!("{e:?}"),
+    }
+    assert!(raws(&out).is_empty());
+}
+
+#[test]
+fn stream_decoder_keeps_a_last_line_without_newline_at_end_of_input() {
+    use skybearing::rig::decoder::Pipeline;
+    let cfg = demo_rig();
+    let mut p = Pipeline::new(
+        skybearing::rig::config::DecoderConfig::default(),
+        cfg.calibration,
+        1.0,
+        0.0,
+    );
+    let mut out = Vec::new();
+    p.feed(0.1, b"10\r20\n30", &mut out);
+    assert_eq!(raws(&out), [10.0, 20.0]);
+    p.finish(0.2, &mut out);
+    assert_eq!(raws(&out), [10.0, 20.0, 30.0]);
+}
+
+/// Runs the binary with its address space capped at 1 GiB, so an unbounded read fails fast
+/// instead of taking the machine's memory.
+fn capped(cmd: &mut Command) -> Output {
+    use std::os::unix::process::CommandExt;
+    // SAFETY: setrlimit is async-signal-safe and touches only the child.
+    unsafe {
+        cmd.pre_exec(|| {
+            let lim = libc::rlimit {
+                rlim_cur: 1 << 30,
+                rlim_max: 1 << 30,
+            };
+            libc::setrlimit(libc::RLIMIT_AS, &lim);
+            Ok(())
+        });
+    }
+    cmd.output().unwrap()
+}
+
+#[test]
+fn rig_and_protocol_files_that_are_dev_zero_are_refused_with_a_size_error() {
+    let out = capped(bin().args(["rig", "check", "/dev/zero"]));
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert_eq!(
+        stderr(&out).trim(),
+        "skybearing: error: /dev/zero: cannot read rig file: larger than 4 MiB: not a rig or protocol file"
+    );
+    let out = capped(bin().args(["plan", "--protocol", "/dev/zero"]));
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert_eq!(
+        stderr(&out).trim(),
+        "skybearing: error: /dev/zero: cannot read protocol file: larger than 4 MiB: not a rig or protocol file"
+    );
+}

@@ -168,12 +168,12 @@ pub enum TurntableConfig {
 #[derive(Debug, thiserror::Error)]
 pub enum RigFileError {
     /// The file could not be read.
-    #[error("{file}: cannot read rig file: {source}")]
+    #[error("{file}: cannot read rig file: {message}")]
     Read {
         /// The file.
         file: String,
         /// Why.
-        source: std::io::Error,
+        message: String,
     },
     /// A field is missing, unknown or wrong.
     #[error("{file}:{line}: {field}: {message}")]
@@ -430,9 +430,16 @@ const SIM_IN_RIG_FILE: &str = "\"sim\" is the built-in simulator of `skybearing 
 /// Reads and checks a rig file.
 pub fn load_rig(path: &Path) -> Result<Rig, RigFileError> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| RigFileError::Read {
-        file: name.clone(),
-        source,
+    let text = crate::textfile::read_text_capped(path).map_err(|e| match e {
+        crate::textfile::TextFileError::NotUtf8 { line, .. } => RigFileError::Syntax {
+            file: name.clone(),
+            line,
+            message: e.to_string(),
+        },
+        other => RigFileError::Read {
+            file: name.clone(),
+            message: other.to_string(),
+        },
     })?;
     parse_rig(&text, &name)
 }
