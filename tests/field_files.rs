@@ -259,3 +259,150 @@ fn rig_and_protocol_files_that_are_dev_zero_are_refused_with_a_size_error() {
         "skybearing: error: /dev/zero: cannot read protocol file: larger than 4 MiB: not a rig or protocol file"
     );
 }
+
+// ---- point 15: capped durations, broken pipes, not-UTF-8 files ---------------------------------
+
+#[test]
+fn plan_refuses_huge_durations_and_settle_windows_naming_the_field() {
+    let dir = tempfile::tempdir().unwrap();
+    for (text, want) in [
+        (
+            "name = \"x\"\nsettle_s = 1\n[[epochs]]\nduration_s = 1e9\n",
+            ":4: epochs[1].duration_s: must be at most 86400 s (24 hours) (got 1000000000)",
+        ),
+        (
+            "name = \"x\"\nsettle_s = 1\n[[epochs]]\nduration_s = 1e300\n",
+            ":4: epochs[1].duration_s: must be at most 86400 s",
+        ),
+        (
+            "name = \"x\"\nsettle_s = 1e308\n[[epochs]]\nduration_s = 60\n",
+            ":2: settle_s: must be at most 3600 s (1 hour)",
+        ),
+        (
+            "name = \"x\"\nsettle_s = 1\n[[epochs]]\ncount = 4\nduration_s = 86400\n",
+            ": epochs: total duration 96 h 00 min 00 s is over the limit of 259200 s (3 days)",
+        ),
+    ] {
+        let p = write(dir.path(), "p.toml", text);
+        let out = capped(
+            bin()
+                .args(["plan", "--start", "2026-06-21T08:00:00Z", "--protocol"])
+                .arg(&p),
+        );
+        let err = stderr(&out);
+        assert_eq!(out.status.code(), Some(2), "{text}: {err}");
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(err.contains(want), "{text}: {err}");
+    }
+    // A whole day is still allowed.
+    let p = write(
+        dir.path(),
+        "p.toml",
+        "name = \"x\"\nsettle_s = 1\n[[epochs]]\nduration_s = 86400\n",
+    );
+    let out = capped(
+        bin()
+            .args(["plan", "--start", "2026-06-21T08:00:00Z", "--protocol"])
+            .arg(&p),
+    );
+    assert!(out.status.success(), "{}", stderr(&out));
+}
+
+#[test]
+fn ten_thousand_one_second_epochs_plan() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = write(
+        dir.path(),
+        "p.toml",
+        "name = \"many\"\nsettle_s = 0\n[[epochs]]\ncount = 10000\nduration_s = 1\n",
+    );
+    let out = bin()
+        .args([
+            "plan",
+            "--json",
+            "--start",
+            "2026-06-21T08:00:00Z",
+            "--protocol",
+        ])
+        .arg(&p)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["epochs"].as_array().unwrap().len(), 10_000);
+    assert_eq!(v["total_duration_s"], 10_000.0);
+}
+
+/// Runs a command whose standard output is a pipe closed before it writes.
+fn into_closed_pipe(cmd: &mut Command) -> std::process::ExitStatus {
+    let mut child = cmd
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    drop(child.stdout.take());
+    let mut err = String::new();
+    std::io::Read::read_to_string(&mut child.stderr.take().unwrap(), &mut err).unwrap();
+    let status = child.wait().unwrap();
+    assert!(!err.contains("panicked"), "{err}");
+    assert!(!err.contains("Broken pipe"), "{err}");
+    status
+}
+
+#[test]
+fn check_json_and_plan_json_into_a_closed_pipe_exit_quietly() {
+    use std::os::unix::process::ExitStatusExt;
+    let dir = tempfile::tempdir().unwrap();
+    let s = into_closed_pipe(bin().arg("check").arg(dir.path()).arg("--json"));
+    assert!(
+        s.signal() == Some(libc::SIGPIPE) || s.code() == Some(1),
+        "{s:?}"
+    );
+    let p = write(
+        dir.path(),
+        "p.toml",
+        "name = \"many\"\nsettle_s = 0\n[[epochs]]\ncount = 10000\nduration_s = 1\n",
+    );
+    let s = into_closed_pipe(
+        bin()
+            .args([
+                "plan",
+                "--json",
+                "--start",
+                "2026-06-21T08:00:00Z",
+                "--protocol",
+            ])
+            .arg(&p),
+    );
+    assert!(s.signal() == Some(libc::SIGPIPE) || s.success(), "{s:?}");
+}
+
+#[test]
+fn protocol_and_rig_files_that_are_not_utf8_are_named_by_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("p.toml");
+    std::fs::write(
+        &p,
+        b"name = \"x\"\nsettle_s = 1\ndescription = \"caf\xe9\"\n[[epochs]]\nduration_s = 5\n",
+    )
+    .unwrap();
+    let out = bin().args(["plan", "--protocol"]).arg(&p).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains(&format!("{}:3: not UTF-8 text at line 3", p.display())),
+        "{}",
+        stderr(&out)
+    );
+    let r = dir.path().join("rig.toml");
+    let mut bytes = skybearing::rig::config::filled_example().into_bytes();
+    let at = String::from_utf8_lossy(&bytes).find("Larkfield").unwrap();
+    bytes[at] = 0xff;
+    std::fs::write(&r, bytes).unwrap();
+    let out = bin().args(["rig", "check"]).arg(&r).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr(&out).contains(&format!("{}:12: not UTF-8 text at line 12", r.display())),
+        "{}",
+        stderr(&out)
+    );
+}
