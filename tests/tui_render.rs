@@ -66,7 +66,7 @@ fn main_screen_checks(lines: &[String], snap: &Snapshot) {
     // Dial with world-frame cardinal labels, trace axis.
     must_find(lines, "dial · world");
     must_find(lines, "heading trace · world");
-    must_find(lines, "360");
+    must_find(lines, "360°");
     // Epoch table: one row per epoch with its condition and bearing, in order.
     let header = must_find(lines, "condition");
     let mut last = header;
@@ -166,7 +166,7 @@ fn trace_shows_flight_stop_gap_and_turns() {
     assert!(strip.contains('×'), "no stop marked: {strip}");
     assert!(strip.contains('─'), "no flight marked: {strip}");
     // Two turns fall within the last 10 minutes (at 5:00 and 10:00).
-    let top = lines[must_find(&lines, "360")].clone();
+    let top = lines[must_find(&lines, "360°")].clone();
     assert_eq!(top.matches('┆').count(), 2, "{top}");
 }
 
@@ -442,7 +442,7 @@ fn trace_grid_rows_carry_their_labels() {
     let snap = SnapshotBuilder::new().build();
     for (w, h) in [(80, 24), (160, 48), (100, 30)] {
         let lines = screen(&snap, &UiState::default(), w, h);
-        for label in ["180", " 90"] {
+        for label in ["180°", " 90°"] {
             let row = lines
                 .iter()
                 .find(|l| l.contains(&format!("││{label} ")))
@@ -503,5 +503,31 @@ fn dial_shows_north_and_the_arena_mark_when_they_coincide() {
         for mark in ['N', 'A', 'E', '*'] {
             assert!(text.contains(mark), "{w}x{h}: {mark} missing:\n{text}");
         }
+    }
+}
+
+#[test]
+fn trace_axis_labels_carry_the_degree_sign() {
+    // Every heading on the trace's axis is an angle and says so, at every layout size.
+    let snap = SnapshotBuilder::new().build();
+    for (w, h) in [(44, 14), (80, 24), (160, 48)] {
+        let lines = screen(&snap, &UiState::default(), w, h);
+        for label in ["  0°"] {
+            assert!(
+                lines.iter().any(|l| l.contains(&format!("│{label} "))),
+                "{w}x{h}: no axis label {label:?}:\n{}",
+                dump(&lines)
+            );
+        }
+        // No bare number left on the axis.
+        assert!(
+            !lines
+                .iter()
+                .any(|l| ["│360 ", "│270 ", "│180 ", "│ 90 ", "│  0 "]
+                    .iter()
+                    .any(|bare| l.contains(bare))),
+            "{w}x{h}: axis label without °:\n{}",
+            dump(&lines)
+        );
     }
 }
