@@ -531,3 +531,33 @@ fn trace_axis_labels_carry_the_degree_sign() {
         );
     }
 }
+
+#[test]
+fn sun_frame_epoch_table_names_the_frame_of_its_means() {
+    // The epoch means exist in the world and arena frames only: in the sun frame the table's
+    // header must not pass its world means off as the frame on screen.
+    let snap = SnapshotBuilder::new().epochs(10).build();
+    for (w, h) in [(60, 18), (80, 24), (160, 48)] {
+        let sun = UiState {
+            frame: HeadingFrame::Sun,
+            ..UiState::default()
+        };
+        let lines = screen(&snap, &sun, w, h);
+        let title = must_find(&lines, " epochs ");
+        assert!(
+            lines[title].contains("sun frame, means in world°"),
+            "{w}x{h}: {}",
+            lines[title]
+        );
+        // The other frames name their own column and need no note.
+        for frame in [HeadingFrame::World, HeadingFrame::Arena] {
+            let ui = UiState {
+                frame,
+                ..UiState::default()
+            };
+            let lines = screen(&snap, &ui, w, h);
+            assert!(find(&lines, "means in").is_none(), "{w}x{h}: {frame:?}");
+            must_find(&lines, &format!("{}°", frame.name()));
+        }
+    }
+}
