@@ -5,6 +5,7 @@ use ratatui::Terminal;
 use ratatui::backend::TestBackend;
 use ratatui::style::{Color, Modifier};
 use skybearing::engine::snapshot::Snapshot;
+use skybearing::tui::panels::overlays::PROMPT_GRACE_S;
 use skybearing::tui::sample::SnapshotBuilder;
 use skybearing::tui::{HeadingFrame, Mode, ThemeKind, UiState, draw};
 
@@ -203,13 +204,14 @@ fn turn_prompt_is_centered_with_countdown() {
     must_find(&lines, "Enter");
     // The footer offers Enter first.
     assert!(lines.last().unwrap().contains("Enter"));
-    // Late prompts say so in words.
+    // Late prompts say so in words (late: past the allowance for the operator's own work).
     let mut late = snap.clone();
     if let Some(p) = late.prompt.as_mut() {
-        p.countdown_s = -5.0;
+        p.countdown_s = -(PROMPT_GRACE_S + 5.0);
     }
     let lines = screen(&late, &UiState::default(), 80, 24);
     must_find(&lines, "LATE by 0:05");
+    must_find(&lines, "past the 1:00 allowed");
 }
 
 #[test]
@@ -560,4 +562,31 @@ fn sun_frame_epoch_table_names_the_frame_of_its_means() {
             must_find(&lines, &format!("{}°", frame.name()));
         }
     }
+}
+
+#[test]
+fn prompt_is_not_late_the_moment_it_appears() {
+    // The engine publishes countdown_s = -waiting_s (the plan counts prompts as instant): a
+    // prompt four seconds old is due now, not late.
+    let mut snap = SnapshotBuilder::new().prompt(true).build();
+    for waiting_s in [0.0, 0.3, 4.0, 59.0] {
+        if let Some(p) = snap.prompt.as_mut() {
+            p.waiting_s = waiting_s;
+            p.countdown_s = -waiting_s;
+        }
+        let lines = screen(&snap, &UiState::default(), 80, 24);
+        assert!(
+            find(&lines, "LATE").is_none(),
+            "waiting {waiting_s} s:\n{}",
+            dump(&lines)
+        );
+        must_find(&lines, "next epoch due now");
+    }
+    if let Some(p) = snap.prompt.as_mut() {
+        p.waiting_s = 4.0;
+        p.countdown_s = -4.0;
+    }
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "(0:56 to go)");
+    must_find(&lines, "waiting 0:04");
 }
