@@ -171,6 +171,24 @@ fn trace_shows_flight_stop_gap_and_turns() {
     assert_eq!(top.matches('┆').count(), 2, "{top}");
 }
 
+/// Every page of the help overlay at `w`×`h`, one after the other, turned with Space.
+fn help_pages(snap: &Snapshot, ui: &UiState, w: u16, h: u16) -> Vec<String> {
+    let mut ui = ui.clone();
+    let mut all = Vec::new();
+    for _ in 0..3 {
+        all.extend(screen(snap, &ui, w, h));
+        ui.handle_key(
+            crossterm::event::KeyEvent::new(
+                crossterm::event::KeyCode::Char(' '),
+                crossterm::event::KeyModifiers::NONE,
+            ),
+            snap,
+        );
+        assert_eq!(ui.mode, Mode::Help, "Space closed the help");
+    }
+    all
+}
+
 #[test]
 fn help_overlay_lists_keys() {
     let snap = SnapshotBuilder::new().build();
@@ -179,7 +197,7 @@ fn help_overlay_lists_keys() {
         ..UiState::default()
     };
     for (w, h) in [(80, 24), (160, 48)] {
-        let lines = screen(&snap, &ui, w, h);
+        let lines = help_pages(&snap, &ui, w, h);
         must_find(&lines, "HELP");
         must_find(&lines, "mark a flight stop");
         must_find(&lines, "write a note");
@@ -589,4 +607,44 @@ fn prompt_is_not_late_the_moment_it_appears() {
     let lines = screen(&snap, &UiState::default(), 80, 24);
     must_find(&lines, "(0:56 to go)");
     must_find(&lines, "waiting 0:04");
+}
+
+#[test]
+fn help_explains_every_column_and_abbreviation() {
+    // The operator meets `p eff`, `bearing`, `hold r`... on the main screen: the help names each.
+    let snap = SnapshotBuilder::new().build();
+    let ui = UiState {
+        mode: Mode::Help,
+        ..UiState::default()
+    };
+    for (w, h) in [(80, 24), (160, 48)] {
+        let lines = help_pages(&snap, &ui, w, h);
+        for (word, meaning) in [
+            ("az el", "sun azimuth"),
+            ("hold r", "r of the current epoch"),
+            ("bearing", "true bearing of the arena's 0 mark"),
+            ("flown", "flying time"),
+            ("n", "headings scored"),
+            ("world°", "mean heading of the epoch from true north"),
+            ("r", "mean vector length"),
+            ("session r", "r over all epochs"),
+            ("p eff", "Rayleigh test p on the effective n"),
+            ("state", "wait · ► now · done · skip"),
+            ("turn", "commanded arena turn"),
+            ("health", "saved = last write to disk"),
+        ] {
+            assert!(
+                lines
+                    .iter()
+                    .any(|l| l.contains(&format!("{word}  {meaning}"))),
+                "{w}x{h}: {word:?} not explained:\n{}",
+                dump(&lines)
+            );
+        }
+        // Both pages fit the screen: the last explanation and the page hint are not cut off.
+        if h == 24 {
+            must_find(&lines, "page 2 of 2");
+            must_find(&lines, "Space: back to the keys");
+        }
+    }
 }
