@@ -648,3 +648,127 @@ fn help_explains_every_column_and_abbreviation() {
         }
     }
 }
+
+/// The dial's inside (within its border) at `w`×`h`, as rows of characters.
+fn dial_inside(lines: &[String]) -> Vec<Vec<char>> {
+    let top = must_find(lines, "┌ dial");
+    let width = lines[top].chars().skip(1).position(|c| c == '┐').unwrap() + 2;
+    let bottom = top
+        + lines[top..]
+            .iter()
+            .position(|l| l.starts_with('└'))
+            .unwrap();
+    lines[top + 1..bottom]
+        .iter()
+        .map(|l| l.chars().skip(1).take(width - 2).collect())
+        .collect()
+}
+
+#[test]
+fn dial_labels_never_share_or_touch_a_cell_at_small_sizes() {
+    // N E S W, the arena mark, the sun and the needle's tip: each once, none in or beside
+    // another's cell on its row, whatever the bearings, at 80x24 and smaller.
+    let frames = [HeadingFrame::World, HeadingFrame::Arena, HeadingFrame::Sun];
+    for (w, h) in [(44, 14), (60, 18), (80, 24), (100, 30)] {
+        for epochs in [5, 10] {
+            let base = SnapshotBuilder::new().epochs(epochs).build();
+            for frame in frames {
+                let ui = UiState {
+                    frame,
+                    ..UiState::default()
+                };
+                for arena in (0..360).step_by(45) {
+                    for sun in (0..360).step_by(45) {
+                        for heading in (0..360).step_by(90) {
+                            let mut snap = base.clone();
+                            snap.arena_bearing_deg = f64::from(arena) + 7.0;
+                            snap.sun_azimuth_deg = f64::from(sun);
+                            snap.world_heading_deg = Some(f64::from(heading) + 3.0);
+                            let inside = dial_inside(&screen(&snap, &ui, w, h));
+                            let mut at = Vec::new();
+                            for (r, row) in inside.iter().enumerate() {
+                                for (c, ch) in row.iter().enumerate() {
+                                    if "NESWA*●".contains(*ch) {
+                                        at.push((*ch, r, c));
+                                    }
+                                }
+                            }
+                            let text = || {
+                                inside
+                                    .iter()
+                                    .map(|r| r.iter().collect::<String>())
+                                    .collect::<Vec<_>>()
+                                    .join("\n")
+                            };
+                            let case = format!(
+                                "{w}x{h} {epochs} epochs {frame:?} arena {arena} sun {sun} heading {heading}"
+                            );
+                            for mark in "NESWA*●".chars() {
+                                let n = at.iter().filter(|(ch, _, _)| *ch == mark).count();
+                                assert_eq!(n, 1, "{case}: {mark} shown {n} times:\n{}", text());
+                            }
+                            for (i, a) in at.iter().enumerate() {
+                                for b in &at[i + 1..] {
+                                    assert!(
+                                        a.1 != b.1 || a.2.abs_diff(b.2) > 1,
+                                        "{case}: {} touches {}:\n{}",
+                                        a.0,
+                                        b.0,
+                                        text()
+                                    );
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn heading_needle_is_solid_blocks_unlike_the_dashed_evector() {
+    // Heading due east, e-vector north-south: the needle runs along the centre row in solid
+    // blocks, the e-vector up the centre column in braille dots; the same in the mono theme,
+    // where colour cannot tell them apart.
+    let mut snap = SnapshotBuilder::new().build();
+    snap.world_heading_deg = Some(90.0);
+    snap.zenith_evector_deg = 0.0;
+    snap.arena_bearing_deg = 200.0;
+    snap.sun_azimuth_deg = 240.0;
+    for theme in [ThemeKind::Sunlight, ThemeKind::Mono] {
+        for (w, h) in [(80, 24), (160, 48)] {
+            let inside = dial_inside(&screen(&snap, &UiState::with_theme(theme), w, h));
+            let (rows, cols) = (inside.len(), inside[0].len());
+            let text = inside
+                .iter()
+                .map(|r| r.iter().collect::<String>())
+                .collect::<Vec<_>>()
+                .join("\n");
+            let mid = rows / 2;
+            let blocks = (mid.saturating_sub(1)..=mid + 1)
+                .map(|r| inside[r].iter().filter(|c| **c == '█').count())
+                .max()
+                .unwrap();
+            assert!(blocks >= 3, "{theme:?} {w}x{h}: needle not solid:\n{text}");
+            // The e-vector column above and below the centre: dots, never needle blocks.
+            let centre_cols = cols / 2 - 1..=cols / 2;
+            for r in (1..mid.saturating_sub(1)).chain(mid + 2..rows - 1) {
+                for c in centre_cols.clone() {
+                    assert_ne!(
+                        inside[r][c], '█',
+                        "{theme:?} {w}x{h}: e-vector drawn like the needle:\n{text}"
+                    );
+                }
+            }
+            let dots = (1..mid.saturating_sub(1))
+                .filter(|&r| {
+                    centre_cols
+                        .clone()
+                        .any(|c| ('\u{2801}'..='\u{28ff}').contains(&inside[r][c]))
+                })
+                .count();
+            assert!(dots >= 2, "{theme:?} {w}x{h}: no e-vector dots:\n{text}");
+        }
+    }
+}

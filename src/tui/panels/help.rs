@@ -68,7 +68,7 @@ impl Widget for Help<'_> {
         ];
         let legend = [
             "dial: top = the frame's 0 (N, arena mark or sun)",
-            "● heading (○ not flying)  A arena 0 mark  * sun  ┄ zenith e-vector",
+            "█● heading (dashed, ○: not flying)  A arena 0  * sun  ┄ zenith e-vector",
             "trace: ┆ turn  ─ flying  × stopped (gap in the dots)",
             "shift: world heading change across a turn; ✓ kept = nearer 0 than the turn",
             "frames: world = true north; arena = arena 0 mark; sun = 0 toward the sun",
