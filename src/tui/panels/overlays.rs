@@ -32,7 +32,7 @@ pub(crate) fn prompt_due(countdown_s: f64) -> PromptDue {
     if countdown_s > 0.0 {
         PromptDue::In(countdown_s)
     } else if countdown_s >= -PROMPT_GRACE_S || !countdown_s.is_finite() {
-        PromptDue::Grace(PROMPT_GRACE_S + countdown_s.min(0.0).max(-PROMPT_GRACE_S))
+        PromptDue::Grace(PROMPT_GRACE_S + countdown_s.clamp(-PROMPT_GRACE_S, 0.0))
     } else {
         PromptDue::Late(-countdown_s - PROMPT_GRACE_S)
     }
