@@ -34,7 +34,9 @@ build() { # name [patch]
   rm -rf "$SRC" && mkdir -p "$SRC"
   git archive HEAD | tar -x -C "$SRC"
   [ -z "${2:-}" ] || patch -s -d "$SRC" -p1 < "$2"
-  (cd "$SRC" && CARGO_TARGET_DIR=../build cargo build --release --quiet --bin skybearing)
+  # (the patches leave code unused: its warnings go to a log)
+  (cd "$SRC" && CARGO_TARGET_DIR=../build cargo build --release --quiet --bin skybearing) \
+    2> "target/variants/build-$1.log" || { cat "target/variants/build-$1.log"; exit 1; }
   cp target/variants/build/release/skybearing "$OUT/$1"
 }
 echo "building base and ${#VARIANTS[@]} variants ..." >&2
