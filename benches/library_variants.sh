@@ -10,11 +10,10 @@
 #   csv-crate-all-fields  the same, also doing the general reader's other work (UTC stamp check,
 #                         the two further numbers): the archive reader rebuilt on the csv crate
 #   general-reader        no fast scan: every file through archive::read::for_each_sample
-#   no-number-memo        the scan without its table of numbers seen before
-#   no-trig-memo          without the memo of sines and cosines
-#   std-trig, libm-trig   std's / libm's sin and cos (after the same exact reduction in degrees)
-#                         in place of the fdlibm kernels of circular/trig.rs, memo off
-#   std-trig-memo         std's sin and cos, memo on
+#   number-memo           the scan with the table of numbers seen before that it once had
+#   own-kernels-memo      circular/trig.rs as it was: its own copy of the fdlibm kernels and a
+#                         memo of sines and cosines, instead of libm's sincos
+#   std-trig              std's sin_cos (the platform's libm) instead of libm's sincos
 #
 # Usage: benches/library_variants.sh [ROUNDS [VARIANT...]]   (default 3 rounds, all variants)
 #   BATCH_BENCH_DIR as for batch_compare.sh (run that first to make the sessions); BENCH_VENV.
@@ -25,7 +24,7 @@ shift || true
 WORK=${BATCH_BENCH_DIR:-target/batch-bench}
 VARIANTS=("$@")
 [ ${#VARIANTS[@]} -gt 0 ] || VARIANTS=(csv-crate-scan csv-crate-all-fields general-reader \
-  no-number-memo no-trig-memo std-trig libm-trig std-trig-memo)
+  number-memo own-kernels-memo std-trig)
 . benches/peers/common.sh
 SRC=target/variants/src
 OUT=target/variants/bin

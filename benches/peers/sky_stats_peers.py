@@ -139,7 +139,7 @@ def stats(work, rounds):
     from scipy.stats import circmean, circvar
 
     rng = np.random.default_rng(7)
-    # A wandering heading with jitter (as tests/reference/bench_astropy_rayleigh.py).
+    # A wandering heading with jitter (as the benchmark in benches/circular.rs).
     deg = (120.0 + np.cumsum((rng.random(N_ANGLES) - 0.5) * 4.0)
            + (rng.random(N_ANGLES) - 0.5) * 20.0) % 360.0
     deg.astype("<f8").tofile(work / "angles.f64")
