@@ -14,6 +14,7 @@ pub mod protocol;
 pub mod rig;
 pub mod signals;
 pub mod sky;
+pub mod textfile;
 pub mod tui;
 
 /// The program version written into every session folder.
