@@ -248,8 +248,7 @@ pub const EPOCH_COLUMNS: &[&str] = &[
     "r_arena",
     "rayleigh_z",
     "rayleigh_p",
-    "n_eff",
-    "rayleigh_p_eff",
+    "p_oriented",
     "arena_bearing_deg",
     "mean_sun_relative_deg",
     "mean_sun_azimuth_deg",
@@ -334,16 +333,7 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
                 } else {
                     Cell::Empty
                 },
-                if has {
-                    Cell::Num(e.world.n_eff())
-                } else {
-                    Cell::Empty
-                },
-                if has {
-                    Cell::Num(e.world.rayleigh_p_eff())
-                } else {
-                    Cell::Empty
-                },
+                s.p_oriented(e.index).into(),
                 e.arena_bearing_deg.into(),
                 e.mean_sun_relative_deg().into(),
                 e.mean_sun_azimuth_deg().into(),

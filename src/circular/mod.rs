@@ -18,6 +18,7 @@ mod oriented_table;
 mod second_order;
 mod sum;
 mod trig;
+mod turn_test;
 
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
 pub use oriented::{
@@ -29,6 +30,9 @@ pub use second_order::{
     moore_rayleigh_test, second_order_mean, watson_williams_test,
 };
 pub(crate) use trig::SinCosMemo;
+pub use turn_test::{
+    EXACT_MAX_N, MIN_TURNS, TurnTestResult, turn_compensation_test, v_test_p_small_n,
+};
 
 use crate::frames::{wrap_360_deg, wrap_axial_deg};
 use serde::Serialize;
