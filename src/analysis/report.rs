@@ -267,8 +267,10 @@ pub fn summary_text(s: &SessionStats) -> String {
             tt.turns,
             crate::archive::TURN_WINDOW_S,
             fmt_opt(tt.mean_world_shift_deg, 1),
-            tt.p_world_kept.map_or("- (fewer than 3 turns)".into(), fmt_p),
-            tt.p_arena_kept.map_or("- (fewer than 3 turns)".into(), fmt_p),
+            tt.p_world_kept
+                .map_or("- (fewer than 3 turns)".into(), fmt_p),
+            tt.p_arena_kept
+                .map_or("- (fewer than 3 turns)".into(), fmt_p),
         );
     }
     let _ = writeln!(t);

@@ -10,7 +10,9 @@ use serde::{Deserialize, Serialize};
 use super::fmt::{quantize_angle_deg, quantize_fixed};
 use super::read::SampleFields;
 use super::windows::{EdgeWindows, window_shift_deg};
-use super::{ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, T_S_DECIMALS, TurnSummary, TurnTest};
+use super::{
+    ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, T_S_DECIMALS, TurnSummary, TurnTest,
+};
 use crate::circular::{HeadingAccumulator, OrientationTracker, turn_compensation_test};
 use crate::frames::{wrap_360_deg, wrap_signed_deg};
 use crate::protocol::{ArenaMove, Protocol};

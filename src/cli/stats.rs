@@ -95,9 +95,17 @@ fn parse_lines(name: &str, bytes: &[u8]) -> anyhow::Result<(Vec<f64>, Vec<f64>)>
             bail!("{name}, line {line_no}: mixes `angle` and `t_s,angle` lines");
         }
         if let Some((t, _)) = text.split_once(',') {
-            let t: f64 = t.trim().parse().ok().filter(|t: &f64| t.is_finite()).ok_or_else(|| {
-                anyhow::anyhow!("{name}, line {line_no}: '{}' is not a time in seconds", shorten(t))
-            })?;
+            let t: f64 = t
+                .trim()
+                .parse()
+                .ok()
+                .filter(|t: &f64| t.is_finite())
+                .ok_or_else(|| {
+                    anyhow::anyhow!(
+                        "{name}, line {line_no}: '{}' is not a time in seconds",
+                        shorten(t)
+                    )
+                })?;
             if times.last().is_some_and(|&last| t < last) {
                 bail!("{name}, line {line_no}: t_s {t} goes back in time");
             }
