@@ -159,8 +159,8 @@ fn table_agrees_with_fresh_simulation() {
         assert!((f05 - 0.05).abs() < 0.012, "λ {lambda}: {f05}");
         assert!((f01 - 0.01).abs() < 0.006, "λ {lambda}: {f01}");
     }
-    assert!(LAMBDA_TABLE_MAX <= GRID[GRID.len() - 1]);
-    assert!(P_FLOOR >= TABLE_PROBS[0]);
+    const { assert!(LAMBDA_TABLE_MAX <= GRID[GRID.len() - 1]) };
+    const { assert!(P_FLOOR >= TABLE_PROBS[0]) };
 }
 
 // ---------------------------------------------------------------------------------------------

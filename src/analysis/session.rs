@@ -129,8 +129,8 @@ impl SessionStats {
     }
 
     /// The session's turn test from summary.json.
-    pub fn turn_test(&self) -> Option<&crate::archive::TurnTest> {
-        self.info.summary.as_ref().map(|s| &s.turn_test)
+    pub fn turn_test(&self) -> Option<crate::archive::TurnTest> {
+        self.info.summary.as_ref().map(|s| s.turn_test())
     }
 
     /// Distinct conditions in epoch order.

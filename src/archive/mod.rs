@@ -213,6 +213,7 @@ pub struct TurnTest {
 
 /// `summary.json`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(into = "SummaryFile", from = "SummaryFile")]
 pub struct Summary {
     /// Per epoch.
     pub epochs: Vec<EpochSummary>,
@@ -224,9 +225,63 @@ pub struct Summary {
     /// r of all scored arena headings.
     #[serde(with = "nan_as_null")]
     pub r_arena: f64,
-    /// The turn-compensation test.
+}
+
+/// `Summary` as written: the fields plus `turn_test`, which is derived from the turns
+/// ([`Summary::turn_test`]) and so not stored in the struct.
+#[derive(Serialize, Deserialize)]
+struct SummaryFile {
+    epochs: Vec<EpochSummary>,
+    turns: Vec<TurnSummary>,
+    #[serde(with = "nan_as_null")]
+    r_world: f64,
+    #[serde(with = "nan_as_null")]
+    r_arena: f64,
     #[serde(default)]
-    pub turn_test: TurnTest,
+    turn_test: TurnTest,
+}
+
+impl From<Summary> for SummaryFile {
+    fn from(s: Summary) -> Self {
+        let turn_test = s.turn_test();
+        SummaryFile {
+            epochs: s.epochs,
+            turns: s.turns,
+            r_world: s.r_world,
+            r_arena: s.r_arena,
+            turn_test,
+        }
+    }
+}
+
+impl From<SummaryFile> for Summary {
+    fn from(f: SummaryFile) -> Self {
+        Summary {
+            epochs: f.epochs,
+            turns: f.turns,
+            r_world: f.r_world,
+            r_arena: f.r_arena,
+        }
+    }
+}
+
+impl Summary {
+    /// The session's turn test ([`crate::circular::turn_compensation_test`]) over the turns
+    /// that have a `window_shift_deg`.
+    pub fn turn_test(&self) -> TurnTest {
+        let (shifts, turned): (Vec<f64>, Vec<f64>) = self
+            .turns
+            .iter()
+            .filter_map(|t| t.window_shift_deg.map(|d| (d, t.turn_deg)))
+            .unzip();
+        let r = crate::circular::turn_compensation_test(&shifts, &turned);
+        TurnTest {
+            turns: r.turns,
+            mean_world_shift_deg: r.mean_world_shift_deg,
+            p_world_kept: r.p_world_kept,
+            p_arena_kept: r.p_arena_kept,
+        }
+    }
 }
 
 /// File names inside a session folder.
@@ -674,12 +729,12 @@ mod tests {
             turns: vec![],
             r_world: 0.5,
             r_arena: 0.25,
-            turn_test: TurnTest::default(),
         };
         let j = serde_json::to_string(&s).unwrap();
         assert!(j.contains("\"r\":null"), "{j}");
         assert!(j.contains("\"p_oriented\":null"), "{j}");
         assert!(!j.contains("n_eff") && !j.contains("rayleigh_p_eff"), "{j}");
+        assert!(j.contains("\"turn_test\":{\"turns\":0"), "{j}");
         let back: Summary = serde_json::from_str(&j).unwrap();
         assert!(back.epochs[0].r.is_nan());
         assert_eq!(back.r_world, 0.5);

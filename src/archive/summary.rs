@@ -10,10 +10,8 @@ use serde::{Deserialize, Serialize};
 use super::fmt::{quantize_angle_deg, quantize_fixed};
 use super::read::SampleFields;
 use super::windows::{EdgeWindows, window_shift_deg};
-use super::{
-    ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, T_S_DECIMALS, TurnSummary, TurnTest,
-};
-use crate::circular::{HeadingAccumulator, OrientationTracker, turn_compensation_test};
+use super::{ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, T_S_DECIMALS, TurnSummary};
+use crate::circular::{HeadingAccumulator, OrientationTracker};
 use crate::frames::{wrap_360_deg, wrap_signed_deg};
 use crate::protocol::{ArenaMove, Protocol};
 
@@ -353,26 +351,10 @@ impl SummaryBuilder {
             .collect();
         Summary {
             epochs,
-            turn_test: turn_test_of(&turns),
             turns,
             r_world: self.r_world(),
             r_arena: self.r_arena(),
         }
-    }
-}
-
-/// The session's turn test over the turns that have a window shift.
-fn turn_test_of(turns: &[TurnSummary]) -> TurnTest {
-    let (shifts, turned): (Vec<f64>, Vec<f64>) = turns
-        .iter()
-        .filter_map(|t| t.window_shift_deg.map(|d| (d, t.turn_deg)))
-        .unzip();
-    let r = turn_compensation_test(&shifts, &turned);
-    TurnTest {
-        turns: r.turns,
-        mean_world_shift_deg: r.mean_world_shift_deg,
-        p_world_kept: r.p_world_kept,
-        p_arena_kept: r.p_arena_kept,
     }
 }
 

@@ -13,6 +13,9 @@ pub const MIN_TURN_WINDOW_S: f64 = 5.0;
 
 const WINDOW_BINS: usize = 300;
 
+/// Unit-vector sums (cos, sin) of bins.
+type Bins = Vec<(f64, f64)>;
+
 /// First and last WINDOW_BINS bins of an epoch's scored world headings.
 #[derive(Debug, Clone)]
 pub(super) struct EdgeWindows {
@@ -73,7 +76,7 @@ impl EdgeWindows {
         self.closed + usize::from(self.open_n > 0)
     }
 
-    fn all_bins(&self) -> (Vec<(f64, f64)>, Vec<(f64, f64)>) {
+    fn all_bins(&self) -> (Bins, Bins) {
         let mut first = self.first.clone();
         let mut last: Vec<(f64, f64)> = (0..self.closed.min(WINDOW_BINS))
             .map(|k| self.last[(self.head + WINDOW_BINS - k) % WINDOW_BINS])

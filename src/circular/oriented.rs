@@ -301,7 +301,7 @@ pub fn walk_mean_r2(lambda: f64) -> f64 {
 /// P(R ≥ r) for the mean vector length R of a Brownian walk on the circle with λ = D·T (see
 /// the module notes), floored at [`P_FLOOR`]. λ ≤ 0 (a walk that does not move) gives 1.
 pub fn walk_null_p(r: f64, lambda: f64) -> f64 {
-    if !(lambda > 0.0) || !r.is_finite() {
+    if lambda.is_nan() || lambda <= 0.0 || !r.is_finite() {
         return 1.0;
     }
     let r = r.clamp(0.0, 1.0);

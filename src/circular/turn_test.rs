@@ -39,7 +39,7 @@ pub struct TurnTestResult {
 fn null_v() -> &'static Vec<Vec<f64>> {
     static TABLE: OnceLock<Vec<Vec<f64>>> = OnceLock::new();
     TABLE.get_or_init(|| {
-        let mut state: u64 = 0x5EED_0F_7E57;
+        let mut state: u64 = 0x005E_ED0F_7E57;
         let mut uniform = move || {
             // SplitMix64 (Steele, Lea & Flood 2014).
             state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
