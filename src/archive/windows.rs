@@ -2,7 +2,7 @@
 //! [`super::summary::SummaryBuilder`]): the first and the last [`TURN_WINDOW_S`] seconds of
 //! scored world headings of each epoch, kept as sums of unit vectors per 0.1 s bin.
 
-use crate::circular::BIN_S;
+use crate::circular::{BIN_S, bin_index};
 use crate::frames::wrap_360_deg;
 
 /// Length of the window on each side of a turn, seconds of scored flight (our choice: long
@@ -45,7 +45,7 @@ impl Default for EdgeWindows {
 impl EdgeWindows {
     /// Adds a scored world heading at session time `t_s`.
     pub(super) fn push(&mut self, t_s: f64, angle_deg: f64) {
-        let bin = (t_s / BIN_S).floor() as i64;
+        let bin = bin_index(t_s);
         if self.bin != Some(bin) {
             self.close();
             self.bin = Some(bin);

@@ -23,7 +23,7 @@ mod turn_test;
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
 pub use oriented::{
     BIN_S, LAG_MAX_S, LAG_MIN_S, LAMBDA_TABLE_MAX, MIN_SCORED_S, OrientationTest,
-    OrientationTracker, P_FLOOR, orientation_test_series, walk_mean_r2, walk_null_p,
+    OrientationTracker, P_FLOOR, bin_index, orientation_test_series, walk_mean_r2, walk_null_p,
 };
 pub use second_order::{
     HotellingResult, MooreResult, WatsonWilliamsResult, hotelling_one_sample_test,

@@ -74,6 +74,13 @@ const N_LAGS: usize = LAG_MAX_BINS - LAG_MIN_BINS + 1;
 /// Ring of the last unwrapped bin headings (a power of two above LAG_MAX_BINS).
 const RING: usize = 64;
 
+/// The bin of a time: floor(t_s / BIN_S), with a hair (1e-7 of a bin) of tolerance so that a
+/// time on a bin boundary written with a few decimals (12.3 s) falls in the bin it starts.
+#[inline]
+pub fn bin_index(t_s: f64) -> i64 {
+    (t_s / BIN_S + 1e-7).floor() as i64
+}
+
 /// The result of [`OrientationTracker::test`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct OrientationTest {
@@ -155,7 +162,7 @@ impl OrientationTracker {
             return;
         }
         let (s, c) = sin_cos_deg(angle_deg);
-        let bin = (t_s / BIN_S).floor() as i64;
+        let bin = bin_index(t_s);
         if self.bin != Some(bin) {
             self.close_bin();
             self.bin = Some(bin);
@@ -382,8 +389,8 @@ mod tests {
 
     #[test]
     fn a_steady_turn_has_its_diffusion_and_gaps_break_the_chain() {
-        // Heading = 0.3 t² rad... simpler: a walk of alternating ±a per bin has MSD = a² at odd
-        // lags and 0 at even ones: slope ≈ 0. A linear drift ω t has MSD = ω² L² (slope 2ω²·L̄).
+        // A steady turn ω t has MSD(L) = ω² L², whose least-squares slope over lags 1..5 s
+        // (symmetric about 3 s) is 6 ω², so D = 3 ω².
         let mut t = OrientationTracker::new();
         let omega_deg = 10.0; // degrees per second
         for i in 0..6_000 {
@@ -391,7 +398,6 @@ mod tests {
             t.push_deg(ts, omega_deg * ts);
         }
         let w = omega_deg.to_radians();
-        // OLS slope of ω² L² over L in [1, 5] is 2 ω² · 3 (the mean lag): D = 3 ω².
         let d = t.diffusion_rad2_per_s().unwrap();
         assert!((d / (3.0 * w * w) - 1.0).abs() < 1e-6, "{d}");
         // Gaps every 2 s: no lag of 5 s survives, fewer than half the lags have data.

@@ -6,9 +6,10 @@
 //! Greenwood 1958; Batschelet 1981 §4.3; Zar 2010 §27.1): shifts toward 0 (`p_world_kept`) and
 //! residuals toward 0 (`p_arena_kept`). The null of each is that the angles are independent and
 //! uniform on the circle (the animal's heading after a turn bears no relation to the one before
-//! in that frame). With few turns (n ≤ [`EXACT_MAX_N`]) the normal approximation of the V-test is
-//! off by more than 2 points at α = 0.05 (`tests/calibration_turn_test.rs` measures it), so p
-//! is then the Monte Carlo p of the exact null: the fraction of 40 000 seeded draws of n
+//! in that frame). With few turns (n ≤ [`EXACT_MAX_N`]) the normal approximation of the V-test
+//! is close at α = 0.05 (5.6 % at n = 3) but conservative in the tail (0.3 % at α = 0.01 for
+//! n = 3; `tests/calibration_turn_test.rs` measures both), so p is then the Monte Carlo p of the
+//! exact null: the fraction of 40 000 seeded draws of n
 //! uniform angles whose V is at least the observed (Davison & Hinkley 1997 §4.2; a Monte Carlo
 //! p counted as (1 + #≥)/(1 + draws)). No p with fewer than [`MIN_TURNS`] turns.
 
