@@ -137,13 +137,13 @@ pub struct EpochSummary {
     /// it compiles; remove with it.
     #[serde(skip)]
     pub n_eff: f64,
-    /// Not in summary.json: a transitional alias of `p_oriented` (NaN when None) for readers
-    /// that have not moved to `p_oriented` yet (the live table, `check`). Remove with them.
+    /// Not in summary.json (not calibrated either); always NaN, so the live table that still
+    /// reads it shows "–" until it shows `p_oriented`. Remove with its readers.
     #[serde(skip)]
     pub rayleigh_p_eff: f64,
 }
 
-/// `EpochSummary` as stored: the in-memory aliases are filled from `p_oriented`.
+/// `EpochSummary` as stored (archives written before `p_oriented` existed read as None).
 #[derive(Deserialize)]
 struct EpochSummaryFile {
     index: usize,
@@ -174,7 +174,7 @@ impl From<EpochSummaryFile> for EpochSummary {
             rayleigh_p: f.rayleigh_p,
             p_oriented: f.p_oriented,
             n_eff: f64::NAN,
-            rayleigh_p_eff: f.p_oriented.unwrap_or(f64::NAN),
+            rayleigh_p_eff: f64::NAN,
         }
     }
 }

@@ -323,7 +323,7 @@ impl SummaryBuilder {
             rayleigh_p: if empty { f64::NAN } else { w.rayleigh_p() },
             p_oriented,
             n_eff: f64::NAN,
-            rayleigh_p_eff: p_oriented.unwrap_or(f64::NAN),
+            rayleigh_p_eff: f64::NAN,
         }
     }
 
