@@ -233,6 +233,9 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "rows",
     "torn_tail",
     "folder",
+    "turn_test_turns",
+    "p_world_kept",
+    "p_arena_kept",
 ];
 
 /// Columns of `epochs.csv`.
@@ -295,6 +298,12 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
             s.rows.into(),
             s.torn_tail.into(),
             s.info.dir.display().to_string().into(),
+            match s.turn_test() {
+                Some(tt) => tt.turns.into(),
+                None => Cell::Empty,
+            },
+            s.turn_test().and_then(|tt| tt.p_world_kept).into(),
+            s.turn_test().and_then(|tt| tt.p_arena_kept).into(),
         ]);
     }
     t

@@ -411,6 +411,13 @@ mod tests {
         assert_eq!(s.epochs[1].condition, "diffuser");
         assert_eq!(s.epochs[2].n, 0);
         assert_eq!(s.epochs[2].mean_world_deg, None);
+        // An epoch without scored samples: null for every statistic.
+        assert!(s.epochs[2].r.is_nan() && s.epochs[2].rayleigh_p.is_nan());
+        assert_eq!(s.epochs[2].p_oriented, None);
+        let j = serde_json::to_value(&s).unwrap();
+        assert!(j["epochs"][2]["r"].is_null() && j["epochs"][2]["rayleigh_p"].is_null());
+        assert!(j["epochs"][2]["p_oriented"].is_null());
+        assert!(j["epochs"][0].get("n_eff").is_none());
         assert_eq!(s.epochs[2].arena_bearing_deg, 0.0); // first sample's bearing
         assert_eq!(s.turns.len(), 2);
         assert_eq!(s.turns[0].index, 1);
@@ -425,6 +432,49 @@ mod tests {
         assert_eq!(
             serde_json::to_string(&b.epoch_summary(2).unwrap()).unwrap(),
             serde_json::to_string(&s.epochs[1]).unwrap()
+        );
+    }
+
+    #[test]
+    fn p_oriented_and_the_turn_test_from_timed_samples() {
+        // Three 60 s epochs at 50 Hz of a heading held at 30° in the world (a steady wobble of
+        // ±10° at 0.3 Hz), 10 s unscored after each turn: kept world heading, world shift 0.
+        let mut b = SummaryBuilder::new(&plan());
+        let mut t = 0.0;
+        for (epoch, turn) in [(1usize, 0.0f64), (2, 90.0), (3, 0.0)] {
+            for k in 0..3500 {
+                let world = 30.0 + 10.0 * (0.3 * std::f64::consts::TAU * t).sin();
+                b.push_values(epoch, t, world - turn, turn, world, k >= 500);
+                t += 0.02;
+            }
+        }
+        let s = b.summary();
+        for e in &s.epochs {
+            assert!(e.p_oriented.is_some(), "{e:?}");
+        }
+        assert!(
+            s.turns
+                .iter()
+                .all(|t| t.window_shift_deg.unwrap().abs() < 5.0)
+        );
+        let tt = s.turn_test();
+        assert_eq!(tt.turns, 2);
+        assert_eq!(tt.p_world_kept, None); // fewer than 3 turns
+        assert!(tt.mean_world_shift_deg.unwrap().abs() < 5.0);
+        // Repair reads the same rows back: the same summary (JSON text).
+        let mut again = SummaryBuilder::new(&plan());
+        let mut t = 0.0;
+        for (epoch, turn) in [(1usize, 0.0f64), (2, 90.0), (3, 0.0)] {
+            for k in 0..3500 {
+                let world = 30.0 + 10.0 * (0.3 * std::f64::consts::TAU * t).sin();
+                let q = |x: f64| crate::archive::fmt::quantize_fixed(x, T_S_DECIMALS);
+                again.push_values(epoch, q(t), world - turn, turn, world, k >= 500);
+                t += 0.02;
+            }
+        }
+        assert_eq!(
+            serde_json::to_string(&again.summary()).unwrap(),
+            serde_json::to_string(&s).unwrap()
         );
     }
 

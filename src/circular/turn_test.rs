@@ -12,6 +12,10 @@
 //! exact null: the fraction of 40 000 seeded draws of n
 //! uniform angles whose V is at least the observed (Davison & Hinkley 1997 §4.2; a Monte Carlo
 //! p counted as (1 + #≥)/(1 + draws)). No p with fewer than [`MIN_TURNS`] turns.
+//!
+//! Where it misleads: an animal that ignores the turn and wanders slowly also has world shifts
+//! near 0 over windows close to the turn, so a small `p_world_kept` alone does not show a sky
+//! compass (docs/inference.md).
 
 use super::{describe_deg, v_test};
 use std::sync::OnceLock;
