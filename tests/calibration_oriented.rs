@@ -19,7 +19,7 @@
 use skybearing::circular::{
     HeadingAccumulator, LAMBDA_TABLE_MAX, OrientationTracker, P_FLOOR, walk_mean_r2, walk_null_p,
 };
-use std::f64::consts::{PI, TAU};
+use std::f64::consts::TAU;
 
 /// SplitMix64 (Steele, Lea & Flood 2014) with Box–Muller normals.
 struct Rng(u64, Option<f64>);
@@ -400,5 +400,4 @@ fn power_table() {
             );
         }
     }
-    let _ = PI;
 }

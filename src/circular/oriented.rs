@@ -6,6 +6,9 @@
 //! plus any stationary short-term jitter (white sensor noise, a fast wobble, quantisation). The
 //! alternative is a heading that does not wander away as a walk would: a held heading.
 //!
+//! **Convention.** Headings in degrees, compass style, any finite value; times in seconds
+//! (non-decreasing, any origin); D in rad²/s.
+//!
 //! **Method.** Headings are grouped into bins of [`BIN_S`] seconds (the mean unit vector of
 //! each bin; this makes the test the same at 50 Hz and at 1 kHz, and cheap). The bin headings
 //! are unwrapped along each unbroken run of bins, and the diffusion coefficient D (rad²/s) is
