@@ -22,6 +22,7 @@
 
 pub mod atomic;
 pub mod check;
+pub mod cue_scores;
 pub mod fmt;
 pub mod lock;
 pub mod read;
@@ -54,6 +55,8 @@ pub const SAMPLE_COLUMNS: &[&str] = &[
     "sun_relative_heading_deg",
     "zenith_evector_deg",
     "raw",
+    "sun_in_view",
+    "evector_shown_deg",
 ];
 
 /// The header of `events.csv`.
@@ -88,6 +91,12 @@ pub struct SampleRow {
     pub zenith_evector_deg: f64,
     /// The raw sensor value as received.
     pub raw: f64,
+    /// The sun's disc was in the animal's view (cue visible, above the horizon and the arena's
+    /// sky view limit).
+    pub sun_in_view: bool,
+    /// World axis [0, 180) of the e-vector the animal was shown (sky or filter); None without
+    /// polarization (written empty).
+    pub evector_shown_deg: Option<f64>,
 }
 
 /// One row of `events.csv`.
@@ -133,6 +142,9 @@ pub struct EpochSummary {
     /// Rayleigh p on n_eff.
     #[serde(with = "nan_as_null")]
     pub rayleigh_p_eff: f64,
+    /// What the animal was shown, and the axial scores under polarization only.
+    #[serde(flatten)]
+    pub cue: cue_scores::EpochCueScore,
 }
 
 /// One turn in `summary.json`: turn k lies between epoch k and epoch k + 1.
@@ -145,6 +157,9 @@ pub struct TurnSummary {
     pub turn_deg: f64,
     /// Mean world heading after minus before, (-180, 180]; None if either side has no data.
     pub world_shift_deg: Option<f64>,
+    /// What steering by the cue shown predicts for the shift.
+    #[serde(flatten)]
+    pub cue: cue_scores::TurnCuePrediction,
 }
 
 /// `summary.json`.
@@ -602,6 +617,7 @@ mod tests {
                 rayleigh_p: 1.0,
                 n_eff: 0.0,
                 rayleigh_p_eff: f64::NAN,
+                cue: Default::default(),
             }],
             turns: vec![],
             r_world: 0.5,

@@ -43,6 +43,11 @@ pub struct SampleFields<'a> {
     pub sun_relative_heading_deg: f64,
     /// Zenith e-vector axis; NaN when the column is absent.
     pub zenith_evector_deg: f64,
+    /// The sun's disc was in the animal's view; None when the column is absent (archives
+    /// written before cues were recorded).
+    pub sun_in_view: Option<bool>,
+    /// World axis of the e-vector shown; NaN when empty (no polarization) or absent.
+    pub evector_shown_deg: f64,
 }
 
 /// A torn tail found at the end of a file.
@@ -85,6 +90,8 @@ enum Role {
     Scored,
     SunRel,
     Evector,
+    SunInView,
+    EvectorShown,
     Skip,
 }
 
@@ -102,6 +109,8 @@ fn role_of(name: &str) -> Role {
         "scored" => Role::Scored,
         "sun_relative_heading_deg" => Role::SunRel,
         "zenith_evector_deg" => Role::Evector,
+        "sun_in_view" => Role::SunInView,
+        "evector_shown_deg" => Role::EvectorShown,
         _ => Role::Skip,
     }
 }
@@ -214,6 +223,8 @@ fn empty_fields(line: u64) -> SampleFields<'static> {
         scored: false,
         sun_relative_heading_deg: f64::NAN,
         zenith_evector_deg: f64::NAN,
+        sun_in_view: None,
+        evector_shown_deg: f64::NAN,
     }
 }
 
@@ -231,6 +242,8 @@ fn column_name(role: Role) -> &'static str {
         Role::Scored => "scored",
         Role::SunRel => "sun_relative_heading_deg",
         Role::Evector => "zenith_evector_deg",
+        Role::SunInView => "sun_in_view",
+        Role::EvectorShown => "evector_shown_deg",
         Role::Skip => "(extra)",
     }
 }
@@ -292,6 +305,14 @@ fn set_field(f: &mut SampleFields<'_>, role: Role, text: &[u8]) -> Result<(), St
         Role::Scored => f.scored = flag(text)?,
         Role::SunRel => f.sun_relative_heading_deg = num(text)?,
         Role::Evector => f.zenith_evector_deg = num(text)?,
+        Role::SunInView => f.sun_in_view = Some(flag(text)?),
+        Role::EvectorShown => {
+            f.evector_shown_deg = if text.is_empty() {
+                f64::NAN
+            } else {
+                num(text)?
+            }
+        }
     }
     Ok(())
 }

@@ -7,6 +7,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::cue_scores::EpochCues;
 use super::fmt::quantize_angle_deg;
 use super::read::SampleFields;
 use super::{ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, TurnSummary};
@@ -82,6 +83,7 @@ struct EpochAcc {
     arena: Chain,
     bearing_scored_deg: Option<f64>,
     bearing_any_deg: Option<f64>,
+    cues: EpochCues,
 }
 
 /// Builds a [`Summary`] from sample rows, O(1) per sample.
@@ -122,6 +124,7 @@ impl SummaryBuilder {
                     arena: Chain::default(),
                     bearing_scored_deg: None,
                     bearing_any_deg: None,
+                    cues: EpochCues::default(),
                 })
                 .collect(),
             lookup,
@@ -141,6 +144,15 @@ impl SummaryBuilder {
             row.world_heading_deg,
             row.scored,
         );
+        self.push_cues(
+            row.epoch,
+            row.arena_heading_deg,
+            row.world_heading_deg,
+            row.scored,
+            Some(row.sun_in_view),
+            row.evector_shown_deg.unwrap_or(f64::NAN),
+            row.sun_azimuth_deg,
+        );
     }
 
     /// Adds one sample read back from `samples.csv`.
@@ -153,6 +165,41 @@ impl SummaryBuilder {
             s.world_heading_deg,
             s.scored,
         );
+        self.push_cues(
+            s.epoch,
+            s.arena_heading_deg,
+            s.world_heading_deg,
+            s.scored,
+            s.sun_in_view,
+            s.evector_shown_deg,
+            s.sun_azimuth_deg,
+        );
+    }
+
+    /// Adds what the animal was shown at one sample to its epoch's cue scores (see
+    /// [`super::cue_scores`]); the same samples count as in [`SummaryBuilder::push_values`].
+    #[allow(clippy::too_many_arguments)]
+    #[inline]
+    pub fn push_cues(
+        &mut self,
+        epoch: usize,
+        arena_heading_deg: f64,
+        world_heading_deg: f64,
+        scored: bool,
+        sun_in_view: Option<bool>,
+        evector_shown_deg: f64,
+        sun_azimuth_deg: f64,
+    ) {
+        let arena = quantize_angle_deg(arena_heading_deg, ANGLE_DECIMALS);
+        let world = quantize_angle_deg(world_heading_deg, ANGLE_DECIMALS);
+        if !(scored && arena.is_finite() && world.is_finite()) {
+            return;
+        }
+        if let Some(pos) = self.lookup.get(epoch).copied().flatten() {
+            self.epochs[pos]
+                .cues
+                .push(world, sun_in_view, evector_shown_deg, sun_azimuth_deg);
+        }
     }
 
     /// Adds one sample from its values (rounded first to the archive's angle precision).
@@ -300,6 +347,7 @@ impl SummaryBuilder {
             rayleigh_p: w.rayleigh_p(),
             n_eff: w.n_eff(),
             rayleigh_p_eff: w.rayleigh_p_eff(),
+            cue: e.cues.score(),
         }
     }
 
@@ -318,6 +366,7 @@ impl SummaryBuilder {
                     index: k,
                     turn_deg: self.epochs[k].planned.turn_before_deg,
                     world_shift_deg: shift,
+                    cue: EpochCues::predict(&self.epochs[k - 1].cues, &self.epochs[k].cues),
                 }
             })
             .collect();

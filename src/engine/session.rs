@@ -96,7 +96,12 @@ impl Engine {
             meta,
             writer: None,
             scoring: Scoring::new(SummaryBuilder::new(&planned)),
-            stamper: Stamper::new(setup.start_utc, mark_true_deg, sun),
+            stamper: Stamper::new(
+                setup.start_utc,
+                mark_true_deg,
+                sun,
+                setup.rig.sky_view_min_elevation_deg,
+            ),
             local_offset,
             timeline,
             sensor_lost: false,
@@ -223,6 +228,7 @@ impl Engine {
             arena_position_deg: self.timeline.arena_position_at(t, turntable),
             flying: self.timeline.flying,
             scored: is_scored(&self.timeline, t),
+            cues: self.timeline.current_cues(),
         };
         let (row, stamped) = self.stamper.row(t, raw, arena_heading_deg, ctx);
         if let Some(w) = self.writer.as_mut() {

@@ -31,6 +31,9 @@ pub struct Rig {
     pub arena_mark_bearing_deg: f64,
     /// What the measured bearing refers to.
     pub arena_mark_reference: BearingReference,
+    /// The lowest elevation the animal sees over the arena's wall, degrees (0 when the file
+    /// gives none: the horizon). Below it the sun's disc is out of view.
+    pub sky_view_min_elevation_deg: f64,
     /// Sensor calibration (units, direction, zero offset).
     pub calibration: SensorCalibration,
     /// Settle window after each turn, seconds (a protocol may override).
@@ -230,6 +233,7 @@ struct RawSite {
 struct RawArena {
     mark_bearing_deg: Option<S<f64>>,
     mark_reference: Option<S<String>>,
+    sky_view_min_elevation_deg: Option<S<f64>>,
 }
 
 #[derive(Deserialize)]
@@ -539,6 +543,10 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         "magnetic" => BearingReference::Magnetic,
         _ => BearingReference::True,
     };
+    let sky_view_min_elevation_deg = match &arena.sky_view_min_elevation_deg {
+        None => 0.0,
+        Some(v) => c.range(v, "arena.sky_view_min_elevation_deg", 0.0, 90.0)?,
+    };
 
     // [sensor]
     let sensor_s = raw.sensor.as_ref().ok_or_else(|| top("[sensor]"))?;
@@ -752,6 +760,7 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         time_zone: tz.get_ref().clone(),
         arena_mark_bearing_deg: mark,
         arena_mark_reference: reference,
+        sky_view_min_elevation_deg,
         calibration: SensorCalibration {
             unit,
             direction,
@@ -778,6 +787,7 @@ pub fn demo_rig() -> Rig {
         time_zone: "Europe/Paris".to_string(),
         arena_mark_bearing_deg: 0.0,
         arena_mark_reference: BearingReference::True,
+        sky_view_min_elevation_deg: 0.0,
         calibration: SensorCalibration::default(),
         settle_s: 5.0,
         sessions_dir: PathBuf::from("sessions"),
@@ -814,11 +824,11 @@ elevation_m = 210.0                  # REQUIRED: height above sea level, metres
 time_zone = "Europe/Paris"           # REQUIRED: IANA name, for local display only
 
 [arena]
-# Bearing of the arena's 0 mark, measured at set-up (never align anything by looking
-# at the sun). "magnetic" bearings are corrected with the WMM declination for the
-# site and date: true = magnetic + declination (east positive).
+# Bearing of the arena's 0 mark, measured at set-up (never align anything by looking at the
+# sun). "magnetic" is corrected with the site's WMM declination: true = magnetic + declination.
 mark_bearing_deg = 0.0               # REQUIRED
 mark_reference = "magnetic"          # REQUIRED: "magnetic" or "true"
+sky_view_min_elevation_deg = 0.0     # lowest elevation seen over the wall; below it the sun is out of view
 
 [sensor]
 # Where heading lines come from: "serial", "stdin", "replay" or "sim".
@@ -964,5 +974,37 @@ mod tests {
         assert_eq!(r.sensor.source, SensorSource::Sim);
         assert_eq!(r.turntable, TurntableConfig::Sim);
         assert_eq!(r.site, crate::sky::demo_site());
+    }
+
+    #[test]
+    fn sky_view_limit_is_read_and_checked() {
+        let rig = parse_rig(TEMPLATE, "rig.toml").unwrap();
+        assert_eq!(rig.sky_view_min_elevation_deg, 0.0);
+        let t = TEMPLATE.replace(
+            "sky_view_min_elevation_deg = 0.0",
+            "sky_view_min_elevation_deg = 22.5",
+        );
+        assert_eq!(
+            parse_rig(&t, "rig.toml")
+                .unwrap()
+                .sky_view_min_elevation_deg,
+            22.5
+        );
+        let e = err(&TEMPLATE.replace(
+            "sky_view_min_elevation_deg = 0.0",
+            "sky_view_min_elevation_deg = 95.0",
+        ));
+        assert!(
+            e.starts_with("rig.toml:23: arena.sky_view_min_elevation_deg: "),
+            "{e}"
+        );
+        // Left out: an open horizon.
+        let t = TEMPLATE.replace("sky_view_min_elevation_deg = 0.0", "");
+        assert_eq!(
+            parse_rig(&t, "rig.toml")
+                .unwrap()
+                .sky_view_min_elevation_deg,
+            0.0
+        );
     }
 }
