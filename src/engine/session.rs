@@ -448,6 +448,11 @@ impl Engine {
             marks,
         } = bufs;
         sensor_buf.clear();
+        // The simulated operator keeps over the arena what the current epoch's cues say (the
+        // shade, diffuser or filter a person places at the prompt), before the animal moves on.
+        if let Some(op) = operator.as_deref_mut() {
+            op.show(self.timeline.current_cues());
+        }
         if let Err(e) = sensor.drain(now, sensor_buf) {
             self.event(self.timeline.t_s, "sensor_error", e.to_string())?;
         }

@@ -16,10 +16,14 @@
 //! [`SimOperator::flying`]. [`in_process`] drops the operator (stops happen, nobody marks them);
 //! [`in_process_with_operator`] returns it.
 
+mod animal;
+
 use super::config::DecoderConfig;
 use super::decoder::Pipeline;
 use super::{HeadingSource, RigError, SensorEvent, SensorHealth, Turntable, TurntableEvent};
 use crate::frames::{SensorCalibration, SensorUnit, wrap_360_deg, wrap_signed_deg};
+use crate::protocol::Cues;
+pub use animal::{Shown, sky_target_deg};
 use std::collections::VecDeque;
 use std::sync::{Arc, Mutex, MutexGuard};
 
@@ -36,9 +40,13 @@ pub enum OperatorAction {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum, serde::Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum AnimalMode {
-    /// Holds a heading relative to the sun's azimuth (a sky compass: compensates arena turns).
+    /// A sky compass: holds its heading relative to the sun's azimuth while the sun is in view,
+    /// else an axial heading relative to the e-vector shown (compensates arena turns), else
+    /// drifts.
     #[default]
     Sky,
+    /// Steers by the e-vector shown only (never by the sun's disc), else drifts.
+    Polarization,
     /// Holds a heading relative to the arena (follows arena turns after a delay).
     Arena,
     /// Holds nothing: a random walk.
@@ -51,10 +59,15 @@ pub struct SimConfig {
     pub seed: u64,
     /// What the animal steers by.
     pub animal_mode: AnimalMode,
-    /// Sky: the held sun-relative heading; arena: the held arena heading; none: the start heading.
+    /// Sky and polarization: the preferred heading relative to the sun (from the seed);
+    /// arena: the held arena heading; none: the start heading.
     pub goal_deg: f64,
     /// Sun azimuth (clockwise from true north) `t` session seconds after the start.
     pub sun_azimuth_deg: Box<dyn Fn(f64) -> f64 + Send>,
+    /// Apparent sun elevation `t` session seconds after the start.
+    pub sun_elevation_deg: Box<dyn Fn(f64) -> f64 + Send>,
+    /// The rig's sky view limit: below this elevation the sun is out of the animal's view.
+    pub sky_view_min_elevation_deg: f64,
     /// True bearing of the arena's 0 mark at the start.
     pub arena_mark_true_bearing_deg: f64,
     /// Sensor sample rate, Hz.
@@ -102,15 +115,19 @@ pub struct SimConfig {
 }
 
 impl SimConfig {
-    /// Defaults: 100 Hz, 0.1 degree steps, 1 ms jitter, sky mode holding 90 degrees right of
-    /// the sun, sun fixed at azimuth 180, arena mark at true 0 (values are ours, chosen to look
-    /// like a steady flier, not measured).
+    /// Defaults: 100 Hz, 0.1 degree steps, 1 ms jitter, sky mode with a preferred heading
+    /// relative to the sun drawn from the seed (uniform on the circle: each animal its own),
+    /// sun fixed at azimuth 180 and elevation 45, arena mark at true 0, open horizon (values
+    /// are ours, chosen to look like a steady flier, not measured).
     pub fn new(seed: u64) -> Self {
+        let mut goal_rng = SimRng::new(seed.wrapping_mul(0x2545_F491_4F6C_DD1D).wrapping_add(13));
         Self {
             seed,
             animal_mode: AnimalMode::Sky,
-            goal_deg: 90.0,
+            goal_deg: (360.0 * goal_rng.uniform()).round(),
             sun_azimuth_deg: Box::new(|_| 180.0),
+            sun_elevation_deg: Box::new(|_| 45.0),
+            sky_view_min_elevation_deg: 0.0,
             arena_mark_true_bearing_deg: 0.0,
             rate_hz: 100.0,
             quantization: 0.1,
@@ -216,6 +233,8 @@ pub struct SimWorld {
     last_id: u64,
     // operator
     marks: VecDeque<(f64, OperatorAction)>,
+    /// What the operator has put over the arena (open sky until told).
+    cues: Cues,
 }
 
 impl SimWorld {
@@ -225,7 +244,7 @@ impl SimWorld {
         let garbage_rng = SimRng::new(cfg.seed.wrapping_mul(31).wrapping_add(7));
         let bearing0 = cfg.arena_mark_true_bearing_deg;
         let heading_deg = match cfg.animal_mode {
-            AnimalMode::Sky => (cfg.sun_azimuth_deg)(0.0) + cfg.goal_deg,
+            AnimalMode::Sky | AnimalMode::Polarization => (cfg.sun_azimuth_deg)(0.0) + cfg.goal_deg,
             AnimalMode::Arena => bearing0 + cfg.goal_deg,
             AnimalMode::None => cfg.goal_deg,
         };
@@ -253,7 +272,30 @@ impl SimWorld {
             motions: Vec::new(),
             last_id: 0,
             marks: VecDeque::new(),
+            cues: Cues::OPEN_SKY,
         }
+    }
+
+    /// What the animal is shown at `t_s` under the cues in place.
+    pub fn shown(&self, t_s: f64) -> Shown {
+        let az = (self.cfg.sun_azimuth_deg)(t_s);
+        let el = (self.cfg.sun_elevation_deg)(t_s);
+        Shown {
+            sun_azimuth_deg: az,
+            sun_in_view: self
+                .cues
+                .sun_in_view(el, self.cfg.sky_view_min_elevation_deg),
+            evector_deg: self.cues.evector_shown_deg(
+                az,
+                self.arena_bearing_deg(t_s),
+                self.cfg.arena_mark_true_bearing_deg,
+            ),
+        }
+    }
+
+    /// The operator puts `cues` over the arena (a shade, a diffuser, a filter) from now on.
+    pub fn set_cues(&mut self, cues: Cues) {
+        self.cues = cues;
     }
 
     /// The configuration.
@@ -341,11 +383,10 @@ impl SimWorld {
             return;
         }
         let target = match self.cfg.animal_mode {
-            AnimalMode::Sky => Some((self.cfg.sun_azimuth_deg)(t_s) + self.cfg.goal_deg),
             AnimalMode::Arena => {
                 Some(self.arena_bearing_deg(t_s - self.cfg.reorient_delay_s) + self.cfg.goal_deg)
             }
-            AnimalMode::None => None,
+            mode => sky_target_deg(mode, self.cfg.goal_deg, &self.shown(t_s), self.heading_deg),
         };
         let mut d = sigma * dt.sqrt() * noise;
         if let Some(target) = target {
@@ -631,6 +672,11 @@ impl SimOperator {
     /// The animal's true world heading at the last generated sample.
     pub fn world_heading_deg(&self) -> f64 {
         lock(&self.world).world_heading_deg()
+    }
+
+    /// The operator puts what an epoch's cues say over the arena (see [`SimWorld::set_cues`]).
+    pub fn show(&mut self, cues: Cues) {
+        lock(&self.world).set_cues(cues);
     }
 }
 

@@ -219,3 +219,22 @@ fn quantized_counts_mirrored() {
         assert!((0.0..4096.0).contains(&raw));
     }
 }
+
+#[test]
+fn each_seed_its_own_preferred_heading() {
+    // Individual headings: the preferred sun-relative heading is drawn per seed, uniform on
+    // the circle, so 24 animals cover every quadrant and have no common direction.
+    let goals: Vec<f64> = (1..=24).map(|s| SimConfig::new(s).goal_deg).collect();
+    for q in 0..4 {
+        let lo = 90.0 * q as f64;
+        assert!(
+            goals.iter().any(|g| (lo..lo + 90.0).contains(g)),
+            "quadrant {q}: {goals:?}"
+        );
+    }
+    let (s, c) = goals.iter().fold((0.0, 0.0), |(s, c), g| {
+        (s + g.to_radians().sin(), c + g.to_radians().cos())
+    });
+    assert!((s * s + c * c).sqrt() / 24.0 < 0.4, "{goals:?}");
+    assert_eq!(SimConfig::new(5).goal_deg, SimConfig::new(5).goal_deg);
+}
