@@ -338,17 +338,17 @@ pub fn render_text(plan: &Plan, tz: Tz) -> String {
     let indent = widths[0] + 2;
     let mut cues_shown: Option<crate::protocol::Cues> = None;
     for (r, e) in rows.iter().zip(&plan.epochs) {
+        if cues_shown != Some(e.cues) {
+            // What the animal sees, from this epoch on (until the next such line).
+            let _ = writeln!(out, "{}sees: {}", " ".repeat(indent), e.cues.describe());
+            cues_shown = Some(e.cues);
+        }
         if let Some(p) = &e.prompt {
             let _ = writeln!(
                 out,
                 "{}>> prompt, wait for confirmation: {p}",
                 " ".repeat(indent)
             );
-        }
-        if cues_shown != Some(e.cues) {
-            // What the animal sees, from this epoch on (until the next such line).
-            let _ = writeln!(out, "{}sees: {}", " ".repeat(indent), e.cues.describe());
-            cues_shown = Some(e.cues);
         }
         let _ = writeln!(out, "{}", line(r));
     }
