@@ -188,3 +188,74 @@ fn animals_choose_their_own_headings() {
         .all(|(i, a)| rel[i + 1..].iter().all(|b| fold(a - b, 360.0).abs() > 10.0));
     assert!(distinct, "{rel:?}");
 }
+
+#[test]
+fn repair_recomputes_the_same_cue_scores_and_batch_reads_old_archives() {
+    // summary.json rebuilt from samples.csv by `check --repair` carries the same cue scores as
+    // the live one; `batch` over a new session and one written before cues were recorded
+    // (tests/data) reads both, with empty cue cells for the old one.
+    let tmp = tempfile::tempdir().expect("tmp");
+    let dir = demo(tmp.path(), "polarizer", "21");
+    let live = read_json(&dir.join("summary.json"));
+    std::fs::remove_file(dir.join("summary.json")).expect("rm");
+    let out = support::bin()
+        .args(["check", "--repair"])
+        .arg(&dir)
+        .output()
+        .expect("check");
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let repaired = read_json(&dir.join("summary.json"));
+    assert_eq!(live["epochs"], repaired["epochs"]);
+    assert_eq!(live["turns"], repaired["turns"]);
+    let old = Path::new("tests/data/sessions/2026-06-21_larkfield-meadow-demo_lm-01_001");
+    let out_dir = tmp.path().join("batch");
+    let out = support::bin()
+        .arg("batch")
+        .arg(&dir)
+        .arg(old)
+        .arg("--out")
+        .arg(&out_dir)
+        .output()
+        .expect("batch");
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let (h, rows) = read_csv(&out_dir.join("epochs.csv"));
+    let id = live_id(&dir);
+    let mut new_pol = 0;
+    for r in &rows {
+        if col(&h, r, "session_id") == id {
+            if col(&h, r, "cue") == "polarization" {
+                let a: f64 = col(&h, r, "axial_r").parse().expect("axial_r");
+                assert!(a > 0.7);
+                new_pol += 1;
+            }
+        } else {
+            assert_eq!(
+                (col(&h, r, "cue"), col(&h, r, "axial_r")),
+                ("", ""),
+                "{r:?}"
+            );
+        }
+    }
+    assert_eq!(new_pol, 8);
+    let (h, rows) = read_csv(&out_dir.join("turns.csv"));
+    let predicted = rows
+        .iter()
+        .filter(|r| col(&h, r, "cue_predicted_mod_deg") == "180")
+        .count();
+    assert_eq!(predicted, 7, "{rows:?}");
+}
+
+fn live_id(dir: &Path) -> String {
+    dir.file_name()
+        .expect("name")
+        .to_string_lossy()
+        .into_owned()
+}
