@@ -212,7 +212,13 @@ impl Layout {
                 (1u64 << (to - base)) - 1
             };
             let (commas, newlines, maybe_quote) = masks_64(block);
-            if maybe_quote && block[..(to - base).min(64)].contains(&b'"') {
+            // Quoted fields, and text that is not ASCII (the general reader rejects a line
+            // that is not UTF-8, as `check` does), are left to the general reader.
+            if maybe_quote
+                && block[..(to - base).min(64)]
+                    .iter()
+                    .any(|&b| b == b'"' || !b.is_ascii())
+            {
                 return None;
             }
             let mut seps = (commas | newlines) & valid;
@@ -284,7 +290,7 @@ impl Layout {
 }
 
 /// Bit masks of the commas and newlines among 64 bytes (bit i for byte i), and whether any
-/// of the 64 is a quote: 16-byte compares and byte-mask moves on x86-64 (SSE2, its
+/// of the 64 is a quote or not ASCII: 16-byte compares and byte-mask moves on x86-64 (SSE2, its
 /// baseline), the quote compares merged before their one mask move; a plain loop elsewhere.
 #[cfg(target_arch = "x86_64")]
 #[inline(always)]
@@ -304,7 +310,8 @@ fn masks_64(bytes: &[u8; 64]) -> (u64, u64, bool) {
             let eq = |b: u8| _mm_cmpeq_epi8(v, _mm_set1_epi8(b as i8));
             commas |= u64::from(_mm_movemask_epi8(eq(b',')) as u16) << (16 * k);
             newlines |= u64::from(_mm_movemask_epi8(eq(b'\n')) as u16) << (16 * k);
-            quotes = _mm_or_si128(quotes, eq(b'"'));
+            // A quote, or a byte past ASCII (its high bit): not the plain case.
+            quotes = _mm_or_si128(quotes, _mm_or_si128(eq(b'"'), v));
         }
         (commas, newlines, _mm_movemask_epi8(quotes) != 0)
     }
@@ -318,7 +325,11 @@ fn masks_64(bytes: &[u8; 64]) -> (u64, u64, bool) {
         commas |= u64::from(b == b',') << i;
         newlines |= u64::from(b == b'\n') << i;
     }
-    (commas, newlines, bytes.contains(&b'"'))
+    (
+        commas,
+        newlines,
+        bytes.iter().any(|&b| b == b'"' || !b.is_ascii()),
+    )
 }
 
 /// Bit mask (the high bit of each byte) of the bytes of `w` equal to `b`, exactly (no false

@@ -10,7 +10,7 @@
 use super::AnalysisError;
 use super::meta::{SessionInfo, read_session_info};
 use super::scan::{Row, ScanOutcome, scan_samples};
-use crate::archive::read::for_each_sample;
+use crate::archive::read::{RowOrder, for_each_valid_sample};
 use crate::circular::{HeadingAccumulator, SinCosMemo};
 use crate::frames::{signed_difference_deg, sun_relative_heading_deg};
 use std::path::Path;
@@ -319,19 +319,26 @@ fn analyse(
     let mut pass = SessionPass::new(info.clone());
     let mut seen: Vec<Row> = Vec::new();
     let keep = want_rows;
+    // The archive's rule on the order of rows, as `check` applies it: a row that breaks it
+    // sends the file to the general reader, whose error names the line.
+    let mut order = RowOrder::default();
+    let mut in_order = true;
     if let ScanOutcome::Done(_) = scan_samples(&samples, |r| {
+        in_order &= order.next(r.t_s).is_ok();
         pass.push(r);
         if keep {
             seen.push(*r);
         }
-    }) {
+    }) && in_order
+    {
         seen.iter().for_each(&mut also);
         return Ok(pass.finish(false));
     }
-    // Not a plain file: the archive's general reader (quoted fields, a torn last line, and the
-    // error message naming the line) from the start.
+    // Not a plain file: the archive's general reader (quoted fields, a torn last line, text
+    // that is not UTF-8, rows out of order, and the error message naming the line) from the
+    // start.
     let mut pass = SessionPass::new(info);
-    let stats = for_each_sample(&samples, |s| {
+    let stats = for_each_valid_sample(&samples, |s| {
         let r = Row::from(s);
         pass.push(&r);
         also(&r);
