@@ -259,3 +259,35 @@ fn live_id(dir: &Path) -> String {
         .to_string_lossy()
         .into_owned()
 }
+
+#[test]
+fn demo_warns_at_the_start_in_plans_words_when_the_shown_sun_is_down() {
+    // 21:00 UTC in June: the sun is below the horizon at the demo site for every epoch.
+    let tmp = tempfile::tempdir().expect("tmp");
+    let out = support::bin()
+        .args(["demo", "--headless", "--speed", "max", "--seed", "3"])
+        .args(["--protocol", "protocols/smoke.toml"])
+        .args(["--start", "2026-06-14T21:00:00Z", "--sessions"])
+        .arg(tmp.path())
+        .output()
+        .expect("demo");
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains(
+            "skybearing: warning: epoch 1: the sun is below the horizon for the whole epoch"
+        ),
+        "{err}"
+    );
+    let plan = support::bin()
+        .args(["plan", "--protocol", "protocols/smoke.toml"])
+        .args(["--start", "2026-06-14T21:00:00Z"])
+        .output()
+        .expect("plan");
+    let text = String::from_utf8_lossy(&plan.stdout);
+    let line = err
+        .lines()
+        .find(|l| l.contains("epoch 1: the sun is below"))
+        .and_then(|l| l.strip_prefix("skybearing: warning: "))
+        .expect("warning");
+    assert!(text.contains(line), "{text}\n{line}");
+}
