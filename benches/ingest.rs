@@ -90,6 +90,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
                     condition: "open sky".into(),
                     arena: ArenaMove::Stay,
                     prompt: None,
+                    cues: skybearing::protocol::Cues::OPEN_SKY,
                 },
                 EpochPlan {
                     index: 2,
@@ -97,6 +98,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
                     condition: "open sky".into(),
                     arena: ArenaMove::Stay,
                     prompt: None,
+                    cues: skybearing::protocol::Cues::OPEN_SKY,
                 },
             ],
         },

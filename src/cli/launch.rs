@@ -22,6 +22,37 @@ pub struct Display {
     pub stdin_commands: bool,
 }
 
+/// The plan's warnings about a sun the protocol shows but the animal may not see (below the
+/// horizon, below the arena's sky view limit, entering the view mid-epoch), in the words
+/// `plan` uses, for `run` and `demo` to print at the start. None when no plan can be made.
+pub fn sun_view_warnings(
+    protocol: &crate::protocol::Protocol,
+    rig: &crate::rig::config::Rig,
+    start_utc: chrono::DateTime<chrono::Utc>,
+) -> Vec<String> {
+    let Ok((site, _)) = super::plan::plan_site_from_rig(rig, start_utc) else {
+        return Vec::new();
+    };
+    let Ok(plan) = crate::protocol::plan::make_plan(
+        protocol,
+        &site,
+        start_utc,
+        crate::protocol::plan::DEFAULT_MAX_DRIFT_DEG,
+    ) else {
+        return Vec::new();
+    };
+    plan.warnings
+        .into_iter()
+        .filter(|w| {
+            w.kind.is_sun_view()
+                && w.epoch
+                    .and_then(|k| protocol.epoch(k))
+                    .is_some_and(|e| e.cues.sun == crate::protocol::cues::SunCue::Visible)
+        })
+        .map(|w| w.message)
+        .collect()
+}
+
 /// Turns a line typed on standard input (headless runs) into an operator command.
 pub fn command_from_line(line: &str) -> Option<Command> {
     let line = line.trim();

@@ -66,6 +66,9 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         seed: None,
         extra: serde_json::json!({ "rig_file": args.rig.display().to_string() }),
     };
+    for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
+        eprintln!("skybearing: warning: {w}");
+    }
     let engine = Engine::new(setup)?;
     let sensor = crate::rig::open_sensor(&rig, shared.clone())
         .with_context(|| format!("{}: sensor", args.rig.display()))?;

@@ -107,7 +107,12 @@ impl Engine {
             meta,
             writer: None,
             scoring: Scoring::new(SummaryBuilder::new(&planned)),
-            stamper: Stamper::new(setup.start_utc, mark_true_deg, sun),
+            stamper: Stamper::new(
+                setup.start_utc,
+                mark_true_deg,
+                sun,
+                setup.rig.sky_view_min_elevation_deg,
+            ),
             local_offset,
             timeline,
             sensor_lost: false,
@@ -305,6 +310,7 @@ impl Engine {
             arena_position_deg: self.timeline.arena_position_at(t, turntable),
             flying: self.timeline.flying,
             scored: is_scored(&self.timeline, t),
+            cues: self.timeline.current_cues(),
         };
         let (row, stamped) = self.stamper.row(t, raw, arena_heading_deg, ctx);
         if let Some(w) = self.writer.as_mut() {
@@ -534,6 +540,11 @@ impl Engine {
             marks,
         } = bufs;
         sensor_buf.clear();
+        // The simulated operator keeps over the arena what the current epoch's cues say (the
+        // shade, diffuser or filter a person places at the prompt), before the animal moves on.
+        if let Some(op) = operator.as_deref_mut() {
+            op.show(self.timeline.current_cues());
+        }
         if let Err(e) = sensor.drain(now, sensor_buf) {
             self.event(self.timeline.t_s, "sensor_error", e.to_string())?;
         }

@@ -188,6 +188,9 @@ pub struct Snapshot {
     pub sun_elevation_deg: f64,
     /// Zenith e-vector axis now, [0, 180).
     pub zenith_evector_deg: f64,
+    /// World axis of the e-vector the animal is shown now (the sky's, or a filter's), [0, 180);
+    /// None when the epoch's cues give no polarization.
+    pub evector_shown_deg: Option<f64>,
     /// Latest arena heading.
     pub arena_heading_deg: Option<f64>,
     /// Latest world heading.

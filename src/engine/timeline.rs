@@ -51,6 +51,8 @@ pub(super) struct Timeline {
 pub(super) struct EpochRt {
     pub(super) index: usize,
     pub(super) condition: String,
+    /// What the animal can see.
+    pub(super) cues: crate::protocol::Cues,
     pub(super) duration_s: f64,
     pub(super) arena: ArenaMove,
     pub(super) prompt: Option<String>,
@@ -109,6 +111,7 @@ impl Timeline {
             epochs.push(EpochRt {
                 index: e.index,
                 condition: e.condition.clone(),
+                cues: e.cues,
                 duration_s: e.duration_s,
                 arena: e.arena,
                 prompt: e.prompt.clone(),
@@ -157,6 +160,16 @@ impl Timeline {
             kind,
             detail: detail.into(),
         });
+    }
+
+    /// The cues of the epoch that samples now belong to (see [`Timeline::current_epoch`]).
+    pub(super) fn current_cues(&self) -> crate::protocol::Cues {
+        let e = match &self.phase {
+            Phase::Running { k } => self.epochs.get(*k),
+            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => self.epochs.get(*next),
+            Phase::Finished => self.epochs.last(),
+        };
+        e.map(|e| e.cues).unwrap_or_default()
     }
 
     pub(super) fn current_epoch(&self) -> usize {

@@ -177,6 +177,14 @@ impl Engine {
             sun_azimuth_deg: sun_now.azimuth_deg,
             sun_elevation_deg: sun_now.elevation_deg,
             zenith_evector_deg: zenith_evector_deg(sun_now.azimuth_deg),
+            evector_shown_deg: self
+                .stamper
+                .shown(
+                    &self.timeline.current_cues(),
+                    &sun_now,
+                    self.stamper.arena_bearing_deg(cur_pos),
+                )
+                .1,
             arena_heading_deg: self.last_sample.map(|s| s.arena_heading_deg),
             world_heading_deg: self.last_sample.map(|s| s.world_heading_deg),
             sun_relative_heading_deg: self.last_sample.map(|s| s.sun_relative_heading_deg),

@@ -118,6 +118,8 @@ struct RawEntry {
     order: Option<Spanned<Order>>,
     #[serde(default)]
     seed: Option<Spanned<u64>>,
+    #[serde(default)]
+    cues: Option<Spanned<super::cues::RawCues>>,
 }
 
 /// The condition an epoch gets when the file names none.
@@ -576,6 +578,13 @@ fn expand_entry(
         },
         (None, None) => ArenaMove::Stay,
     };
+    let cues = match &e.cues {
+        Some(c) => c
+            .get_ref()
+            .validate(c.span())
+            .map_err(|(s, key, msg)| src.field_err(s, f(&format!("cues.{key}")), msg))?,
+        None => super::Cues::OPEN_SKY,
+    };
     let span = e.duration_s.span();
 
     let Some(count_raw) = &e.count else {
@@ -601,6 +610,7 @@ fn expand_entry(
                 condition,
                 arena: first_move,
                 prompt,
+                cues,
             },
             span,
         )]);
@@ -785,6 +795,7 @@ fn expand_entry(
                 condition: condition.clone(),
                 arena,
                 prompt: if k == 0 { prompt.clone() } else { None },
+                cues,
             },
             span.clone(),
         ));

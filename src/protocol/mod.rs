@@ -7,10 +7,12 @@
 //!   `protocols/smoke.toml`, built into the binary;
 //! - [`plan::make_plan`]: the concrete timeline of a session with the sun at each epoch.
 
+pub mod cues;
 pub mod file;
 pub mod plan;
 pub mod sequence;
 
+pub use cues::Cues;
 pub use file::{ProtocolError, parse_protocol};
 pub use sequence::Order;
 
@@ -60,6 +62,8 @@ pub struct EpochPlan {
     pub arena: ArenaMove,
     /// A prompt the operator must confirm before the epoch starts (None: no prompt).
     pub prompt: Option<String>,
+    /// What the animal can see (default: open sky).
+    pub cues: Cues,
 }
 
 /// An expanded protocol.

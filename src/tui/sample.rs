@@ -293,6 +293,7 @@ impl SnapshotBuilder {
             sun_azimuth_deg: sun_az,
             sun_elevation_deg: sun_el,
             zenith_evector_deg: wrap_360_deg(sun_az + 90.0) % 180.0,
+            evector_shown_deg: Some(wrap_360_deg(sun_az + 90.0) % 180.0),
             arena_heading_deg: heading_known.then(|| latest.map(|p| p.arena_deg).unwrap_or(0.0)),
             world_heading_deg: heading_known.then(|| latest.map(|p| p.world_deg).unwrap_or(0.0)),
             sun_relative_heading_deg: heading_known
