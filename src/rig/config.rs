@@ -44,6 +44,8 @@ pub struct Rig {
     pub sensor: SensorConfig,
     /// The turntable that turns the arena.
     pub turntable: TurntableConfig,
+    /// The motorized polarizer that sets a filter's axis between epochs, if the rig has one.
+    pub polarizer: Option<PolarizerConfig>,
     /// The file the rig was read from (for error messages), "built-in demo rig" otherwise.
     #[serde(skip)]
     pub source_name: String,
@@ -167,6 +169,26 @@ pub enum TurntableConfig {
     Sim,
 }
 
+/// The polarizer as configured (`[polarizer]`, optional).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case", tag = "kind")]
+pub enum PolarizerConfig {
+    /// A controller on a serial port speaking the polarizer part of docs/turntable-protocol.md.
+    Serial {
+        /// Port path.
+        path: PathBuf,
+        /// Baud rate.
+        baud: u32,
+        /// Seconds to wait for a reply before the one retry, and again before a fault.
+        timeout_s: f64,
+        /// Line of `polarizer.path` in the rig file (for open-time errors).
+        #[serde(skip)]
+        path_line: Option<usize>,
+    },
+    /// Set by hand: the engine prompts the operator.
+    Manual,
+}
+
 /// A rig file that could not be read or checked. Always one line.
 #[derive(Debug, thiserror::Error)]
 pub enum RigFileError {
@@ -214,6 +236,7 @@ struct RawRig {
     arena: Option<S<RawArena>>,
     sensor: Option<S<RawSensor>>,
     turntable: Option<S<RawTurntable>>,
+    polarizer: Option<S<RawTurntable>>,
     settle_s: Option<S<toml::Value>>,
     sessions_dir: Option<S<String>>,
 }
@@ -770,6 +793,42 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         }
     };
 
+    // [polarizer] (optional): the same fields as the turntable's, without "sim".
+    let polarizer = match raw.polarizer.as_ref() {
+        None => None,
+        Some(p_s) => {
+            let at = p_s.span().start;
+            let t = p_s.get_ref();
+            let kind_s = c.req(&t.kind, at, "polarizer.kind")?;
+            match c.choice(
+                kind_s,
+                "polarizer.kind",
+                "polarizer kind",
+                &["serial", "manual"],
+            )? {
+                "serial" => {
+                    let p = c.req(&t.path, at, "polarizer.path")?;
+                    Some(PolarizerConfig::Serial {
+                        path: c.path(p, "polarizer.path")?,
+                        baud: c.baud(c.req(&t.baud, at, "polarizer.baud")?, "polarizer.baud")?,
+                        timeout_s: match &t.timeout_s {
+                            None => 30.0,
+                            Some(v) => c.range(v, "polarizer.timeout_s", 0.05, 600.0)?,
+                        },
+                        path_line: Some(line_of(text, p.span().start)),
+                    })
+                }
+                _ => {
+                    let why = "with kind = \"manual\"";
+                    c.not_for(&t.path, "polarizer.path", why)?;
+                    c.not_for(&t.baud, "polarizer.baud", why)?;
+                    c.not_for(&t.timeout_s, "polarizer.timeout_s", why)?;
+                    Some(PolarizerConfig::Manual)
+                }
+            }
+        }
+    };
+
     if let Some(v) = &raw.settle_s {
         return Err(c.err(
             v.span().start,
@@ -806,6 +865,7 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
             path_line,
         },
         turntable,
+        polarizer,
         source_name: file.to_string(),
     })
 }
@@ -831,6 +891,7 @@ pub fn demo_rig() -> Rig {
             path_line: None,
         },
         turntable: TurntableConfig::Sim,
+        polarizer: None,
         source_name: "built-in demo rig".to_string(),
     }
 }

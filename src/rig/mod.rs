@@ -7,6 +7,7 @@
 
 pub mod config;
 pub mod decoder;
+pub mod polarizer;
 pub mod pty;
 pub mod sim;
 pub mod source;

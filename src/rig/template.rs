@@ -66,6 +66,15 @@ kind = "manual"                      # REQUIRED
 # path = "/dev/ttyACM0"              # serial only
 # baud = 115200                      # serial only
 # timeout_s = 30.0                   # serial only: wait for a reply, retry once, then fault
+
+# Optional: a polarizer that sets a filter's axis between epochs (protocols whose epochs give
+# different cues.filter_axis_deg). Leave it out when there is none. "serial": a controller
+# speaking the polarizer part of docs/turntable-protocol.md; "manual": you set it when prompted.
+# [polarizer]
+# kind = "serial"
+# path = "/dev/ttyACM1"
+# baud = 115200
+# timeout_s = 30.0                   # wait for a reply, retry once, then fault
 "#;
 
 /// The template with every placeholder filled in with the demo site's values (Larkfield

@@ -43,6 +43,7 @@ pub fn open_turntable(rig: &Rig, clock: Arc<dyn Clock>) -> Result<Box<dyn Turnta
                 *timeout_s,
                 port,
                 clock,
+                TURNTABLE_LINES,
             )?))
         }
         TurntableConfig::Manual => Ok(Box::new(ManualTurntable::default())),
@@ -145,8 +146,28 @@ struct PendingTurn {
     attempts: u32,
 }
 
+/// Which device a serial line-protocol driver talks to: the command word it sends and the
+/// name its faults carry.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct LineDevice {
+    /// Command word (`TURN`, `AXIS`).
+    pub(super) verb: &'static str,
+    /// Device name for messages (`turntable`, `polarizer`).
+    pub(super) who: &'static str,
+    /// What one command is called in messages (`turn`, `axis command`).
+    pub(super) what: &'static str,
+}
+
+/// The turntable's commands (docs/turntable-protocol.md).
+pub(super) const TURNTABLE_LINES: LineDevice = LineDevice {
+    verb: "TURN",
+    who: "turntable",
+    what: "turn",
+};
+
 /// A motor controller on a serial port.
 pub struct SerialTurntable {
+    device: LineDevice,
     shared: Arc<Mutex<TtShared>>,
     stop: Arc<AtomicBool>,
     timeout_s: f64,
@@ -158,12 +179,13 @@ pub struct SerialTurntable {
 }
 
 impl SerialTurntable {
-    fn start(
+    pub(super) fn start(
         path: PathBuf,
         baud: u32,
         timeout_s: f64,
         port: serialport::TTYPort,
         clock: Arc<dyn Clock>,
+        device: LineDevice,
     ) -> Result<Self, RigError> {
         let reader = port.try_clone_native().map_err(|e| RigError::Device {
             device: path.display().to_string(),
@@ -178,9 +200,10 @@ impl SerialTurntable {
         let (sh, st) = (shared.clone(), stop.clone());
         let p2 = path.clone();
         let join = std::thread::Builder::new()
-            .name("turntable-serial".into())
+            .name(format!("{}-serial", device.who))
             .spawn(move || reply_thread(p2, baud, Some(reader), sh, st, clock))?;
         let mut me = Self {
+            device,
             shared,
             stop,
             timeout_s,
@@ -273,22 +296,24 @@ impl Drop for SerialTurntable {
     }
 }
 
-impl Turntable for SerialTurntable {
-    fn start_turn(&mut self, now_s: f64, by_deg: f64) -> Result<(), RigError> {
-        if !by_deg.is_finite() {
+impl SerialTurntable {
+    /// Sends `<verb> <id> <value_deg>` (a new id) and waits for its answer in `poll`.
+    pub(super) fn command(&mut self, now_s: f64, value_deg: f64) -> Result<(), RigError> {
+        let what = self.device.what;
+        if !value_deg.is_finite() {
             return Err(RigError::Device {
                 device: self.what.clone(),
-                message: format!("turn of {by_deg} deg is not a number"),
+                message: format!("{what} of {value_deg} deg is not a number"),
             });
         }
         if let Some(p) = &self.pending {
             return Err(RigError::Device {
                 device: self.what.clone(),
-                message: format!("turn {} is still running", p.id),
+                message: format!("{what} {} is still running", p.id),
             });
         }
         self.next_id += 1;
-        let command = format!("TURN {} {by_deg:.3}\n", self.next_id);
+        let command = format!("{} {} {value_deg:.3}\n", self.device.verb, self.next_id);
         self.send(&command);
         self.pending = Some(PendingTurn {
             id: self.next_id,
@@ -297,6 +322,12 @@ impl Turntable for SerialTurntable {
             attempts: 1,
         });
         Ok(())
+    }
+}
+
+impl Turntable for SerialTurntable {
+    fn start_turn(&mut self, now_s: f64, by_deg: f64) -> Result<(), RigError> {
+        self.command(now_s, by_deg)
     }
 
     fn poll(&mut self, now_s: f64, out: &mut Vec<TurntableEvent>) -> Result<(), RigError> {
@@ -328,7 +359,7 @@ impl Turntable for SerialTurntable {
                     self.pending = None;
                     out.push(TurntableEvent::Fault {
                         t_s,
-                        text: format!("turntable reports: {text}"),
+                        text: format!("{} reports: {text}", self.device.who),
                     });
                 }
                 _ => {}
@@ -349,8 +380,8 @@ impl Turntable for SerialTurntable {
                 out.push(TurntableEvent::Fault {
                     t_s: p.deadline_s,
                     text: format!(
-                        "no reply to turn {} within {} s, nor to the retry",
-                        p.id, self.timeout_s
+                        "no reply to {} {} within {} s, nor to the retry",
+                        self.device.what, p.id, self.timeout_s
                     ),
                 });
             }
