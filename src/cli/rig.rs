@@ -66,8 +66,9 @@ pub fn run(args: RigArgs) -> anyhow::Result<i32> {
                     drop(crate::rig::open_sensor(&rig, clock.clone())?);
                 }
                 if rig.turntable != crate::rig::config::TurntableConfig::Sim {
-                    drop(crate::rig::open_turntable(&rig, clock)?);
+                    drop(crate::rig::open_turntable(&rig, clock.clone())?);
                 }
+                drop(crate::rig::polarizer::open_polarizer(&rig, clock)?);
             }
             print!("{}", describe_rig(&file.display().to_string(), &rig));
             Ok(0)
@@ -83,7 +84,7 @@ pub fn describe_rig(file: &str, rig: &Rig) -> String {
         BearingReference::True => "true",
     };
     format!(
-        "{file}: ok\n  site       {} ({:.4}, {:.4}, {} m), time zone {}\n  arena      0 mark at {} deg {reference}\n  sensor     {}\n  turntable  {}\n  sessions   {}\n",
+        "{file}: ok\n  site       {} ({:.4}, {:.4}, {} m), time zone {}\n  arena      0 mark at {} deg {reference}\n  sensor     {}\n  turntable  {}\n{}  sessions   {}\n",
         site.name,
         site.latitude_deg,
         site.longitude_deg,
@@ -92,6 +93,21 @@ pub fn describe_rig(file: &str, rig: &Rig) -> String {
         rig.arena_mark_bearing_deg,
         describe_sensor(rig),
         describe_turntable(&rig.turntable),
+        match &rig.polarizer {
+            None => String::new(),
+            Some(crate::rig::config::PolarizerConfig::Manual) => {
+                "  polarizer  set by hand when prompted\n".to_string()
+            }
+            Some(crate::rig::config::PolarizerConfig::Serial {
+                path,
+                baud,
+                timeout_s,
+                ..
+            }) => format!(
+                "  polarizer  serial port {} at {baud} baud, reply within {timeout_s} s\n",
+                path.display()
+            ),
+        },
         rig.sessions_dir.display(),
     )
 }

@@ -69,11 +69,16 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
     for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
         eprintln!("skybearing: warning: {w}");
     }
-    let engine = Engine::new(setup)?;
+    let mut engine = Engine::new(setup)?;
     let sensor = crate::rig::open_sensor(&rig, shared.clone())
         .with_context(|| format!("{}: sensor", args.rig.display()))?;
-    let turntable = crate::rig::open_turntable(&rig, shared)
+    let turntable = crate::rig::open_turntable(&rig, shared.clone())
         .with_context(|| format!("{}: turntable", args.rig.display()))?;
+    if let Some(p) = crate::rig::polarizer::open_polarizer(&rig, shared)
+        .with_context(|| format!("{}: polarizer", args.rig.display()))?
+    {
+        engine = engine.with_polarizer(p);
+    }
     let outcome = launch(
         engine,
         sensor,

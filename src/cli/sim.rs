@@ -134,7 +134,7 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
 
     println!("{}", rig_path.display());
     eprintln!(
-        "sim: serving rig {} | sensor {} -> {} at {} Hz | turntable {} -> {} | seed {} | animal {:?} | Ctrl-C to stop",
+        "sim: serving rig {} | sensor {} -> {} at {} Hz | turntable {} -> {} | polarizer {} | seed {} | animal {:?} | Ctrl-C to stop",
         rig_path.display(),
         server.sensor_link.display(),
         server
@@ -143,6 +143,7 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
         args.rate_hz,
         server.turntable_link.display(),
         server.turntable_slave().display(),
+        server.polarizer_link.display(),
         args.seed,
         args.animal_mode,
     );
@@ -163,6 +164,12 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
             SimNotice::TurnDone { id, position_deg } => {
                 format!("turn {id} done, position {position_deg:.1} deg")
             }
+            SimNotice::AxisCommand { id, axis_deg } => {
+                format!("polarizer command {id}: axis {axis_deg:.1} deg")
+            }
+            SimNotice::AxisDone { id, axis_deg } => format!(
+                "polarizer {id} done, axis {axis_deg:.1} deg (the animal is shown this filter, sun blocked)"
+            ),
             SimNotice::Flight(true) => "animal flies again".into(),
             SimNotice::Flight(false) => "animal stopped flying".into(),
             SimNotice::Unknown(s) => format!("turntable: unknown command \"{s}\""),

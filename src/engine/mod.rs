@@ -5,6 +5,7 @@ pub mod snapshot;
 pub use snapshot::{
     Command, EpochRow, EpochState, Health, Prompt, Snapshot, SnapshotCell, TracePoint, TurnRow,
 };
+mod polarizing;
 mod scoring;
 pub mod session;
 mod setup;

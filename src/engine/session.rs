@@ -24,6 +24,7 @@ use super::view::Trace;
 use crate::archive::{self, EventRow, SessionMeta, SessionWriter, SummaryBuilder};
 use crate::clock::Clock;
 use crate::engine::snapshot::{Command, SnapshotCell};
+use crate::rig::polarizer::Polarizer;
 use crate::rig::sim::{OperatorAction, SimOperator};
 use crate::rig::{HeadingSource, SensorEvent, Turntable, TurntableEvent};
 use crate::signals::{StopSignal, stop_signal};
@@ -71,6 +72,8 @@ pub struct Engine {
     pub(super) last_sync: Option<std::time::Instant>,
     pub(super) sensor_desc: String,
     pub(super) turntable_desc: String,
+    /// The rig's polarizer, if it has one ([`Engine::with_polarizer`]).
+    pub(super) polarizer: Option<Box<dyn Polarizer>>,
     pub(super) health: crate::rig::SensorHealth,
     pub(super) progress_lines: Vec<String>,
 }
@@ -126,6 +129,7 @@ impl Engine {
             last_sync: None,
             sensor_desc: String::new(),
             turntable_desc: String::new(),
+            polarizer: None,
             health: Default::default(),
             progress_lines: Vec::new(),
             setup,
@@ -267,9 +271,23 @@ impl Engine {
         self.record_timeline()
     }
 
-    /// Commands a turn the timeline has just entered (see [`Timeline::drive_turn`]).
+    /// Gives the session the rig's polarizer: before an epoch whose filter axis differs from
+    /// the last one set, the engine sets it (see [`crate::rig::polarizer`]).
+    pub fn with_polarizer(mut self, polarizer: Box<dyn Polarizer>) -> Self {
+        self.timeline.polarizer = Some(super::polarizing::PolarizerRt { axis_deg: None });
+        self.polarizer = Some(polarizer);
+        self
+    }
+
+    /// Commands a polarizer step or a turn the timeline has just entered (see
+    /// [`Timeline::drive_turn`]).
     pub(super) fn drive_turn(&mut self, turntable: &mut dyn Turntable) -> Result<(), EngineError> {
-        self.timeline.drive_turn(turntable);
+        // A polarizer step may end at once (a failed command becomes a prompt) and a turn may
+        // follow it: drive until neither has anything new to command.
+        for _ in 0..4 {
+            self.timeline.drive_polarizer(self.polarizer.as_deref_mut());
+            self.timeline.drive_turn(turntable);
+        }
         self.record_timeline()
     }
 
@@ -360,6 +378,8 @@ const PROGRESS_KINDS: &[&str] = &[
     "epoch_start",
     "turn_done",
     "turn_fault",
+    "polarizer_done",
+    "polarizer_fault",
     "prompt",
     "prompt_confirmed",
     "sensor_lost",
@@ -387,6 +407,16 @@ impl Engine {
             self.on_turntable(ev)?;
             self.drive_turn(turntable)?;
         }
+        if let Some(p) = self.polarizer.as_mut() {
+            if let Err(e) = p.poll(t, buf) {
+                self.event(t, "polarizer_error", e.to_string())?;
+            }
+            for ev in std::mem::take(buf) {
+                self.timeline.on_polarizer(ev);
+                self.record_timeline()?;
+                self.drive_turn(turntable)?;
+            }
+        }
         Ok(())
     }
 
@@ -411,6 +441,9 @@ impl Engine {
         )?);
         self.sensor_desc = sensor.describe();
         self.turntable_desc = turntable.describe();
+        if let Some(p) = &self.polarizer {
+            self.turntable_desc = format!("{}; polarizer {}", self.turntable_desc, p.describe());
+        }
         let mut progress_seen = 0usize;
         self.event(
             0.0,

@@ -44,6 +44,8 @@ pub(super) struct Timeline {
     flight: FlightRules,
     /// True bearing of the arena's 0 mark (for the epoch_start line).
     mark_true_deg: f64,
+    /// The rig's polarizer, if it has one.
+    pub(super) polarizer: Option<super::polarizing::PolarizerRt>,
     events: Vec<TimelineEvent>,
 }
 
@@ -74,6 +76,10 @@ pub(super) enum PromptKind {
     ManualTurn { by_deg: f64 },
     /// The turntable failed: turn by hand or skip.
     TurntableFault { by_deg: f64 },
+    /// The operator sets the polarizer's axis by hand.
+    ManualPolarizer { axis_deg: f64 },
+    /// The polarizer failed: set it by hand or skip.
+    PolarizerFault { axis_deg: f64, text: String },
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -90,6 +96,13 @@ pub(super) enum Phase {
         next: usize,
         by_deg: f64,
         from_deg: f64,
+        since_s: f64,
+        commanded: bool,
+    },
+    /// The polarizer is setting its axis before epoch `next`.
+    Polarizing {
+        next: usize,
+        axis_deg: f64,
         since_s: f64,
         commanded: bool,
     },
@@ -136,6 +149,7 @@ impl Timeline {
             settle_s: protocol.settle_s,
             flight: protocol.flight,
             mark_true_deg,
+            polarizer: None,
             events: Vec::new(),
         }
     }
@@ -154,7 +168,7 @@ impl Timeline {
         std::mem::take(&mut self.events)
     }
 
-    fn event(&mut self, t_s: f64, kind: &'static str, detail: impl Into<String>) {
+    pub(super) fn event(&mut self, t_s: f64, kind: &'static str, detail: impl Into<String>) {
         self.events.push(TimelineEvent {
             t_s,
             kind,
@@ -166,7 +180,9 @@ impl Timeline {
     pub(super) fn current_cues(&self) -> crate::protocol::Cues {
         let e = match &self.phase {
             Phase::Running { k } => self.epochs.get(*k),
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => self.epochs.get(*next),
+            Phase::Prompt { next, .. }
+            | Phase::Turning { next, .. }
+            | Phase::Polarizing { next, .. } => self.epochs.get(*next),
             Phase::Finished => self.epochs.last(),
         };
         e.map(|e| e.cues).unwrap_or_default()
@@ -175,7 +191,9 @@ impl Timeline {
     pub(super) fn current_epoch(&self) -> usize {
         match &self.phase {
             Phase::Running { k } => self.epochs[*k].index,
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
+            Phase::Prompt { next, .. }
+            | Phase::Turning { next, .. }
+            | Phase::Polarizing { next, .. } => {
                 // Samples while getting ready for epoch `next` belong to it (never scored).
                 self.epochs[*next].index
             }
@@ -199,11 +217,7 @@ impl Timeline {
             };
             return;
         }
-        let by_deg = self.epochs[next].arena.turn_from_deg(self.position_deg);
-        if by_deg.abs() > 1e-9 {
-            return self.start_turn(next, by_deg, t);
-        }
-        self.start_epoch(next, t, false)
+        self.prepare_epoch(next, t)
     }
 
     pub(super) fn start_turn(&mut self, next: usize, by_deg: f64, t: f64) {
@@ -435,7 +449,9 @@ impl Timeline {
             }
             Command::SkipEpoch => match self.phase.clone() {
                 Phase::Running { k } => self.end_epoch(k, t, EpochState::Skipped),
-                Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
+                Phase::Prompt { next, .. }
+                | Phase::Turning { next, .. }
+                | Phase::Polarizing { next, .. } => {
                     self.epochs[next].state = EpochState::Skipped;
                     self.event(
                         t,
@@ -451,13 +467,13 @@ impl Timeline {
                     self.event(t, "prompt_confirmed", "");
                     match kind {
                         PromptKind::Protocol => {
-                            let by_deg = self.epochs[next].arena.turn_from_deg(self.position_deg);
-                            if by_deg.abs() > 1e-9 {
-                                self.start_turn(next, by_deg, t);
-                                self.drive_turn(turntable);
-                            } else {
-                                self.start_epoch(next, t, false);
-                            }
+                            self.prepare_epoch(next, t);
+                            self.drive_turn(turntable);
+                        }
+                        PromptKind::ManualPolarizer { axis_deg }
+                        | PromptKind::PolarizerFault { axis_deg, .. } => {
+                            self.polarizer_set(next, axis_deg, t, " (by hand, confirmed)");
+                            self.drive_turn(turntable);
                         }
                         PromptKind::ManualTurn { by_deg }
                         | PromptKind::TurntableFault { by_deg } => {

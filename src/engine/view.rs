@@ -102,9 +102,9 @@ impl Engine {
                 let e = &self.timeline.epochs[*k];
                 ((e.duration_s - e.clock_s).max(0.0), Some(*k))
             }
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
-                (0.0, Some(next.saturating_sub(1)))
-            }
+            Phase::Prompt { next, .. }
+            | Phase::Turning { next, .. }
+            | Phase::Polarizing { next, .. } => (0.0, Some(next.saturating_sub(1))),
             Phase::Finished => (0.0, None),
         };
         let later: f64 = match &self.timeline.phase {
@@ -112,8 +112,9 @@ impl Engine {
                 .iter()
                 .map(|e| e.duration_s)
                 .sum(),
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => self.timeline.epochs
-                [*next..]
+            Phase::Prompt { next, .. }
+            | Phase::Turning { next, .. }
+            | Phase::Polarizing { next, .. } => self.timeline.epochs[*next..]
                 .iter()
                 .map(|e| e.duration_s)
                 .sum(),
@@ -140,9 +141,9 @@ impl Engine {
         };
         let condition = match &self.timeline.phase {
             Phase::Running { k } => self.timeline.epochs[*k].condition.clone(),
-            Phase::Prompt { next, .. } | Phase::Turning { next, .. } => {
-                self.timeline.epochs[*next].condition.clone()
-            }
+            Phase::Prompt { next, .. }
+            | Phase::Turning { next, .. }
+            | Phase::Polarizing { next, .. } => self.timeline.epochs[*next].condition.clone(),
             Phase::Finished => String::new(),
         };
         let cur_pos = match &self.timeline.phase {

@@ -153,7 +153,11 @@ mod tests {
             p.poll(clock.now_s(), &mut out).unwrap();
         }
         assert!(out.is_empty(), "{out:?}");
-        assert_eq!(read_lines(&dev, 50), ["AXIS 1 45.000"], "the retry keeps id");
+        assert_eq!(
+            read_lines(&dev, 50),
+            ["AXIS 1 45.000"],
+            "the retry keeps id"
+        );
         dev.write_some(b"DONE 9 1.0\r\nDONE 1 45.000\r\n").unwrap();
         while out.is_empty() && clock.now_s() < t0 + 2.0 {
             std::thread::sleep(Duration::from_millis(10));

@@ -144,6 +144,20 @@ pub enum SimNotice {
     },
     /// The animal stopped or restarted flying (for the operator to mark).
     Flight(bool),
+    /// The polarizer was told to set its axis (a new id).
+    AxisCommand {
+        /// Command id.
+        id: u64,
+        /// Axis, degrees from the arena's 0 mark.
+        axis_deg: f64,
+    },
+    /// The polarizer stands at the axis and DONE was sent.
+    AxisDone {
+        /// Command id.
+        id: u64,
+        /// Axis, degrees from the arena's 0 mark.
+        axis_deg: f64,
+    },
     /// A line the turntable did not understand.
     Unknown(String),
 }
@@ -162,10 +176,13 @@ pub struct PtyServer {
     world: SimWorld,
     sensor: Option<Pty>,
     turntable: Pty,
+    polarizer: SimPolarizer,
     /// Stable path of the sensor's slave (a symbolic link).
     pub sensor_link: PathBuf,
     /// Stable path of the turntable's slave (a symbolic link).
     pub turntable_link: PathBuf,
+    /// Stable path of the polarizer's slave (a symbolic link).
+    pub polarizer_link: PathBuf,
     start: Option<Instant>,
     lines: Vec<(f64, String)>,
     rx: Vec<u8>,
@@ -176,10 +193,12 @@ pub struct PtyServer {
 }
 
 impl PtyServer {
-    /// Opens both pairs and their links (`<prefix>-sensor.tty`, `<prefix>-turntable.tty`).
+    /// Opens the three pairs and their links (`<prefix>-sensor.tty`, `<prefix>-turntable.tty`,
+    /// `<prefix>-polarizer.tty`).
     pub fn new(cfg: SimConfig, link_prefix: &Path) -> io::Result<Self> {
         let sensor = Pty::open()?;
         let turntable = Pty::open()?;
+        let polarizer = SimPolarizer::new(Pty::open()?);
         let name = link_prefix
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
@@ -189,12 +208,16 @@ impl PtyServer {
         let turntable_link = dir.join(format!("{name}-turntable.tty"));
         relink(&sensor_link, &sensor.slave_path)?;
         relink(&turntable_link, &turntable.slave_path)?;
+        let polarizer_link = dir.join(format!("{name}-polarizer.tty"));
+        relink(&polarizer_link, &polarizer.pty.slave_path)?;
         Ok(Self {
             world: SimWorld::new(cfg),
             sensor: Some(sensor),
             turntable,
+            polarizer,
             sensor_link,
             turntable_link,
+            polarizer_link,
             start: None,
             lines: Vec::new(),
             rx: Vec::new(),
@@ -307,6 +330,9 @@ impl PtyServer {
                 position_deg: pos,
             });
         }
+        if let Some(axis_deg) = self.polarizer.step(now, notices)? {
+            self.world.set_cues(polarizer_cues(axis_deg));
+        }
         Ok(())
     }
 
@@ -410,6 +436,12 @@ kind = "serial"
 path = "{tpath}"
 baud = 115200
 timeout_s = {timeout_s}
+
+[polarizer]
+kind = "serial"
+path = "{ppath}"
+baud = 115200
+timeout_s = {timeout_s}
 "#,
             name = site.name,
             lat = site.latitude_deg,
@@ -418,6 +450,7 @@ timeout_s = {timeout_s}
             mark = self.world.config().arena_mark_true_bearing_deg,
             spath = self.sensor_link.display(),
             tpath = self.turntable_link.display(),
+            ppath = self.polarizer_link.display(),
         )
     }
 
@@ -425,6 +458,113 @@ timeout_s = {timeout_s}
     pub fn remove_links(&self) {
         let _ = std::fs::remove_file(&self.sensor_link);
         let _ = std::fs::remove_file(&self.turntable_link);
+        let _ = std::fs::remove_file(&self.polarizer_link);
+    }
+}
+
+/// What the simulated animal is shown once the simulated polarizer has set `axis_deg`: the
+/// filter is mounted on the arena (it turns with it) under a shade that hides the sun's disc, as
+/// in the shipped `polarizer.toml`. Before any axis command the animal sees open sky: nothing
+/// else on the line protocol tells the simulator what is over the arena.
+pub fn polarizer_cues(axis_deg: f64) -> crate::protocol::Cues {
+    use crate::protocol::cues::{FilterFrame, PolarizationCue, SunCue};
+    crate::protocol::Cues {
+        sun: SunCue::Blocked,
+        polarization: PolarizationCue::Filter {
+            axis_deg,
+            turns_with: FilterFrame::Arena,
+        },
+    }
+}
+
+/// Simulated polarizer rotation speed, degrees per second (a small stepper, invented).
+const POLARIZER_DEG_PER_S: f64 = 180.0;
+
+/// The simulated polarizer: answers `AXIS <id> <deg>` and `POS?` on its own terminal, after
+/// the time a motor takes the shorter way round (docs/turntable-protocol.md, "Polarizer").
+struct SimPolarizer {
+    pty: Pty,
+    rx: Vec<u8>,
+    axis_deg: f64,
+    /// The command being executed: id, target axis, when it is done.
+    busy: Option<(u64, f64, f64)>,
+    /// The last finished id and its reply line.
+    last: Option<(u64, String)>,
+}
+
+impl SimPolarizer {
+    fn new(pty: Pty) -> Self {
+        Self {
+            pty,
+            rx: Vec::new(),
+            axis_deg: 0.0,
+            busy: None,
+            last: None,
+        }
+    }
+
+    /// Reads commands and sends due replies; returns the axis when one was just reached.
+    fn step(&mut self, now: f64, notices: &mut Vec<SimNotice>) -> io::Result<Option<f64>> {
+        let mut buf = [0u8; 256];
+        loop {
+            let n = self.pty.read_some(&mut buf)?;
+            if n == 0 {
+                break;
+            }
+            self.rx.extend_from_slice(&buf[..n]);
+        }
+        while let Some(i) = self.rx.iter().position(|&b| b == b'\n' || b == b'\r') {
+            let line: Vec<u8> = self.rx.drain(..=i).collect();
+            let text = String::from_utf8_lossy(&line).trim().to_string();
+            let mut parts = text.split_whitespace();
+            match (parts.next(), parts.next(), parts.next()) {
+                (Some("POS?"), None, None) => {
+                    let pos = format!("POS {:.3}\r\n", self.axis_deg);
+                    self.pty.write_some(pos.as_bytes())?;
+                }
+                (Some("AXIS"), Some(id), Some(deg)) => {
+                    match (id.parse::<u64>(), deg.parse::<f64>()) {
+                        (Ok(id), Ok(axis)) if axis.is_finite() && id > 0 => {
+                            let axis = axis.rem_euclid(180.0);
+                            if self.busy.is_some_and(|b| b.0 == id) {
+                            } else if let Some((_, reply)) =
+                                self.last.as_ref().filter(|l| l.0 == id)
+                            {
+                                self.pty.write_some(reply.as_bytes())?;
+                            } else {
+                                let d = (axis - self.axis_deg).rem_euclid(180.0);
+                                let way = d.min(180.0 - d);
+                                let done = now + 0.05 + way / POLARIZER_DEG_PER_S;
+                                self.busy = Some((id, axis, done));
+                                notices.push(SimNotice::AxisCommand { id, axis_deg: axis });
+                            }
+                        }
+                        _ => {
+                            let id = id.parse::<u64>().unwrap_or(0);
+                            let fault = format!("FAULT {id} bad AXIS command\r\n");
+                            self.pty.write_some(fault.as_bytes())?;
+                        }
+                    }
+                }
+                (None, ..) => {}
+                _ => notices.push(SimNotice::Unknown(text.chars().take(60).collect())),
+            }
+        }
+        if self.rx.len() > 1024 {
+            self.rx.clear();
+        }
+        match self.busy {
+            Some((id, axis, done)) if now >= done => {
+                self.busy = None;
+                self.axis_deg = axis;
+                let reply = format!("DONE {id} {axis:.3}\r\n");
+                self.pty.write_some(reply.as_bytes())?;
+                self.last = Some((id, reply));
+                notices.push(SimNotice::AxisDone { id, axis_deg: axis });
+                Ok(Some(axis))
+            }
+            _ => Ok(None),
+        }
     }
 }
 

@@ -44,6 +44,12 @@ pub fn start_sim(dir: &Path, flags: &[&str]) -> (Killer, PathBuf) {
 /// `skybearing run --headless` of the smoke protocol for `animal` on the rig file `rig`, into
 /// `sessions`, with stdin closed; ready for more settings, then to run or spawn.
 pub fn headless_smoke_run(animal: &str, rig: &Path, sessions: &Path) -> Command {
+    headless_run(animal, rig, sessions, "protocols/smoke.toml")
+}
+
+/// `skybearing run --headless` of `protocol` (a path) for `animal` on the rig file `rig`, into
+/// `sessions`, with stdin closed.
+pub fn headless_run(animal: &str, rig: &Path, sessions: &Path, protocol: &str) -> Command {
     let mut c = Command::new(BIN);
     c.args([
         "run",
@@ -51,7 +57,7 @@ pub fn headless_smoke_run(animal: &str, rig: &Path, sessions: &Path) -> Command 
         "--animal",
         animal,
         "--protocol",
-        "protocols/smoke.toml",
+        protocol,
     ])
     .arg("--rig")
     .arg(rig)
