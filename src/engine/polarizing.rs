@@ -144,3 +144,183 @@ impl Timeline {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::snapshot::Command;
+    use crate::engine::testing::{FakeTable, epoch};
+    use crate::protocol::cues::{FilterFrame, SunCue};
+    use crate::protocol::{ArenaMove, Cues, EpochPlan, FlightRules, Protocol};
+    use crate::rig::{RigError, Turntable};
+
+    /// A polarizer that answers after `delay_s`, or faults.
+    struct FakePolarizer {
+        manual: bool,
+        fail: bool,
+        pending: Option<f64>,
+        commanded: Vec<f64>,
+    }
+
+    impl Polarizer for FakePolarizer {
+        fn start_axis(&mut self, now_s: f64, axis_deg: f64) -> Result<(), RigError> {
+            self.commanded.push(axis_deg);
+            self.pending = Some(now_s + 0.5);
+            Ok(())
+        }
+        fn poll(&mut self, now_s: f64, out: &mut Vec<TurntableEvent>) -> Result<(), RigError> {
+            if let Some(at) = self.pending.filter(|at| *at <= now_s) {
+                self.pending = None;
+                out.push(if self.fail {
+                    TurntableEvent::Fault {
+                        t_s: at,
+                        text: "jammed".into(),
+                    }
+                } else {
+                    TurntableEvent::Done {
+                        t_s: at,
+                        position_deg: None,
+                    }
+                });
+            }
+            Ok(())
+        }
+        fn is_manual(&self) -> bool {
+            self.manual
+        }
+        fn describe(&self) -> String {
+            "fake polarizer".into()
+        }
+    }
+
+    fn filtered(index: usize, axis_deg: f64, arena: ArenaMove) -> EpochPlan {
+        EpochPlan {
+            cues: Cues {
+                sun: SunCue::Blocked,
+                polarization: PolarizationCue::Filter {
+                    axis_deg,
+                    turns_with: FilterFrame::Arena,
+                },
+            },
+            ..epoch(index, 10.0, arena, None)
+        }
+    }
+
+    fn timeline(epochs: Vec<EpochPlan>) -> Timeline {
+        let protocol = Protocol {
+            name: "test".into(),
+            description: String::new(),
+            settle_s: 2.0,
+            flight: FlightRules::default(),
+            epochs,
+        };
+        let mut t = Timeline::new(&protocol, 0.0);
+        t.polarizer = Some(PolarizerRt { axis_deg: None });
+        t
+    }
+
+    /// What the engine loop does at `t` (see `Engine::poll_turntable` and `drive_turn`).
+    fn advance(e: &mut Timeline, t: f64, tt: &mut FakeTable, p: &mut FakePolarizer) {
+        let mut buf = Vec::new();
+        tt.poll(t, &mut buf).expect("poll");
+        for ev in buf.drain(..) {
+            e.on_turntable(ev);
+        }
+        p.poll(t, &mut buf).expect("poll");
+        for ev in buf.drain(..) {
+            e.on_polarizer(ev);
+        }
+        e.advance_to(t);
+        for _ in 0..4 {
+            e.drive_polarizer(Some(&mut *p));
+            e.drive_turn(tt);
+        }
+    }
+
+    fn kinds(e: &mut Timeline) -> Vec<&'static str> {
+        e.take_events().into_iter().map(|e| e.kind).collect()
+    }
+
+    #[test]
+    fn the_axis_is_set_before_the_turn_and_only_when_it_changes() {
+        let mut e = timeline(vec![
+            filtered(1, 30.0, ArenaMove::Stay),
+            filtered(2, 210.0, ArenaMove::TurnBy { deg: 90.0 }),
+            filtered(3, 120.0, ArenaMove::TurnBy { deg: 90.0 }),
+            epoch(4, 10.0, ArenaMove::Stay, None),
+        ]);
+        let mut tt = FakeTable::motor(1.0);
+        let mut p = FakePolarizer {
+            manual: false,
+            fail: false,
+            pending: None,
+            commanded: Vec::new(),
+        };
+        e.begin_epoch(0, 0.0, false);
+        for i in 1..=500 {
+            advance(&mut e, f64::from(i) * 0.1, &mut tt, &mut p);
+        }
+        // 210 is the axis 30 (axial): no command before epoch 2; none for open sky.
+        assert_eq!(p.commanded, [30.0, 120.0]);
+        assert_eq!(tt.commanded, [90.0, 90.0]);
+        assert_eq!(
+            kinds(&mut e),
+            [
+                "polarizer_commanded",
+                "polarizer_done",
+                "epoch_start",
+                "epoch_end",
+                "turn_commanded",
+                "turn_done",
+                "epoch_start",
+                "epoch_end",
+                "polarizer_commanded",
+                "polarizer_done",
+                "turn_commanded",
+                "turn_done",
+                "epoch_start",
+                "epoch_end",
+                "epoch_start",
+                "epoch_end",
+            ]
+        );
+        // Epoch 1 starts when the polarizer answers (0.5 s), not before.
+        assert_eq!(e.epochs[0].started_s, Some(0.5));
+    }
+
+    #[test]
+    fn manual_or_failed_polarizer_prompts_and_confirming_goes_on() {
+        for (manual, fail) in [(true, false), (false, true)] {
+            let mut e = timeline(vec![filtered(1, 45.0, ArenaMove::Stay)]);
+            let mut tt = FakeTable::motor(1.0);
+            let mut p = FakePolarizer {
+                manual,
+                fail,
+                pending: None,
+                commanded: Vec::new(),
+            };
+            e.begin_epoch(0, 0.0, false);
+            advance(&mut e, 1.0, &mut tt, &mut p);
+            advance(&mut e, 1.5, &mut tt, &mut p);
+            let Phase::Prompt { text, .. } = &e.phase else {
+                panic!("{:?}", e.phase)
+            };
+            assert!(text.contains("polarizer's axis to 45°"), "{text}");
+            assert_eq!(fail, text.contains("jammed"), "{text}");
+            assert_eq!(e.epochs[0].started_s, None);
+            e.on_command(2.0, Command::ConfirmPrompt, &mut tt);
+            assert_eq!(e.epochs[0].started_s, Some(2.0));
+            let ev = e.take_events();
+            let done = ev
+                .iter()
+                .find(|e| e.kind == "polarizer_done")
+                .expect("done");
+            assert!(done.detail.contains("by hand"), "{}", done.detail);
+            assert_eq!(
+                fail,
+                ev.iter().any(|e| e.kind == "polarizer_fault"),
+                "{ev:?}"
+            );
+        }
+    }
+}
