@@ -13,14 +13,23 @@
 //! very long series (10^8 samples and more).
 
 mod accumulator;
+#[cfg(test)]
+mod calibration;
+mod paired;
+pub mod randomization;
 mod second_order;
 mod sum;
 mod trig;
 
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
+pub use paired::{
+    PairedResult, hotelling_paired_test, hotelling_paired_test_with, moore_paired_test,
+    moore_paired_test_with,
+};
 pub use second_order::{
-    HotellingResult, MooreResult, WatsonWilliamsResult, hotelling_one_sample_test,
-    moore_rayleigh_test, second_order_mean, watson_williams_test,
+    HotellingResult, MooreResult, WW_MIN_POOLED_R, WatsonWilliamsResult,
+    hotelling_one_sample_test, hotelling_one_sample_test_with, moore_rayleigh_test,
+    moore_rayleigh_test_with, second_order_mean, watson_williams_test, watson_williams_test_with,
 };
 pub(crate) use trig::SinCosMemo;
 
