@@ -10,6 +10,9 @@
 
 use super::paired::{hotelling_paired_test_with, moore_paired_test_with};
 use super::randomization::Rng;
+use super::uniformity::{
+    bootstrap_mean_ci95_deg_with, hermans_rasson_test_with, rao_spacing_test_with,
+};
 use super::second_order::{
     hotelling_one_sample_test_with, moore_rayleigh_test_with, watson_williams_test_with,
 };
@@ -184,4 +187,59 @@ fn watson_williams_between_independent_groups_holds_its_level_by_permutation() {
     // Zar's concentration condition does not make the F tail usable: why it is not reported.
     let guarded = report.iter().find(|r| r.0 == 8 && r.1 == 0.5).unwrap().4;
     assert!(guarded > 0.1, "F tail with r_w ≥ 0.45 at κ = 0.5, 8 + 8: {guarded}");
+}
+
+#[test]
+fn uniformity_tests_of_uniform_headings_hold_their_level() {
+    let mut report = Vec::new();
+    for &n in &NS {
+        let mut rng = Rng::new(0x5EED_0004 ^ (n as u64) << 8);
+        let (mut rao, mut hr) = (0, 0);
+        for sim in 0..SIMS {
+            let dirs: Vec<f64> = (0..n).map(|_| rng.angle_deg()).collect();
+            let seed = rng.next_u64() ^ sim as u64;
+            rao += (rao_spacing_test_with(&dirs, B, seed).unwrap().p <= ALPHA) as usize;
+            hr += (hermans_rasson_test_with(&dirs, B, seed ^ 1).unwrap().p <= ALPHA) as usize;
+        }
+        let row = (n, rate(rao, SIMS), rate(hr, SIMS));
+        eprintln!(
+            "uniformity n={:2}: Rao spacing {:.3}; Hermans-Rasson {:.3}",
+            n, row.1, row.2
+        );
+        report.push(row);
+    }
+    for &(n, rao, hr) in &report {
+        assert!((rao - ALPHA).abs() <= 0.02, "Rao n={n}: {rao}");
+        assert!((hr - ALPHA).abs() <= 0.02, "Hermans-Rasson n={n}: {hr}");
+    }
+}
+
+#[test]
+fn bootstrap_interval_of_the_mean_direction_covers_it() {
+    let sims = 1000;
+    let mut report = Vec::new();
+    for &n in &[8usize, 15, 30] {
+        for &kappa in &[1.0, 4.0] {
+            let mut rng = Rng::new(0x5EED_0005 ^ (n as u64) << 8 ^ kappa as u64);
+            let (mut covered, mut defined) = (0, 0);
+            for sim in 0..sims {
+                let mu = rng.angle_deg();
+                let dirs: Vec<f64> = (0..n).map(|_| mu + rng.von_mises_deg(kappa)).collect();
+                let seed = rng.next_u64() ^ sim as u64;
+                if let Some((lo, hi)) = bootstrap_mean_ci95_deg_with(&dirs, 199, seed) {
+                    defined += 1;
+                    let width = (hi - lo).rem_euclid(360.0);
+                    covered += ((mu - lo).rem_euclid(360.0) <= width) as usize;
+                }
+            }
+            let cov = rate(covered, defined);
+            eprintln!("bootstrap 95% interval n={n:2} kappa={kappa}: coverage {cov:.3}");
+            report.push((n, kappa, cov));
+        }
+    }
+    for &(n, kappa, cov) in &report {
+        // A percentile bootstrap covers a little less than nominal for few animals.
+        let min = if n < 15 { 0.87 } else { 0.90 };
+        assert!(cov >= min && cov <= 0.98, "n={n} κ={kappa}: {cov}");
+    }
 }

@@ -20,6 +20,7 @@ pub mod randomization;
 mod second_order;
 mod sum;
 mod trig;
+mod uniformity;
 
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
 pub use paired::{
@@ -32,6 +33,10 @@ pub use second_order::{
     moore_rayleigh_test_with, second_order_mean, watson_williams_test, watson_williams_test_with,
 };
 pub(crate) use trig::SinCosMemo;
+pub use uniformity::{
+    BOOTSTRAP_RESAMPLES, UniformityResult, bootstrap_mean_ci95_deg, bootstrap_mean_ci95_deg_with,
+    hermans_rasson_test, hermans_rasson_test_with, rao_spacing_test, rao_spacing_test_with,
+};
 
 use crate::frames::{wrap_360_deg, wrap_axial_deg};
 use serde::Serialize;
