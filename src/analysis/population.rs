@@ -10,9 +10,9 @@
 use super::session::SessionStats;
 use super::table::{Cell, Table};
 use crate::circular::{
-    HeadingAccumulator, describe_deg, hotelling_one_sample_test, hotelling_paired_test,
-    moore_paired_test, moore_rayleigh_test, rayleigh_test, second_order_mean, v_test_deg,
-    watson_williams_test,
+    HeadingAccumulator, bootstrap_mean_ci95_deg, describe_deg, hermans_rasson_test,
+    hotelling_one_sample_test, hotelling_paired_test, moore_paired_test, moore_rayleigh_test,
+    rao_spacing_test, rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
 };
 use crate::frames::signed_difference_deg;
 use std::collections::{BTreeMap, BTreeSet};
@@ -103,13 +103,21 @@ pub const POPULATION_COLUMNS: &[&str] = &[
     "hotelling_p",
     "mean_vector_deg",
     "mean_vector_length",
+    "rao_spacing_u",
+    "rao_spacing_p",
+    "hermans_rasson_p",
+    "mean_ci95_low_deg",
+    "mean_ci95_high_deg",
 ];
 
 /// `population.csv`: one row per condition. `rayleigh_*` test the animals' mean directions
 /// (unit vectors); `moore_*` and `hotelling_*` use their vector lengths too, and their p are
 /// the seeded randomization p of [`crate::circular::moore_rayleigh_test`] and
 /// [`crate::circular::hotelling_one_sample_test`] (calibrated for 4 to 30 animals in
-/// `circular::calibration`; the F tail of Hotelling's test is not reported).
+/// `circular::calibration`; the F tail of Hotelling's test is not reported). `rao_spacing_*`
+/// and `hermans_rasson_p` are omnibus tests of uniformity of the animals' mean directions
+/// (they also see bimodal populations; n ≥ 3), and `mean_ci95_*` the seeded percentile
+/// bootstrap 95% interval of their mean direction (n ≥ 5), read clockwise from low to high.
 pub fn population_table(vectors: &AnimalVectors) -> Table {
     let mut t = Table::new(POPULATION_COLUMNS);
     for (cond, vs) in vectors {
@@ -125,6 +133,9 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
         };
         let moore = moore_rayleigh_test(&d, &l).ok().map(|m| (m.r_star, m.p));
         let hot = hotelling_one_sample_test(&d, &l).ok().map(|h| (h.f, h.p));
+        let rao = rao_spacing_test(&d).ok();
+        let hr = hermans_rasson_test(&d).ok();
+        let ci = bootstrap_mean_ci95_deg(&d);
         // Second-order mean vector: the mean of the animals' vectors r_i (cos θ_i, sin θ_i).
         let (mv_deg, mv_len) = match second_order_mean(&d, &l) {
             Ok((m, len)) => (m, Some(len)),
@@ -149,6 +160,11 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
             hot.map(|h| h.1).into(),
             mv_deg.into(),
             mv_len.into(),
+            rao.map(|r| r.statistic).into(),
+            rao.map(|r| r.p).into(),
+            hr.map(|h| h.p).into(),
+            ci.map(|c| c.0).into(),
+            ci.map(|c| c.1).into(),
         ]);
     }
     t

@@ -10,11 +10,11 @@
 
 use super::paired::{hotelling_paired_test_with, moore_paired_test_with};
 use super::randomization::Rng;
-use super::uniformity::{
-    bootstrap_mean_ci95_deg_with, hermans_rasson_test_with, rao_spacing_test_with,
-};
 use super::second_order::{
     hotelling_one_sample_test_with, moore_rayleigh_test_with, watson_williams_test_with,
+};
+use super::uniformity::{
+    bootstrap_mean_ci95_deg_with, hermans_rasson_test_with, rao_spacing_test_with,
 };
 
 const SIMS: usize = 2000;
@@ -76,8 +76,14 @@ fn one_sample_tests_of_animals_in_random_directions_hold_their_level() {
         }
     }
     for &(strong, n, hot, _, moore, _) in &report {
-        assert!((hot - ALPHA).abs() <= 0.02, "Hotelling {strong} n={n}: {hot}");
-        assert!((moore - ALPHA).abs() <= 0.02, "Moore {strong} n={n}: {moore}");
+        assert!(
+            (hot - ALPHA).abs() <= 0.02,
+            "Hotelling {strong} n={n}: {hot}"
+        );
+        assert!(
+            (moore - ALPHA).abs() <= 0.02,
+            "Moore {strong} n={n}: {moore}"
+        );
     }
     // The reason the F tail is not reported: few strongly oriented animals.
     let f4 = report.iter().find(|r| r.0 && r.1 == 4).unwrap().3;
@@ -186,7 +192,10 @@ fn watson_williams_between_independent_groups_holds_its_level_by_permutation() {
     assert!(f0 > 0.15, "F tail at κ = 0, 8 + 8: {f0}");
     // Zar's concentration condition does not make the F tail usable: why it is not reported.
     let guarded = report.iter().find(|r| r.0 == 8 && r.1 == 0.5).unwrap().4;
-    assert!(guarded > 0.1, "F tail with r_w ≥ 0.45 at κ = 0.5, 8 + 8: {guarded}");
+    assert!(
+        guarded > 0.1,
+        "F tail with r_w ≥ 0.45 at κ = 0.5, 8 + 8: {guarded}"
+    );
 }
 
 #[test]

@@ -28,9 +28,9 @@ pub use paired::{
     moore_paired_test_with,
 };
 pub use second_order::{
-    HotellingResult, MooreResult, WW_MIN_POOLED_R, WatsonWilliamsResult,
-    hotelling_one_sample_test, hotelling_one_sample_test_with, moore_rayleigh_test,
-    moore_rayleigh_test_with, second_order_mean, watson_williams_test, watson_williams_test_with,
+    HotellingResult, MooreResult, WW_MIN_POOLED_R, WatsonWilliamsResult, hotelling_one_sample_test,
+    hotelling_one_sample_test_with, moore_rayleigh_test, moore_rayleigh_test_with,
+    second_order_mean, watson_williams_test, watson_williams_test_with,
 };
 pub(crate) use trig::SinCosMemo;
 pub use uniformity::{

@@ -2,9 +2,9 @@
 //! (Moore's modified Rayleigh test, Hotelling's one-sample test). Angles in degrees, compass
 //! convention; mean directions in [0, 360).
 
+use super::randomization::{RESAMPLES, Rng, data_seed, monte_carlo_p};
 use super::sum::Neumaier;
 use super::trig::sin_cos_deg;
-use super::randomization::{RESAMPLES, Rng, data_seed, monte_carlo_p};
 use super::{CircularError, kappa_estimate, mean_direction_from_resultant_deg};
 use serde::Serialize;
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
@@ -22,7 +22,11 @@ pub(crate) fn f_sf(f: f64, df1: f64, df2: f64) -> f64 {
     }
 }
 
-pub(crate) fn check_finite(test: &'static str, what: &'static str, v: &[f64]) -> Result<(), CircularError> {
+pub(crate) fn check_finite(
+    test: &'static str,
+    what: &'static str,
+    v: &[f64],
+) -> Result<(), CircularError> {
     match v.iter().position(|x| !x.is_finite()) {
         Some(index) => Err(CircularError::BadValue {
             test,
@@ -570,7 +574,12 @@ mod tests {
         // and it is close to the full Greenwood–Durand p
         assert!((m.p_approx - d.rayleigh_p).abs() < 0.02);
         // The randomization p agrees with both within its Monte Carlo error.
-        assert!((m.p - d.rayleigh_p).abs() < 0.03, "{} {}", m.p, d.rayleigh_p);
+        assert!(
+            (m.p - d.rayleigh_p).abs() < 0.03,
+            "{} {}",
+            m.p,
+            d.rayleigh_p
+        );
     }
 
     #[test]

@@ -77,11 +77,7 @@ pub fn rao_spacing_test_with(
         }
         rao_u_deg(&mut v)
     });
-    Ok(UniformityResult {
-        n,
-        statistic: u,
-        p,
-    })
+    Ok(UniformityResult { n, statistic: u, p })
 }
 
 /// The Hermans–Rasson statistic in radians, as given by Landler, Ruxton & Malkemper 2019
@@ -138,11 +134,7 @@ pub fn hermans_rasson_test_with(
         }
         hr_t(&rad, &mut sc)
     });
-    Ok(UniformityResult {
-        n,
-        statistic: t,
-        p,
-    })
+    Ok(UniformityResult { n, statistic: t, p })
 }
 
 /// Bootstrap resamples of the mean-direction interval.
