@@ -17,6 +17,22 @@ use crate::circular::{
 use crate::frames::signed_difference_deg;
 use std::collections::{BTreeMap, BTreeSet};
 
+/// A p-value cell written so that it cannot be taken for an integer: always with a decimal
+/// point or an exponent ("1.0", "0.0156", "1e-6"); empty when there is no p.
+fn p_cell(p: Option<f64>) -> Cell {
+    match p {
+        Some(x) if x.is_finite() => {
+            let t = super::table::format_cell(&Cell::Num(x));
+            if t.contains(['.', 'e']) {
+                Cell::Text(t)
+            } else {
+                Cell::Text(format!("{t}.0"))
+            }
+        }
+        _ => Cell::Empty,
+    }
+}
+
 /// Mean direction and mean vector length of directions in degrees.
 fn mean_and_r(angles_deg: &[f64]) -> (Option<f64>, f64) {
     let s = describe_deg(angles_deg);
@@ -148,21 +164,21 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
             mean.into(),
             if n > 0 { Cell::Num(r) } else { Cell::Empty },
             z.into(),
-            p.into(),
+            p_cell(p),
             moore.map(|m| m.0).into(),
-            moore.map(|m| m.1).into(),
+            p_cell(moore.map(|m| m.1)),
             hot.map(|h| h.0).into(),
             if hot.is_some() {
                 Cell::Num(n as f64 - 2.0)
             } else {
                 Cell::Empty
             },
-            hot.map(|h| h.1).into(),
+            p_cell(hot.map(|h| h.1)),
             mv_deg.into(),
             mv_len.into(),
             rao.map(|r| r.statistic).into(),
-            rao.map(|r| r.p).into(),
-            hr.map(|h| h.p).into(),
+            p_cell(rao.map(|r| r.p)),
+            p_cell(hr.map(|h| h.p)),
             ci.map(|c| c.0).into(),
             ci.map(|c| c.1).into(),
         ]);
@@ -219,7 +235,7 @@ pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
                 ww.as_ref().map(|w| w.r_pooled).into(),
                 ww.as_ref()
                     .map_or(Cell::Empty, |w| w.concentration_ok.into()),
-                ww.as_ref().map(|w| w.p_permutation).into(),
+                p_cell(ww.as_ref().map(|w| w.p_permutation)),
             ]);
         }
     }
@@ -306,11 +322,11 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
                 r.into(),
                 v.map(|v| v.v).into(),
                 v.map(|v| v.u).into(),
-                v.map(|v| v.p).into(),
+                p_cell(v.map(|v| v.p)),
                 hot.map(|h| h.statistic).into(),
-                hot.map(|h| h.p).into(),
+                p_cell(hot.map(|h| h.p)),
                 moore.map(|m| m.statistic).into(),
-                moore.map(|m| m.p).into(),
+                p_cell(moore.map(|m| m.p)),
             ]);
         }
     }
@@ -362,7 +378,7 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
             } else {
                 Cell::Empty
             },
-            p.into(),
+            p_cell(p),
             mean_r.into(),
             ss.iter().map(|s| s.flying_s).sum::<f64>().into(),
         ]);
@@ -466,6 +482,15 @@ mod tests {
             "",
             "one session: no spread"
         );
+    }
+
+    #[test]
+    fn p_values_never_look_like_integers() {
+        assert_eq!(format_cell(&p_cell(Some(1.0))), "1.0");
+        assert_eq!(format_cell(&p_cell(Some(0.0))), "0.0");
+        assert_eq!(format_cell(&p_cell(Some(0.0156))), "0.0156");
+        assert_eq!(format_cell(&p_cell(Some(1e-7))), "1e-7");
+        assert_eq!(format_cell(&p_cell(None)), "");
     }
 
     #[test]

@@ -35,9 +35,7 @@ pub use paired::{
     PairedResult, hotelling_paired_test, hotelling_paired_test_with, moore_paired_test,
     moore_paired_test_with,
 };
-pub use regression::{
-    HeadingTrend, MAX_SLOPE_DEG_PER_H, heading_trend, unwrapped_rate_deg_per_h,
-};
+pub use regression::{HeadingTrend, MAX_SLOPE_DEG_PER_H, heading_trend, unwrapped_rate_deg_per_h};
 pub use second_order::{
     HotellingResult, MooreResult, WW_MIN_POOLED_R, WatsonWilliamsResult, hotelling_one_sample_test,
     hotelling_one_sample_test_with, moore_rayleigh_test, moore_rayleigh_test_with,

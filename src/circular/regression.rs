@@ -50,7 +50,11 @@ pub fn heading_trend(t_h: &[f64], heading_deg: &[f64], weights: &[f64]) -> Optio
     if n < 3 || heading_deg.len() != n || weights.len() != n {
         return None;
     }
-    if t_h.iter().chain(heading_deg).chain(weights).any(|x| !x.is_finite())
+    if t_h
+        .iter()
+        .chain(heading_deg)
+        .chain(weights)
+        .any(|x| !x.is_finite())
         || weights.iter().any(|&w| w < 0.0)
         || weights.iter().sum::<f64>() <= 0.0
     {
@@ -58,7 +62,9 @@ pub fn heading_trend(t_h: &[f64], heading_deg: &[f64], weights: &[f64]) -> Optio
     }
     let (lo, hi) = t_h
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &t| (a.min(t), b.max(t)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &t| {
+            (a.min(t), b.max(t))
+        });
     let span = hi - lo;
     if span <= 0.0 {
         return None;
@@ -97,7 +103,11 @@ pub fn heading_trend(t_h: &[f64], heading_deg: &[f64], weights: &[f64]) -> Optio
             f2 = f(x2);
         }
     }
-    let w = if f1.max(f2) >= best_r { (a + b) / 2.0 } else { best_w };
+    let w = if f1.max(f2) >= best_r {
+        (a + b) / 2.0
+    } else {
+        best_w
+    };
     if w.abs() >= MAX_SLOPE_DEG_PER_H - step {
         // The best slope lies at the edge of the search: not identified within range.
         return None;
@@ -144,7 +154,10 @@ mod tests {
         let fit = heading_trend(&t, &h, &vec![1.0; t.len()]).unwrap();
         assert!((fit.slope_deg_per_h - 15.0).abs() < 0.5, "{fit:?}");
         let at7 = crate::frames::wrap_360_deg(fit.intercept_deg + fit.slope_deg_per_h * 7.0);
-        assert!(crate::frames::signed_difference_deg(350.0, at7).abs() < 3.0, "{fit:?}");
+        assert!(
+            crate::frames::signed_difference_deg(350.0, at7).abs() < 3.0,
+            "{fit:?}"
+        );
         assert!(fit.r > 0.9);
         // A fast turn over a short time (60°/h for 2 h crosses north twice).
         let t2: Vec<f64> = (0..100).map(|i| i as f64 * 0.02).collect();
@@ -176,7 +189,10 @@ mod tests {
     #[test]
     fn unwrapped_rate_crosses_north() {
         let t = [0.0, 1800.0, 3600.0];
-        assert_eq!(unwrapped_rate_deg_per_h(&t, &[350.0, 358.0, 6.0]), Some(16.0));
+        assert_eq!(
+            unwrapped_rate_deg_per_h(&t, &[350.0, 358.0, 6.0]),
+            Some(16.0)
+        );
         assert_eq!(unwrapped_rate_deg_per_h(&t[..1], &[1.0]), None);
     }
 }
