@@ -229,7 +229,9 @@ mod tests {
         let sims = 4000;
         let mean: f64 = (0..sims)
             .map(|_| {
-                let rad: Vec<f64> = (0..10).map(|_| rng.uniform() * 6.283_185_307).collect();
+                let rad: Vec<f64> = (0..10)
+                    .map(|_| rng.uniform() * std::f64::consts::TAU)
+                    .collect();
                 hr_t(&rad, &mut sc)
             })
             .sum::<f64>()
