@@ -203,21 +203,23 @@ fn uniformity_tests_of_uniform_headings_hold_their_level() {
     let mut report = Vec::new();
     for &n in &NS {
         let mut rng = Rng::new(0x5EED_0004 ^ (n as u64) << 8);
-        let (mut rao, mut hr) = (0, 0);
+        let (mut rao, mut hr, mut ray) = (0, 0, 0);
         for sim in 0..SIMS {
             let dirs: Vec<f64> = (0..n).map(|_| rng.angle_deg()).collect();
+            ray += (super::describe_deg(&dirs).rayleigh_p <= ALPHA) as usize;
             let seed = rng.next_u64() ^ sim as u64;
             rao += (rao_spacing_test_with(&dirs, B, seed).unwrap().p <= ALPHA) as usize;
             hr += (hermans_rasson_test_with(&dirs, B, seed ^ 1).unwrap().p <= ALPHA) as usize;
         }
-        let row = (n, rate(rao, SIMS), rate(hr, SIMS));
+        let row = (n, rate(rao, SIMS), rate(hr, SIMS), rate(ray, SIMS));
         eprintln!(
-            "uniformity n={:2}: Rao spacing {:.3}; Hermans-Rasson {:.3}",
-            n, row.1, row.2
+            "uniformity n={:2}: Rao spacing {:.3}; Hermans-Rasson {:.3}; Rayleigh {:.3}",
+            n, row.1, row.2, row.3
         );
         report.push(row);
     }
-    for &(n, rao, hr) in &report {
+    for &(n, rao, hr, ray) in &report {
+        assert!((ray - ALPHA).abs() <= 0.02, "Rayleigh n={n}: {ray}");
         assert!((rao - ALPHA).abs() <= 0.02, "Rao n={n}: {rao}");
         assert!((hr - ALPHA).abs() <= 0.02, "Hermans-Rasson n={n}: {hr}");
     }
