@@ -414,10 +414,14 @@ pub fn check_session(dir: &Path) -> CheckReport {
         }
     }
     // events.csv
+    let mut unscored = Vec::new();
     match read::read_events(&dir.join(EVENTS_FILE)) {
         Err(e) => r.problems.push(e.to_string()),
         Ok((ev, st)) => {
             r.events = st.rows;
+            unscored = super::summary::unscored_turns(
+                ev.iter().map(|e| (e.kind.as_str(), e.detail.as_str())),
+            );
             if let Some(t) = &st.torn {
                 let what = format!(
                     "events.csv:{}: torn last line ({} bytes): {}",
@@ -443,7 +447,9 @@ pub fn check_session(dir: &Path) -> CheckReport {
                 Err(e) => r.problems.push(e.to_string()),
                 Ok(stored) => {
                     if let Some(computed) = pass.as_ref().and_then(|p| p.summary.as_ref()) {
-                        for d in compare_summaries(&stored, computed) {
+                        let mut computed = computed.clone();
+                        super::summary::drop_unscored_turns(&mut computed, &unscored);
+                        for d in compare_summaries(&stored, &computed) {
                             r.problems.push(format!("summary.json: {d}"));
                         }
                     }
@@ -566,10 +572,13 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
         ));
     }
 
-    let computed = pass
+    let mut computed = pass
         .summary
         .clone()
         .unwrap_or_else(|| SummaryBuilder::new(&meta.epochs).summary());
+    let unscored =
+        super::summary::unscored_turns(events.iter().map(|e| (e.kind.as_str(), e.detail.as_str())));
+    super::summary::drop_unscored_turns(&mut computed, &unscored);
     let last_sample_utc = parse_utc(&pass.last_t_utc);
     let last_event = events.last();
     let write_summary = match (meta.status, read_json::<Summary>(&dir.join(SUMMARY_FILE))) {
