@@ -49,7 +49,6 @@ pub struct Engine {
     pub(super) local_offset: FixedOffset,
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
-    pub(super) sensor_lost: bool,
     pub(super) samples: u64,
     /// The last sample's frames.
     pub(super) last_sample: Option<Stamped>,
@@ -99,7 +98,6 @@ impl Engine {
             stamper: Stamper::new(setup.start_utc, mark_true_deg, sun),
             local_offset,
             timeline,
-            sensor_lost: false,
             samples: 0,
             last_sample: None,
             trace: Trace::default(),
@@ -166,6 +164,9 @@ impl Engine {
                 self.trace.mark_turn(e.t_s);
             }
             self.event(e.t_s, e.kind, e.detail)?;
+        }
+        for &k in &self.timeline.unscored_turns {
+            self.scoring.unscore_turn(k);
         }
         Ok(())
     }
@@ -271,6 +272,10 @@ const PROGRESS_KINDS: &[&str] = &[
     "epoch_start",
     "turn_done",
     "turn_fault",
+    "turn_held",
+    "turn_not_made",
+    "turn_not_scored",
+    "turns_by_hand",
     "prompt",
     "prompt_confirmed",
     "sensor_lost",
@@ -482,11 +487,13 @@ impl Engine {
                     self.event(t, "malformed_line", format!("{reason}: {text}"))?
                 }
                 SensorEvent::Lost { .. } => {
-                    self.sensor_lost = true;
+                    self.timeline.set_sensor_lost(t, true);
+                    self.record_timeline()?;
                     self.event(t, "sensor_lost", "no data")?
                 }
                 SensorEvent::Back { .. } => {
-                    self.sensor_lost = false;
+                    self.timeline.set_sensor_lost(t, false);
+                    self.record_timeline()?;
                     self.event(t, "sensor_back", "")?
                 }
             }
@@ -535,9 +542,14 @@ impl Engine {
             "session {status} ({reason}): {} samples, r world {:.3}, r arena {:.3}",
             self.samples, summary.r_world, summary.r_arena
         ));
+        let lines = crate::engine::snapshot::summary_lines(&summary);
+        for l in &lines {
+            progress(l);
+        }
         let mut snap = self.snapshot(t_end);
         snap.ended = true;
         snap.end_reason = Some(format!("{status}: {reason}"));
+        snap.watch.end_summary = lines;
         cell.publish(snap);
         Ok(Outcome {
             dir,

@@ -149,6 +149,8 @@ pub enum EndReason {
     ProtocolFinished,
     /// The flight rules' abort: too long without flight.
     NoFlight,
+    /// The sensor-loss rules' abort: too long without data from the heading sensor.
+    SensorLost,
     /// The operator ended the session before the protocol was done.
     EndedByOperator,
     /// The loop stopped without the timeline ending the session.
@@ -175,6 +177,7 @@ impl EndReason {
         match self {
             EndReason::ProtocolFinished => "protocol finished",
             EndReason::NoFlight => "no flight",
+            EndReason::SensorLost => "sensor lost",
             EndReason::EndedByOperator => "ended by the operator",
             EndReason::Stopped => "stopped",
         }
@@ -185,7 +188,7 @@ impl EndReason {
     pub fn exit_code(self) -> i32 {
         match self {
             EndReason::ProtocolFinished | EndReason::EndedByOperator => 0,
-            EndReason::NoFlight | EndReason::Stopped => 1,
+            EndReason::NoFlight | EndReason::SensorLost | EndReason::Stopped => 1,
         }
     }
 }

@@ -74,7 +74,7 @@ impl Widget for Dial<'_> {
         let col = |c: Color| if theme.is_mono() { Color::Reset } else { c };
 
         let heading_world = snap.world_heading_deg;
-        let flying = snap.flying && !snap.health.sensor_lost;
+        let flying = snap.flying && !snap.health.sensor_lost && !snap.watch.heading_stale;
         let ev = snap.zenith_evector_deg;
         let canvas = Canvas::default()
             .marker(Marker::Braille)
