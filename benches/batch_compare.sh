@@ -1,18 +1,25 @@
 #!/usr/bin/env bash
-# Times `skybearing batch` against the straightforward pandas script
-# (tests/reference/batch_pandas_bench.py) computing the same per-epoch statistics, on N demo
-# sessions (default 200) of the built-in demo protocol (ten 3-minute epochs, about 30 min at
-# the simulated rig's rate), generated with `demo --headless --speed max`; prints the ratio.
+# Times `skybearing batch` against polars, DuckDB, pandas (with usecols) and `cat` of the same
+# bytes, side by side in one run (benches/peers/batch_peers.py), on two kinds of data:
+#   repeating      N demo sessions of the built-in demo protocol (ten 3-minute epochs, about
+#                  30 min at the simulated rig's 100 Hz), made with `demo --headless --speed max`;
+#                  the simulated sensor reports headings in 0.1 degree steps;
+#   non-repeating  the same sessions with their headings rewritten as a float-valued tracker's
+#                  would be archived (0.001 degree steps; benches/peers/jitter_headings.py).
+# Checks that all contenders agree and prints each one's median and ratio to batch.
 #
-# Usage: benches/batch_compare.sh [N]      (BATCH_BENCH_DIR=dir keeps the sessions for reuse)
+# Usage: benches/batch_compare.sh [N [REPEATS]]    (defaults 100 sessions, 3 rounds)
+#   BATCH_BENCH_DIR=dir  keeps the sessions for reuse (default target/batch-bench)
+#   BENCH_VENV=dir       the peers' Python venv (default .bench-venv, made and filled here)
 set -euo pipefail
 cd "$(dirname "$0")/.."
-N=${1:-200}
-WORK=${BATCH_BENCH_DIR:-$(mktemp -d)}
+N=${1:-100}
+REPEATS=${2:-3}
+WORK=${BATCH_BENCH_DIR:-target/batch-bench}
+. benches/peers/common.sh
 SESS="$WORK/sessions"
+FLOAT="$WORK/sessions-float"
 mkdir -p "$SESS"
-cargo build --release --quiet
-BIN=target/release/skybearing
 
 have=$(find "$SESS" -mindepth 2 -maxdepth 2 -name session.json | wc -l)
 if [ "$have" -lt "$N" ]; then
@@ -23,22 +30,16 @@ if [ "$have" -lt "$N" ]; then
     '"$BIN"' demo --headless --speed max --seed "$i" --sessions "'"$SESS"'" \
       --start "2026-06-${day}T08:00:00Z" --animal-mode "$mode" > /dev/null'
 fi
-count=$(find "$SESS" -mindepth 2 -maxdepth 2 -name samples.csv | wc -l)
-rows=$(cat "$SESS"/*/samples.csv | wc -l)
-bytes=$(du -sb "$SESS" | cut -f1)
-echo "sessions: $count, sample rows: $rows, bytes: $bytes" >&2
-# Warm the page cache for both contenders alike.
-cat "$SESS"/*/samples.csv > /dev/null
+echo "rewriting headings as a float tracker's into $FLOAT ..." >&2
+"$PY" benches/peers/jitter_headings.py "$SESS" "$FLOAT"
 
-now() { date +%s.%N; }
-t0=$(now)
-"$BIN" batch "$SESS" --out "$WORK/batch-out" --include-incomplete > /dev/null
-t1=$(now)
-python3 tests/reference/batch_pandas_bench.py "$SESS" "$WORK/pandas-epochs.csv" > /dev/null
-t2=$(now)
-python3 -c "
-rust, py = $t1 - $t0, $t2 - $t1
-print(f'skybearing batch: {rust:.2f} s')
-print(f'pandas script:    {py:.2f} s')
-print(f'ratio:            {py / rust:.1f}x (pandas / batch)')"
-echo "cores: $(nproc); sessions kept in $SESS" >&2
+for kind in "$SESS:repeating (0.1 degree steps)" "$FLOAT:non-repeating (0.001 degree steps)"; do
+  dir=${kind%%:*}
+  count=$(find "$dir" -mindepth 2 -maxdepth 2 -name samples.csv | wc -l)
+  rows=$(cat "$dir"/*/samples.csv | wc -l)
+  bytes=$(cat "$dir"/*/samples.csv | wc -c)
+  echo
+  echo "## ${kind#*:} headings: $count sessions, $rows lines, $bytes bytes of samples.csv, $(nproc) cores, warm page cache"
+  cat "$dir"/*/samples.csv > /dev/null
+  "$PY" benches/peers/batch_peers.py compare "$BIN" "$dir" "$WORK/out" "$REPEATS"
+done

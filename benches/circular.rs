@@ -1,6 +1,6 @@
 //! Streaming circular statistics throughput: `cargo bench --bench circular`.
 //!
-//! Compare with tests/reference/bench_astropy_rayleigh.py (astropy.stats.circstats.rayleightest
+//! Compare with astropy and scipy: `bash benches/stats_compare.sh` (astropy.stats.circstats.rayleightest
 //! on the same number of angles).
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 use skybearing::circular::{HeadingAccumulator, describe_deg, effective_sample_size_deg};

@@ -1,7 +1,7 @@
 //! Sun geometry per sample: `SunTrack::at` at 1 kHz steps (the session engine's path) and the
 //! exact `sun_position`, reported as samples per second (criterion "elem/s").
 //!
-//! Run: `cargo bench --bench sky`. Compare with `python3 tests/reference/bench_pvlib_spa.py`
+//! Run: `cargo bench --bench sky`. Compare with pvlib: `bash benches/sun_compare.sh`
 //! (pvlib's numpy `spa_python`, ns per timestamp).
 use chrono::{DateTime, Utc};
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};

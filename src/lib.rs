@@ -13,6 +13,7 @@ pub mod frames;
 pub mod protocol;
 pub mod rig;
 pub mod sky;
+pub mod textfile;
 pub mod tui;
 
 /// The program version written into every session folder.

@@ -62,7 +62,7 @@ fn row(k: u64) -> SampleRow {
         flying: k % 400 < 390,
         scored: k % 400 < 390 && (t_s % 10.0) > 1.0,
         sun_relative_heading_deg: (world - 120.0 - t_s * 0.004).rem_euclid(360.0),
-        zenith_evector_deg: 30.0,
+        zenith_evector_deg: (120.0 + t_s * 0.004 + 90.0).rem_euclid(180.0),
         raw: world,
     }
 }
@@ -374,4 +374,47 @@ fn an_empty_fresh_lock_is_a_writer_starting_up() {
     assert!(report.live && !report.interrupted, "{report:?}");
     assert!(repair_session(&dir).is_err());
     assert!(dir.join(LOCK_FILE).exists());
+}
+
+/// Issue 14: two runs started together choose the same id; the second takes the next
+/// counter instead of failing with "folder already exists".
+#[test]
+fn runs_started_together_take_the_next_counter() {
+    let tmp = tempfile::tempdir().unwrap();
+    let sessions = tmp.path().to_path_buf();
+    let date = chrono::NaiveDate::from_ymd_opt(2026, 6, 14).unwrap();
+    let id =
+        skybearing::archive::new_session_id(&sessions, date, "Larkfield Meadow (demo)", "lm-07")
+            .unwrap();
+    // Both chose the id before either created its folder.
+    let ids: Vec<String> = std::thread::scope(|s| {
+        let handles: Vec<_> = (0..6)
+            .map(|_| {
+                let (sessions, id) = (&sessions, id.clone());
+                s.spawn(move || {
+                    let mut m = meta(&id);
+                    let w = SessionWriter::create_next(sessions, &mut m).expect("create");
+                    assert_eq!(w.dir(), sessions.join(&m.id));
+                    std::mem::forget(w);
+                    m.id
+                })
+            })
+            .collect();
+        handles.into_iter().map(|h| h.join().unwrap()).collect()
+    });
+    let mut sorted = ids.clone();
+    sorted.sort();
+    let want: Vec<String> = (1..=6)
+        .map(|k| format!("2026-06-14_larkfield-meadow-demo_lm-07_{k:03}"))
+        .collect();
+    assert_eq!(sorted, want);
+    for id in &ids {
+        let m = SessionMeta::load(&sessions.join(id)).unwrap();
+        assert_eq!(&m.id, id, "session.json names its own folder");
+    }
+    // Plain `create` still refuses a taken folder.
+    assert!(matches!(
+        SessionWriter::create(&sessions, &meta(&id)),
+        Err(skybearing::archive::ArchiveError::Exists { .. })
+    ));
 }

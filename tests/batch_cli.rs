@@ -313,3 +313,63 @@ fn fast_path_reads_archive_files_without_falling_back() {
         assert_eq!(n, general.rows);
     }
 }
+
+/// Issue 14: `report` and `batch` reject the rows that `check` rejects (a duplicated row, rows
+/// out of order, a line that is not UTF-8), through the archive's one rule on rows.
+#[test]
+fn report_and_batch_reject_the_rows_check_rejects() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("sessions");
+    write_session(&root, "good", "lm-01", "complete", Mode::Sky, 40.0, 2, 100);
+    type Edit = fn(&mut Vec<Vec<u8>>);
+    let edits: [(&str, Edit); 3] = [
+        ("dup", |l| {
+            let row = l[40].clone();
+            l.insert(41, row);
+        }),
+        ("swap", |l| l.swap(40, 41)),
+        // The last byte of t_utc ('Z'): a field that batch does not otherwise read.
+        ("utf8", |l| l[41][23] = 0xff),
+    ];
+    for (name, edit) in edits {
+        let d = write_session(&root, name, "lm-02", "complete", Mode::Sky, 40.0, 2, 100);
+        let p = d.join("samples.csv");
+        let mut lines: Vec<Vec<u8>> = std::fs::read(&p)
+            .unwrap()
+            .split(|&b| b == b'\n')
+            .filter(|l| !l.is_empty())
+            .map(<[u8]>::to_vec)
+            .collect();
+        edit(&mut lines);
+        let mut bytes = lines.join(&b'\n');
+        bytes.push(b'\n');
+        std::fs::write(&p, bytes).unwrap();
+
+        let check = bin().args(["check", d.to_str().unwrap()]).output().unwrap();
+        let check_out = String::from_utf8_lossy(&check.stdout);
+        assert_eq!(check.status.code(), Some(1), "{name}: {check_out}");
+        assert!(check_out.contains("samples.csv:42"), "{name}: {check_out}");
+
+        let report = bin()
+            .args(["report", d.to_str().unwrap(), "--out"])
+            .arg(tmp.path().join(format!("report-{name}")))
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&report.stderr);
+        assert_ne!(report.status.code(), Some(0), "{name}: report accepted it");
+        assert!(err.contains("samples.csv:42"), "{name}: {err}");
+    }
+    let out = tmp.path().join("out");
+    let o = batch(&[root.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(0), "{stderr}");
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let ids: Vec<&str> = rows.iter().map(|r| col(&h, r, "session_id")).collect();
+    assert_eq!(ids, ["good"], "{stderr}");
+    for name in ["dup", "swap", "utf8"] {
+        assert!(
+            stderr.contains(name) && stderr.contains("samples.csv:42"),
+            "{name}: {stderr}"
+        );
+    }
+}

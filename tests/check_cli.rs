@@ -175,7 +175,7 @@ fn contract_violations_are_named() {
     let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
     assert_eq!(code, 1);
     assert!(
-        out.contains("samples.csv:12: t_s does not increase strictly"),
+        out.contains("samples.csv:12: t_s") && out.contains("out of order"),
         "{out}"
     );
 
@@ -192,4 +192,194 @@ fn contract_violations_are_named() {
     let (code, out, _) = run(&["check", tmp.path().join("nope").to_str().unwrap()]);
     assert_eq!(code, 1);
     assert!(out.contains("not a folder"), "{out}");
+}
+
+/// Issue 14: a closed session whose samples.csv was deleted keeps its summary.json, is
+/// reported as having lost its samples (non-zero exit) and gets no empty samples.csv.
+#[test]
+fn repair_keeps_the_summary_of_a_closed_session_whose_samples_were_deleted() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = session(tmp.path(), "lost_all", 400, true);
+    let summary = std::fs::read(dir.join("summary.json")).unwrap();
+    std::fs::remove_file(dir.join("samples.csv")).unwrap();
+    let (code, out, _) = run(&["check", "--repair", dir.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("not repaired") && out.contains("samples are lost"),
+        "{out}"
+    );
+    assert!(out.contains("FAIL"), "{out}");
+    assert!(!out.contains("ok   "), "{out}");
+    assert!(
+        !dir.join("samples.csv").exists(),
+        "an empty samples.csv was made"
+    );
+    assert_eq!(std::fs::read(dir.join("summary.json")).unwrap(), summary);
+}
+
+/// Issue 14: a closed session whose samples.csv was truncated keeps its summary.json (never
+/// rewritten from what is left) and the loss is reported.
+#[test]
+fn repair_keeps_the_summary_of_a_closed_session_whose_samples_were_truncated() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = session(tmp.path(), "lost_half", 400, true);
+    let summary = std::fs::read(dir.join("summary.json")).unwrap();
+    let p = dir.join("samples.csv");
+    let bytes = std::fs::read(&p).unwrap();
+    std::fs::write(&p, &bytes[..bytes.len() / 2]).unwrap();
+    let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("were lost after the session closed"), "{out}");
+    let (code, out, _) = run(&["check", "--repair", dir.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("not repaired") && out.contains("nothing was changed"),
+        "{out}"
+    );
+    assert_eq!(std::fs::read(dir.join("summary.json")).unwrap(), summary);
+    assert_eq!(std::fs::read(&p).unwrap(), &bytes[..bytes.len() / 2]);
+}
+
+/// Writes a closed session with `n` events whose details are plain words.
+fn session_with_events(sessions: &Path, id: &str, n: u64) -> PathBuf {
+    let m = meta(id);
+    let mut w = SessionWriter::create(sessions, &m).unwrap();
+    let mut b = SummaryBuilder::new(&m.epochs);
+    let start: DateTime<Utc> = "2026-06-14T09:30:00Z".parse().unwrap();
+    for k in 0..300 {
+        w.append_sample(&row(k)).unwrap();
+        b.push(&row(k));
+    }
+    for k in 0..n {
+        w.append_event(&skybearing::archive::EventRow {
+            t_utc: start + chrono::Duration::milliseconds((k * 20) as i64),
+            t_s: k as f64 * 0.02,
+            kind: "note".into(),
+            detail: format!("note number {k}"),
+        })
+        .unwrap();
+    }
+    let mut m = m;
+    m.status = SessionStatus::Complete;
+    m.ended_utc = Some(row(299).t_utc);
+    w.finish(&m, &b.summary()).unwrap()
+}
+
+/// Issue 14: one stray `"` in events.csv sets aside only its own line; the events after it
+/// are read, and repair keeps them (before: the rest of the file was one torn last line).
+#[test]
+fn one_stray_quote_in_events_sets_aside_only_its_line() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = session_with_events(tmp.path(), "stray_quote", 218);
+    let p = dir.join("events.csv");
+    let text = std::fs::read_to_string(&p).unwrap();
+    let bad = text.replacen("note number 3\n", "note \"number 3\n", 1);
+    assert_ne!(bad, text);
+    std::fs::write(&p, &bad).unwrap();
+    let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}");
+    assert!(out.contains("events.csv:5: malformed line"), "{out}");
+    assert!(out.contains("217 events"), "{out}");
+    assert!(!out.contains("torn last line"), "{out}");
+    let (code, out, _) = run(&["check", "--repair", dir.to_str().unwrap()]);
+    assert_eq!(code, 0, "{out}");
+    assert!(out.contains("set aside malformed line 5"), "{out}");
+    assert!(out.contains("217 events"), "{out}");
+    let torn = std::fs::read_to_string(dir.join("events.csv.torn")).unwrap();
+    assert!(
+        torn.starts_with("2026-06-14T09:30:00.060Z") && torn.ends_with("note \"number 3\n"),
+        "{torn:?}"
+    );
+    assert_eq!(torn.lines().count(), 1);
+    let kept = std::fs::read_to_string(&p).unwrap();
+    assert_eq!(kept.lines().count(), 1 + 217);
+    assert!(kept.contains("note number 217\n"));
+}
+
+/// Issue 14: a folder holding only `.lock` (a run killed before it wrote session.json) is
+/// reported with the rule, and `check --repair` removes it (nothing was recorded in it).
+#[test]
+fn a_folder_holding_only_a_stale_lock_is_removed_by_repair() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = tmp
+        .path()
+        .join("2026-06-14_larkfield-meadow-demo_lm-07_001");
+    std::fs::create_dir(&dir).unwrap();
+    std::fs::write(dir.join(".lock"), "").unwrap();
+    make_lock_stale(&dir);
+    let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("killed before it wrote one") && out.contains("removes the folder"),
+        "{out}"
+    );
+    let (code, out, _) = run(&["check", "--repair", dir.to_str().unwrap()]);
+    assert_eq!(code, 0, "{out}");
+    assert!(out.contains("removed the folder"), "{out}");
+    assert!(!dir.exists());
+
+    // A folder with anything else in it is not removed.
+    std::fs::create_dir(&dir).unwrap();
+    make_lock_stale(&dir);
+    std::fs::write(dir.join("notes.txt"), "mine").unwrap();
+    let (code, _, _) = run(&["check", "--repair", dir.to_str().unwrap()]);
+    assert_eq!(code, 1);
+    assert!(dir.join("notes.txt").exists());
+}
+
+/// Replaces field `col` of data row `k` (0-based, header excluded) of a session's samples.csv.
+fn set_field(dir: &Path, k: usize, col: &str, value: &str) {
+    let p = dir.join("samples.csv");
+    let text = std::fs::read_to_string(&p).unwrap();
+    let mut lines: Vec<String> = text.lines().map(String::from).collect();
+    let c = lines[0].split(',').position(|h| h == col).unwrap();
+    let mut f: Vec<String> = lines[k + 1].split(',').map(String::from).collect();
+    f[c] = value.into();
+    lines[k + 1] = f.join(",");
+    std::fs::write(&p, lines.join("\n") + "\n").unwrap();
+}
+
+/// Issue 14: `check` validates the sun, e-vector and raw columns, not only the headings.
+#[test]
+fn check_validates_the_sun_evector_and_raw_columns() {
+    let tmp = tempfile::tempdir().unwrap();
+    for (name, col, value, what) in [
+        (
+            "az",
+            "sun_azimuth_deg",
+            "400.000",
+            "sun_azimuth_deg outside [0, 360)",
+        ),
+        (
+            "el",
+            "sun_elevation_deg",
+            "-91.000",
+            "sun_elevation_deg outside [-90, 90]",
+        ),
+        (
+            "rel",
+            "sun_relative_heading_deg",
+            "12.000",
+            "sun_relative_heading_deg differs from world_heading_deg - sun_azimuth_deg",
+        ),
+        (
+            "ev",
+            "zenith_evector_deg",
+            "130.000",
+            "zenith_evector_deg is not the axis perpendicular to sun_azimuth_deg",
+        ),
+        ("raw", "raw", "NaN", "raw is not a finite number"),
+        ("rawtext", "raw", "abc", "raw is not a finite number"),
+    ] {
+        let dir = session(tmp.path(), &format!("cols_{name}"), 200, true);
+        let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
+        assert_eq!(code, 0, "{name}: {out}");
+        set_field(&dir, 20, col, value);
+        let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
+        assert_eq!(code, 1, "{name}: {out}");
+        assert!(
+            out.contains("samples.csv:22") && out.contains(what),
+            "{name}: {out}"
+        );
+    }
 }

@@ -1,9 +1,16 @@
 //! End-to-end test of the live screen: `skybearing demo --speed 30` in tmux. Reads the pane,
 //! resizes it, sends `q` (then another key: nothing must happen), then `q` `y`, and checks the
-//! session folder. `.ci/run` installs tmux where it is missing.
+//! session folder. Without tmux on the PATH the tests say on stderr that they skipped (the
+//! pseudo-terminal tests in `tui_live.rs` still drive the live screen); `.ci/run` installs
+//! tmux and sets `SKYBEARING_REQUIRE_TOOLS=1`, which makes a missing tmux a failure.
 
 mod support;
-use support::BIN;
+use support::{BIN, on_path, skip_without};
+
+/// Skips the calling test (saying so) when tmux is not installed.
+fn no_tmux(test: &str) -> bool {
+    skip_without(test, "tmux", on_path("tmux"), "apt-get install tmux")
+}
 
 use std::path::Path;
 use std::process::Command;
@@ -105,6 +112,9 @@ fn wait_file(p: &Path, secs: u64) -> String {
 
 #[test]
 fn live_demo_in_tmux_ends_with_q_then_y() {
+    if no_tmux("live_demo_in_tmux_ends_with_q_then_y") {
+        return;
+    }
     let tmp = tempfile::tempdir().expect("tmp");
     let sessions = tmp.path().join("sessions");
     let done = tmp.path().join("exit.txt");
@@ -184,6 +194,9 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
 
 #[test]
 fn closing_the_terminal_ends_the_session_properly() {
+    if no_tmux("closing_the_terminal_ends_the_session_properly") {
+        return;
+    }
     let tmp = tempfile::tempdir().expect("tmp");
     let sessions = tmp.path().join("sessions");
     let script = format!(

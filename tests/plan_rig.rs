@@ -8,7 +8,7 @@ mod support;
 use support::bin;
 
 use serde_json::Value;
-use skybearing::rig::config::TEMPLATE;
+use skybearing::rig::config::filled_example;
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
@@ -40,7 +40,7 @@ fn write_rig(dir: &Path, text: &str) -> PathBuf {
 fn magnetic_mark_is_corrected_with_the_declination() {
     // The template: demo site, mark 0 magnetic.
     let dir = tempfile::tempdir().unwrap();
-    let rig = write_rig(dir.path(), TEMPLATE);
+    let rig = write_rig(dir.path(), &filled_example());
     let out = plan(&rig, &["--start", "2026-06-21T08:00:00Z", "--json"]);
     assert!(
         out.status.success(),
@@ -69,7 +69,7 @@ fn magnetic_mark_is_corrected_with_the_declination() {
 #[test]
 fn rig_site_and_time_zone_are_used() {
     // An invented spot ("Saltpan Ridge (demo)") on the Tropic of Cancer, mark true 30, UTC+1.
-    let text = TEMPLATE
+    let text = filled_example()
         .replace("Larkfield Meadow (demo)", "Saltpan Ridge (demo)")
         .replace("latitude_deg = 43.2170", "latitude_deg = 23.2")
         .replace("longitude_deg = 5.4420", "longitude_deg = 10.0")
@@ -107,7 +107,7 @@ fn a_bad_rig_is_one_line_naming_file_line_and_field() {
     let dir = tempfile::tempdir().unwrap();
     let rig = write_rig(
         dir.path(),
-        &TEMPLATE.replace("latitude_deg = 43.2170", "latitude_deg = 123"),
+        &filled_example().replace("latitude_deg = 43.2170", "latitude_deg = 123"),
     );
     let out = plan(&rig, &["--start", "2026-06-21T08:00:00Z"]);
     assert_eq!(out.status.code(), Some(2));
@@ -129,7 +129,7 @@ fn a_bad_rig_is_one_line_naming_file_line_and_field() {
 #[test]
 fn magnetic_mark_outside_the_model_is_refused() {
     let dir = tempfile::tempdir().unwrap();
-    let rig = write_rig(dir.path(), TEMPLATE);
+    let rig = write_rig(dir.path(), &filled_example());
     let out = plan(&rig, &["--start", "2035-06-21T08:00:00Z"]);
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8(out.stderr).unwrap();

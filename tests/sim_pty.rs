@@ -220,7 +220,7 @@ fn serial_turntable_fault_reply_and_retry_keeps_the_id() {
     // The test plays the device on the master side of a pseudo-terminal.
     let dev = Pty::open().unwrap();
     let dir = tempfile::tempdir().unwrap();
-    let text = skybearing::rig::config::TEMPLATE
+    let text = &skybearing::rig::config::filled_example()
         .replace("kind = \"manual\"", "kind = \"serial\"")
         .replace(
             "# path = \"/dev/ttyACM0\"",

@@ -208,3 +208,21 @@ fn key_releases_and_ended_sessions_send_nothing() {
         assert!(ui.handle_key(k, &ended).is_empty(), "{k:?}");
     }
 }
+
+#[test]
+fn help_space_turns_the_page_and_other_keys_close() {
+    let snap = flying();
+    let mut ui = UiState::default();
+    assert!(ui.handle_key(ch('?'), &snap).is_empty());
+    assert_eq!((ui.mode.clone(), ui.help_page), (Mode::Help, 0));
+    assert!(ui.handle_key(ch(' '), &snap).is_empty());
+    assert_eq!((ui.mode.clone(), ui.help_page), (Mode::Help, 1));
+    assert!(ui.handle_key(key(KeyCode::Right), &snap).is_empty());
+    assert_eq!(ui.mode, Mode::Help);
+    // Any other key closes without a command (f would otherwise mark a flight stop).
+    assert!(ui.handle_key(ch('f'), &snap).is_empty());
+    assert_eq!(ui.mode, Mode::Normal);
+    // Opening again starts at the first page.
+    ui.handle_key(ch('?'), &snap);
+    assert_eq!(ui.help_page, 0);
+}

@@ -5,6 +5,7 @@ use ratatui::Terminal;
 use ratatui::backend::TestBackend;
 use ratatui::style::{Color, Modifier};
 use skybearing::engine::snapshot::Snapshot;
+use skybearing::tui::panels::overlays::PROMPT_GRACE_S;
 use skybearing::tui::sample::SnapshotBuilder;
 use skybearing::tui::{HeadingFrame, Mode, ThemeKind, UiState, draw};
 
@@ -66,7 +67,7 @@ fn main_screen_checks(lines: &[String], snap: &Snapshot) {
     // Dial with world-frame cardinal labels, trace axis.
     must_find(lines, "dial · world");
     must_find(lines, "heading trace · world");
-    must_find(lines, "360");
+    must_find(lines, "360°");
     // Epoch table: one row per epoch with its condition and bearing, in order.
     let header = must_find(lines, "condition");
     let mut last = header;
@@ -166,8 +167,26 @@ fn trace_shows_flight_stop_gap_and_turns() {
     assert!(strip.contains('×'), "no stop marked: {strip}");
     assert!(strip.contains('─'), "no flight marked: {strip}");
     // Two turns fall within the last 10 minutes (at 5:00 and 10:00).
-    let top = lines[must_find(&lines, "360")].clone();
+    let top = lines[must_find(&lines, "360°")].clone();
     assert_eq!(top.matches('┆').count(), 2, "{top}");
+}
+
+/// Every page of the help overlay at `w`×`h`, one after the other, turned with Space.
+fn help_pages(snap: &Snapshot, ui: &UiState, w: u16, h: u16) -> Vec<String> {
+    let mut ui = ui.clone();
+    let mut all = Vec::new();
+    for _ in 0..3 {
+        all.extend(screen(snap, &ui, w, h));
+        ui.handle_key(
+            crossterm::event::KeyEvent::new(
+                crossterm::event::KeyCode::Char(' '),
+                crossterm::event::KeyModifiers::NONE,
+            ),
+            snap,
+        );
+        assert_eq!(ui.mode, Mode::Help, "Space closed the help");
+    }
+    all
 }
 
 #[test]
@@ -178,7 +197,7 @@ fn help_overlay_lists_keys() {
         ..UiState::default()
     };
     for (w, h) in [(80, 24), (160, 48)] {
-        let lines = screen(&snap, &ui, w, h);
+        let lines = help_pages(&snap, &ui, w, h);
         must_find(&lines, "HELP");
         must_find(&lines, "mark a flight stop");
         must_find(&lines, "write a note");
@@ -203,13 +222,14 @@ fn turn_prompt_is_centered_with_countdown() {
     must_find(&lines, "Enter");
     // The footer offers Enter first.
     assert!(lines.last().unwrap().contains("Enter"));
-    // Late prompts say so in words.
+    // Late prompts say so in words (late: past the allowance for the operator's own work).
     let mut late = snap.clone();
     if let Some(p) = late.prompt.as_mut() {
-        p.countdown_s = -5.0;
+        p.countdown_s = -(PROMPT_GRACE_S + 5.0);
     }
     let lines = screen(&late, &UiState::default(), 80, 24);
     must_find(&lines, "LATE by 0:05");
+    must_find(&lines, "past the 1:00 allowed");
 }
 
 #[test]
@@ -442,7 +462,7 @@ fn trace_grid_rows_carry_their_labels() {
     let snap = SnapshotBuilder::new().build();
     for (w, h) in [(80, 24), (160, 48), (100, 30)] {
         let lines = screen(&snap, &UiState::default(), w, h);
-        for label in ["180", " 90"] {
+        for label in ["180°", " 90°"] {
             let row = lines
                 .iter()
                 .find(|l| l.contains(&format!("││{label} ")))
@@ -502,6 +522,252 @@ fn dial_shows_north_and_the_arena_mark_when_they_coincide() {
         let text = dial.join("\n");
         for mark in ['N', 'A', 'E', '*'] {
             assert!(text.contains(mark), "{w}x{h}: {mark} missing:\n{text}");
+        }
+    }
+}
+
+#[test]
+fn trace_axis_labels_carry_the_degree_sign() {
+    // Every heading on the trace's axis is an angle and says so, at every layout size.
+    let snap = SnapshotBuilder::new().build();
+    for (w, h) in [(44, 14), (80, 24), (160, 48)] {
+        let lines = screen(&snap, &UiState::default(), w, h);
+        let label = "  0°";
+        assert!(
+            lines.iter().any(|l| l.contains(&format!("│{label} "))),
+            "{w}x{h}: no axis label {label:?}:\n{}",
+            dump(&lines)
+        );
+        // No bare number left on the axis.
+        assert!(
+            !lines
+                .iter()
+                .any(|l| ["│360 ", "│270 ", "│180 ", "│ 90 ", "│  0 "]
+                    .iter()
+                    .any(|bare| l.contains(bare))),
+            "{w}x{h}: axis label without °:\n{}",
+            dump(&lines)
+        );
+    }
+}
+
+#[test]
+fn sun_frame_epoch_table_names_the_frame_of_its_means() {
+    // The epoch means exist in the world and arena frames only: in the sun frame the table's
+    // header must not pass its world means off as the frame on screen.
+    let snap = SnapshotBuilder::new().epochs(10).build();
+    for (w, h) in [(60, 18), (80, 24), (160, 48)] {
+        let sun = UiState {
+            frame: HeadingFrame::Sun,
+            ..UiState::default()
+        };
+        let lines = screen(&snap, &sun, w, h);
+        let title = must_find(&lines, " epochs ");
+        assert!(
+            lines[title].contains("sun frame, means in world°"),
+            "{w}x{h}: {}",
+            lines[title]
+        );
+        // The other frames name their own column and need no note.
+        for frame in [HeadingFrame::World, HeadingFrame::Arena] {
+            let ui = UiState {
+                frame,
+                ..UiState::default()
+            };
+            let lines = screen(&snap, &ui, w, h);
+            assert!(find(&lines, "means in").is_none(), "{w}x{h}: {frame:?}");
+            must_find(&lines, &format!("{}°", frame.name()));
+        }
+    }
+}
+
+#[test]
+fn prompt_is_not_late_the_moment_it_appears() {
+    // The engine publishes countdown_s = -waiting_s (the plan counts prompts as instant): a
+    // prompt four seconds old is due now, not late.
+    let mut snap = SnapshotBuilder::new().prompt(true).build();
+    for waiting_s in [0.0, 0.3, 4.0, 59.0] {
+        if let Some(p) = snap.prompt.as_mut() {
+            p.waiting_s = waiting_s;
+            p.countdown_s = -waiting_s;
+        }
+        let lines = screen(&snap, &UiState::default(), 80, 24);
+        assert!(
+            find(&lines, "LATE").is_none(),
+            "waiting {waiting_s} s:\n{}",
+            dump(&lines)
+        );
+        must_find(&lines, "next epoch due now");
+    }
+    if let Some(p) = snap.prompt.as_mut() {
+        p.waiting_s = 4.0;
+        p.countdown_s = -4.0;
+    }
+    let lines = screen(&snap, &UiState::default(), 80, 24);
+    must_find(&lines, "(0:56 to go)");
+    must_find(&lines, "waiting 0:04");
+}
+
+#[test]
+fn help_explains_every_column_and_abbreviation() {
+    // The operator meets `p eff`, `bearing`, `hold r`... on the main screen: the help names each.
+    let snap = SnapshotBuilder::new().build();
+    let ui = UiState {
+        mode: Mode::Help,
+        ..UiState::default()
+    };
+    for (w, h) in [(80, 24), (160, 48)] {
+        let lines = help_pages(&snap, &ui, w, h);
+        for (word, meaning) in [
+            ("az el", "sun azimuth"),
+            ("hold r", "r of the current epoch"),
+            ("bearing", "true bearing of the arena's 0 mark"),
+            ("flown", "flying time"),
+            ("n", "headings scored"),
+            ("world°", "mean heading of the epoch from true north"),
+            ("r", "mean vector length"),
+            ("session r", "r over all epochs"),
+            ("p eff", "Rayleigh test p on the effective n"),
+            ("state", "wait · ► now · done · skip"),
+            ("turn", "commanded arena turn"),
+            ("health", "saved = last write to disk"),
+        ] {
+            assert!(
+                lines
+                    .iter()
+                    .any(|l| l.contains(&format!("{word}  {meaning}"))),
+                "{w}x{h}: {word:?} not explained:\n{}",
+                dump(&lines)
+            );
+        }
+        // Both pages fit the screen: the last explanation and the page hint are not cut off.
+        if h == 24 {
+            must_find(&lines, "page 2 of 2");
+            must_find(&lines, "Space: back to the keys");
+        }
+    }
+}
+
+/// The dial's inside (within its border) at `w`×`h`, as rows of characters.
+fn dial_inside(lines: &[String]) -> Vec<Vec<char>> {
+    let top = must_find(lines, "┌ dial");
+    let width = lines[top].chars().skip(1).position(|c| c == '┐').unwrap() + 2;
+    let bottom = top
+        + lines[top..]
+            .iter()
+            .position(|l| l.starts_with('└'))
+            .unwrap();
+    lines[top + 1..bottom]
+        .iter()
+        .map(|l| l.chars().skip(1).take(width - 2).collect())
+        .collect()
+}
+
+#[test]
+fn dial_labels_never_share_or_touch_a_cell_at_small_sizes() {
+    // N E S W, the arena mark, the sun and the needle's tip: each once, none in or beside
+    // another's cell on its row, whatever the bearings, at 80x24 and smaller.
+    let frames = [HeadingFrame::World, HeadingFrame::Arena, HeadingFrame::Sun];
+    for (w, h) in [(44, 14), (60, 18), (80, 24), (100, 30)] {
+        for epochs in [5, 10] {
+            let base = SnapshotBuilder::new().epochs(epochs).build();
+            for frame in frames {
+                let ui = UiState {
+                    frame,
+                    ..UiState::default()
+                };
+                for arena in (0..360).step_by(45) {
+                    for sun in (0..360).step_by(45) {
+                        for heading in (0..360).step_by(90) {
+                            let mut snap = base.clone();
+                            snap.arena_bearing_deg = f64::from(arena) + 7.0;
+                            snap.sun_azimuth_deg = f64::from(sun);
+                            snap.world_heading_deg = Some(f64::from(heading) + 3.0);
+                            let inside = dial_inside(&screen(&snap, &ui, w, h));
+                            let mut at = Vec::new();
+                            for (r, row) in inside.iter().enumerate() {
+                                for (c, ch) in row.iter().enumerate() {
+                                    if "NESWA*●".contains(*ch) {
+                                        at.push((*ch, r, c));
+                                    }
+                                }
+                            }
+                            let text = || {
+                                inside
+                                    .iter()
+                                    .map(|r| r.iter().collect::<String>())
+                                    .collect::<Vec<_>>()
+                                    .join("\n")
+                            };
+                            let case = format!(
+                                "{w}x{h} {epochs} epochs {frame:?} arena {arena} sun {sun} heading {heading}"
+                            );
+                            for mark in "NESWA*●".chars() {
+                                let n = at.iter().filter(|(ch, _, _)| *ch == mark).count();
+                                assert_eq!(n, 1, "{case}: {mark} shown {n} times:\n{}", text());
+                            }
+                            for (i, a) in at.iter().enumerate() {
+                                for b in &at[i + 1..] {
+                                    assert!(
+                                        a.1 != b.1 || a.2.abs_diff(b.2) > 1,
+                                        "{case}: {} touches {}:\n{}",
+                                        a.0,
+                                        b.0,
+                                        text()
+                                    );
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn heading_needle_is_solid_blocks_unlike_the_dashed_evector() {
+    // Heading due east, e-vector north-south: the needle runs along the centre row in solid
+    // blocks, the e-vector up the centre column in braille dots; the same in the mono theme,
+    // where colour cannot tell them apart.
+    let mut snap = SnapshotBuilder::new().build();
+    snap.world_heading_deg = Some(90.0);
+    snap.zenith_evector_deg = 0.0;
+    snap.arena_bearing_deg = 200.0;
+    snap.sun_azimuth_deg = 240.0;
+    for theme in [ThemeKind::Sunlight, ThemeKind::Mono] {
+        for (w, h) in [(80, 24), (160, 48)] {
+            let inside = dial_inside(&screen(&snap, &UiState::with_theme(theme), w, h));
+            let (rows, cols) = (inside.len(), inside[0].len());
+            let text = inside
+                .iter()
+                .map(|r| r.iter().collect::<String>())
+                .collect::<Vec<_>>()
+                .join("\n");
+            let mid = rows / 2;
+            let blocks = (mid.saturating_sub(1)..=mid + 1)
+                .map(|r| inside[r].iter().filter(|c| **c == '█').count())
+                .max()
+                .unwrap();
+            assert!(blocks >= 3, "{theme:?} {w}x{h}: needle not solid:\n{text}");
+            // The e-vector column above and below the centre: dots, never needle blocks.
+            let centre_cols = cols / 2 - 1..=cols / 2;
+            for r in (1..mid.saturating_sub(1)).chain(mid + 2..rows - 1) {
+                for c in centre_cols.clone() {
+                    assert_ne!(
+                        inside[r][c], '█',
+                        "{theme:?} {w}x{h}: e-vector drawn like the needle:\n{text}"
+                    );
+                }
+            }
+            let dots = (1..mid.saturating_sub(1))
+                .filter(|&r| {
+                    centre_cols
+                        .clone()
+                        .any(|c| ('\u{2801}'..='\u{28ff}').contains(&inside[r][c]))
+                })
+                .count();
+            assert!(dots >= 2, "{theme:?} {w}x{h}: no e-vector dots:\n{text}");
         }
     }
 }

@@ -10,8 +10,8 @@
 use super::AnalysisError;
 use super::meta::{SessionInfo, read_session_info};
 use super::scan::{Row, ScanOutcome, scan_samples};
-use crate::archive::read::for_each_sample;
-use crate::circular::{HeadingAccumulator, SinCosMemo};
+use crate::archive::read::{RowOrder, for_each_valid_sample};
+use crate::circular::HeadingAccumulator;
 use crate::frames::{signed_difference_deg, sun_relative_heading_deg};
 use std::path::Path;
 
@@ -138,8 +138,6 @@ pub struct SessionPass {
     outside_world: HeadingAccumulator,
     outside_arena: HeadingAccumulator,
     prev: Option<(f64, bool, usize, bool)>, // t_s, flying, epoch, scored
-    /// Sines and cosines of recurring headings.
-    trig: SinCosMemo,
     rows: u64,
     flying_s: f64,
     duration_s: f64,
@@ -154,7 +152,6 @@ impl SessionPass {
             outside_world: HeadingAccumulator::new(),
             outside_arena: HeadingAccumulator::new(),
             prev: None,
-            trig: SinCosMemo::new(),
             rows: 0,
             flying_s: 0.0,
             duration_s: 0.0,
@@ -217,10 +214,8 @@ impl SessionPass {
                 e.world.mark_gap();
                 e.arena.mark_gap();
             }
-            let (sin, cos) = self.trig.sin_cos_deg(s.world_heading_deg);
-            e.world.push_unit(cos, sin);
-            let (sin, cos) = self.trig.sin_cos_deg(s.arena_heading_deg);
-            e.arena.push_unit(cos, sin);
+            e.world.push_deg(s.world_heading_deg);
+            e.arena.push_deg(s.arena_heading_deg);
             let r = *e.sun_azimuth_ref_deg.get_or_insert(s.sun_azimuth_deg);
             e.sum_sun_azimuth_offset_deg += offset_deg(r, s.sun_azimuth_deg);
             e.sum_sun_elevation_deg += s.sun_elevation_deg;
@@ -319,19 +314,26 @@ fn analyse(
     let mut pass = SessionPass::new(info.clone());
     let mut seen: Vec<Row> = Vec::new();
     let keep = want_rows;
+    // The archive's rule on the order of rows, as `check` applies it: a row that breaks it
+    // sends the file to the general reader, whose error names the line.
+    let mut order = RowOrder::default();
+    let mut in_order = true;
     if let ScanOutcome::Done(_) = scan_samples(&samples, |r| {
+        in_order &= order.next(r.t_s).is_ok();
         pass.push(r);
         if keep {
             seen.push(*r);
         }
-    }) {
+    }) && in_order
+    {
         seen.iter().for_each(&mut also);
         return Ok(pass.finish(false));
     }
-    // Not a plain file: the archive's general reader (quoted fields, a torn last line, and the
-    // error message naming the line) from the start.
+    // Not a plain file: the archive's general reader (quoted fields, a torn last line, text
+    // that is not UTF-8, rows out of order, and the error message naming the line) from the
+    // start.
     let mut pass = SessionPass::new(info);
-    let stats = for_each_sample(&samples, |s| {
+    let stats = for_each_valid_sample(&samples, |s| {
         let r = Row::from(s);
         pass.push(&r);
         also(&r);

@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 
 use serde::Serialize;
 
-use super::atomic::{sync_dir, write_json_atomic};
+use super::atomic::{sync_dir, write_atomic, write_json_atomic};
 use super::fmt::push_fixed;
 use super::lock::{LockState, lock_state};
 use super::read::{self, ReadStats};
@@ -40,6 +40,21 @@ pub struct CheckReport {
 }
 
 impl CheckReport {
+    /// The report on a folder that `check --repair` removed (see [`repair_session`]).
+    pub fn removed(dir: &Path) -> CheckReport {
+        CheckReport {
+            dir: dir.to_path_buf(),
+            id: None,
+            status: None,
+            samples: 0,
+            events: 0,
+            live: false,
+            interrupted: false,
+            problems: Vec::new(),
+            notes: vec!["removed by --repair: nothing was recorded in it".into()],
+        }
+    }
+
     /// True when nothing is wrong.
     pub fn ok(&self) -> bool {
         self.problems.is_empty()
@@ -205,6 +220,22 @@ struct SamplePass {
 /// Frames tolerance: world = arena + bearing within rounding of three 3-decimal numbers.
 const FRAME_TOLERANCE_DEG: f64 = 0.0016;
 
+/// The column names of a CSV file's header line (empty when it cannot be read).
+fn header_columns(path: &Path) -> Vec<String> {
+    use std::io::{BufRead, BufReader, Read};
+    let mut line = Vec::new();
+    let read =
+        File::open(path).map(|f| BufReader::new(f.take(1 << 16)).read_until(b'\n', &mut line));
+    match (read, std::str::from_utf8(&line)) {
+        (Ok(Ok(_)), Ok(text)) => read::split_csv_record(text.trim_end())
+            .unwrap_or_default()
+            .into_iter()
+            .map(|c| c.trim().to_string())
+            .collect(),
+        _ => Vec::new(),
+    }
+}
+
 fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass, ArchiveError> {
     let path = dir.join(SAMPLES_FILE);
     let mut pass = SamplePass {
@@ -216,20 +247,23 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
     let max_epoch = epochs
         .map(|e| e.iter().map(|e| e.index).max().unwrap_or(0))
         .unwrap_or(usize::MAX);
-    let mut prev_t_s = f64::NEG_INFINITY;
-    let mut t_s_bad: (u64, Option<u64>) = (0, None);
+    let columns = header_columns(&path);
+    let has = |name: &str| columns.iter().any(|c| c == name);
+    let (has_evector, has_raw) = (has("zenith_evector_deg"), has("raw"));
     let mut utc_bad: (u64, Option<u64>) = (0, None);
     let mut frame_bad: (u64, Option<u64>) = (0, None);
     let mut epoch_bad: (u64, Option<u64>) = (0, None);
+    let mut sun_range_bad: (u64, Option<u64>) = (0, None);
+    let mut sun_rel_bad: (u64, Option<u64>) = (0, None);
+    let mut evector_bad: (u64, Option<u64>) = (0, None);
+    let mut raw_bad: (u64, Option<u64>) = (0, None);
     let note = |c: &mut (u64, Option<u64>), line: u64| {
         c.0 += 1;
         c.1.get_or_insert(line);
     };
-    let stats = read::for_each_sample(&path, |s| {
-        if s.t_s.partial_cmp(&prev_t_s) != Some(std::cmp::Ordering::Greater) {
-            note(&mut t_s_bad, s.line);
-        }
-        prev_t_s = s.t_s;
+    // Parsing, UTF-8 and the order of rows (t_s strictly increasing) are the reader's rules,
+    // shared with `report` and `batch`; a row breaking them is an error naming its line.
+    let stats = read::for_each_valid_sample(&path, |s| {
         if !read::is_utc_millis(s.t_utc.as_bytes()) || s.t_utc < pass.last_t_utc.as_str() {
             note(&mut utc_bad, s.line);
         }
@@ -240,6 +274,31 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
         let no_heading = !s.arena_heading_deg.is_finite() && !s.world_heading_deg.is_finite();
         if !no_heading && (d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG) {
             note(&mut frame_bad, s.line);
+        }
+        let az = s.sun_azimuth_deg;
+        if !(0.0..360.0).contains(&az) || !(-90.0..=90.0).contains(&s.sun_elevation_deg) {
+            note(&mut sun_range_bad, s.line);
+        }
+        // The sun-relative heading is world − azimuth (NaN with no heading).
+        if s.world_heading_deg.is_finite() || s.sun_relative_heading_deg.is_finite() {
+            let d = crate::frames::wrap_signed_deg(
+                s.world_heading_deg - az - s.sun_relative_heading_deg,
+            );
+            if d.is_nan() || d.abs() > FRAME_TOLERANCE_DEG {
+                note(&mut sun_rel_bad, s.line);
+            }
+        }
+        // Single-scattering Rayleigh sky: the zenith e-vector is perpendicular to the solar
+        // meridian, an axis in [0, 180).
+        if has_evector {
+            let e = s.zenith_evector_deg;
+            let d = crate::frames::wrap_axial_deg(az + 90.0 - e);
+            if !(0.0..180.0).contains(&e) || d.min(180.0 - d) > FRAME_TOLERANCE_DEG {
+                note(&mut evector_bad, s.line);
+            }
+        }
+        if !s.raw.is_finite() && has_raw {
+            note(&mut raw_bad, s.line);
         }
         if s.epoch > max_epoch {
             note(&mut epoch_bad, s.line);
@@ -262,7 +321,6 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
                 .push(format!("samples.csv:{first}: {what} ({n} {rows} in all)"));
         }
     };
-    report(t_s_bad, "t_s does not increase strictly");
     report(
         utc_bad,
         "t_utc is not RFC 3339 UTC with milliseconds or goes back in time",
@@ -271,6 +329,19 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
         frame_bad,
         "world_heading_deg differs from arena_heading_deg + arena_bearing_deg",
     );
+    report(
+        sun_range_bad,
+        "sun_azimuth_deg outside [0, 360) or sun_elevation_deg outside [-90, 90]",
+    );
+    report(
+        sun_rel_bad,
+        "sun_relative_heading_deg differs from world_heading_deg - sun_azimuth_deg",
+    );
+    report(
+        evector_bad,
+        "zenith_evector_deg is not the axis perpendicular to sun_azimuth_deg in [0, 180)",
+    );
+    report(raw_bad, "raw is not a finite number");
     if let (n, Some(first)) = epoch_bad {
         pass.notes.push(format!(
             "samples.csv:{first}: epoch is not in the plan of session.json ({n} rows; they count only for r_world and r_arena)"
@@ -279,6 +350,48 @@ fn sample_pass(dir: &Path, epochs: Option<&[PlannedEpoch]>) -> Result<SamplePass
     pass.stats = stats;
     pass.summary = builder.map(|b| b.summary());
     Ok(pass)
+}
+
+/// Total scored samples over the epochs of a summary.
+fn scored_total(s: &Summary) -> u64 {
+    s.epochs.iter().map(|e| e.n).sum()
+}
+
+/// When `samples.csv` holds fewer scored samples than a closed session's `summary.json`
+/// counts, samples were lost after the session closed: the message saying so.
+fn lost_samples(stored: &Summary, computed: &Summary) -> Option<String> {
+    let (had, has) = (scored_total(stored), scored_total(computed));
+    (has < had).then(|| {
+        format!(
+            "{has} scored samples but summary.json counts {had}: {} were lost after the session closed (truncated or replaced file); summary.json is the record of the session as run and is kept",
+            had - has
+        )
+    })
+}
+
+/// Files a writer leaves in a folder before `session.json` exists: the lock and the temporary
+/// file of the atomic write.
+const STARTUP_FILES: &[&str] = &[LOCK_FILE, ".session.json.tmp"];
+
+/// When `dir` has no `session.json` and holds nothing but what a writer creates before it (a
+/// run killed between creating the folder and writing `session.json`), why it is empty; None
+/// otherwise (also while the writer is alive: it may be about to write).
+fn started_but_empty(dir: &Path) -> Option<String> {
+    if dir.join(SESSION_FILE).exists() || matches!(lock_state(dir), LockState::Alive(_)) {
+        return None;
+    }
+    let mut has_lock = false;
+    for entry in std::fs::read_dir(dir).ok()? {
+        let name = entry.ok()?.file_name();
+        let name = name.to_str()?;
+        if !STARTUP_FILES.contains(&name) {
+            return None;
+        }
+        has_lock |= name == LOCK_FILE;
+    }
+    has_lock.then(|| {
+        "no session.json: the run was killed before it wrote one (only .lock is left)".into()
+    })
 }
 
 /// Checks one session folder against the archive contract.
@@ -296,6 +409,12 @@ pub fn check_session(dir: &Path) -> CheckReport {
     };
     if !dir.is_dir() {
         r.problems.push("not a folder".into());
+        return r;
+    }
+    if let Some(why) = started_but_empty(dir) {
+        r.problems.push(format!(
+            "{why}; nothing was recorded in it: 'skybearing check --repair' removes the folder"
+        ));
         return r;
     }
     // session.json
@@ -422,6 +541,12 @@ pub fn check_session(dir: &Path) -> CheckReport {
             unscored = super::summary::unscored_turns(
                 ev.iter().map(|e| (e.kind.as_str(), e.detail.as_str())),
             );
+            for b in &st.set_aside {
+                r.problems.push(format!(
+                    "events.csv:{}: malformed line ({}); 'skybearing check --repair' sets it aside in events.csv.torn and keeps the lines after it",
+                    b.line, b.reason
+                ));
+            }
             if let Some(t) = &st.torn {
                 let what = format!(
                     "events.csv:{}: torn last line ({} bytes): {}",
@@ -449,6 +574,9 @@ pub fn check_session(dir: &Path) -> CheckReport {
                     if let Some(computed) = pass.as_ref().and_then(|p| p.summary.as_ref()) {
                         let mut computed = computed.clone();
                         super::summary::drop_unscored_turns(&mut computed, &unscored);
+                        if let Some(loss) = lost_samples(&stored, &computed) {
+                            r.problems.push(format!("samples.csv: {loss}"));
+                        }
                         for d in compare_summaries(&stored, &computed) {
                             r.problems.push(format!("summary.json: {d}"));
                         }
@@ -468,6 +596,9 @@ pub fn check_session(dir: &Path) -> CheckReport {
 pub struct RepairOutcome {
     /// One line per action.
     pub actions: Vec<String>,
+    /// The folder was removed: it held nothing but the lock of a run killed before it wrote
+    /// `session.json`.
+    pub removed: bool,
 }
 
 fn torn_copy_path(path: &Path) -> PathBuf {
@@ -505,6 +636,43 @@ fn cut_torn_tail(path: &Path, good_bytes: u64) -> Result<PathBuf, ArchiveError> 
     Ok(copy)
 }
 
+/// Takes the byte spans `lines` (in file order, not overlapping) out of `dir/name`: they go
+/// to `<file>.torn` (or `.torn.2`...), and the rest replaces the file atomically. Returns the
+/// copy's path.
+fn set_aside_lines(
+    dir: &Path,
+    name: &str,
+    lines: &[&read::TornTail],
+) -> Result<PathBuf, ArchiveError> {
+    let path = dir.join(name);
+    let bytes = std::fs::read(&path).map_err(|e| ArchiveError::io(&path, e))?;
+    let (mut kept, mut dropped) = (Vec::with_capacity(bytes.len()), Vec::new());
+    let mut at = 0usize;
+    for t in lines {
+        let s = usize::try_from(t.offset)
+            .unwrap_or(usize::MAX)
+            .min(bytes.len())
+            .max(at);
+        let e = usize::try_from(t.offset + t.len)
+            .unwrap_or(usize::MAX)
+            .min(bytes.len())
+            .max(s);
+        kept.extend_from_slice(&bytes[at..s]);
+        dropped.extend_from_slice(&bytes[s..e]);
+        at = e;
+    }
+    kept.extend_from_slice(&bytes[at..]);
+    let copy = torn_copy_path(&path);
+    {
+        let mut f = File::create(&copy).map_err(|e| ArchiveError::io(&copy, e))?;
+        f.write_all(&dropped)
+            .and_then(|()| f.sync_all())
+            .map_err(|e| ArchiveError::io(&copy, e))?;
+    }
+    write_atomic(dir, name, &kept)?;
+    Ok(copy)
+}
+
 fn ensure_csv(path: &Path, columns: &[&str]) -> Result<bool, ArchiveError> {
     if path.exists() {
         return Ok(false);
@@ -519,11 +687,19 @@ fn ensure_csv(path: &Path, columns: &[&str]) -> Result<bool, ArchiveError> {
 }
 
 /// Makes an interrupted session whole: drops torn last lines (keeping `.torn` copies of the
-/// dropped bytes), recomputes and writes `summary.json`, sets status `recovered` with
+/// dropped bytes), sets malformed lines of `events.csv` aside the same way (the lines after
+/// one are kept), recomputes and writes `summary.json`, sets status `recovered` with
 /// `ended_utc` the last sample's t_utc, appends a `session_end` event with detail `recovered`
 /// and removes the stale lock. A closed session only gets its torn tails cut, a missing or
-/// wrong `summary.json` rewritten and a stale lock removed. Refuses a session whose writer is
-/// alive, and one whose files have a bad line before the last (nothing is changed then).
+/// wrong `summary.json` rewritten and a stale lock removed.
+///
+/// Refuses (nothing is changed, [`ArchiveError::Lost`]) a closed session whose `samples.csv`
+/// is missing or holds fewer scored samples than its `summary.json` counts: the summary is the
+/// record of the session as run and is never rewritten from what is left, and no empty
+/// `samples.csv` is made under it. Refuses a session whose writer is alive, and one whose
+/// `samples.csv` has a bad line before the last. A folder that holds only what a writer makes
+/// before `session.json` (`.lock`, the atomic write's temporary file) and whose writer is gone
+/// is removed ([`RepairOutcome::removed`]): nothing was recorded in it.
 /// Never drops a complete sample row.
 pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
     let mut out = RepairOutcome::default();
@@ -535,10 +711,41 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
             pid: l.pid,
         });
     }
+    if let Some(why) = started_but_empty(dir) {
+        // Nothing was recorded: remove exactly the files a writer makes before session.json,
+        // then the (now empty) folder.
+        for name in STARTUP_FILES {
+            let p = dir.join(name);
+            match std::fs::remove_file(&p) {
+                Ok(()) => {}
+                Err(e) if e.kind() == std::io::ErrorKind::NotFound => {}
+                Err(e) => return Err(ArchiveError::io(&p, e)),
+            }
+        }
+        std::fs::remove_dir(dir).map_err(|e| ArchiveError::io(dir, e))?;
+        if let Some(parent) = dir.parent().filter(|p| !p.as_os_str().is_empty()) {
+            sync_dir(parent)?;
+        }
+        out.actions.push(format!(
+            "removed the folder: {why}; nothing was recorded in it"
+        ));
+        out.removed = true;
+        return Ok(out);
+    }
     let mut meta = SessionMeta::load(dir)?;
     let samples_path = dir.join(SAMPLES_FILE);
     let events_path = dir.join(EVENTS_FILE);
+    let closed = meta.status.is_closed();
     // Read everything first: refuse before changing anything.
+    if closed && !samples_path.exists() {
+        return Err(ArchiveError::Lost {
+            path: samples_path,
+            message: format!(
+                "missing from a {} session: its samples are lost; summary.json is kept as the record of the session as run (restore samples.csv from a copy); nothing was changed",
+                meta.status.as_str()
+            ),
+        });
+    }
     let samples_created = !samples_path.exists();
     if samples_created {
         ensure_csv(&samples_path, SAMPLE_COLUMNS)?;
@@ -552,6 +759,23 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
             .push("events.csv was missing: created it with its header".into());
     }
     let (events, ev_stats) = read::read_events(&events_path)?;
+    let mut computed = pass
+        .summary
+        .clone()
+        .unwrap_or_else(|| SummaryBuilder::new(&meta.epochs).summary());
+    let unscored =
+        super::summary::unscored_turns(events.iter().map(|e| (e.kind.as_str(), e.detail.as_str())));
+    super::summary::drop_unscored_turns(&mut computed, &unscored);
+    let stored = read_json::<Summary>(&dir.join(SUMMARY_FILE));
+    if closed
+        && let Ok(stored) = &stored
+        && let Some(loss) = lost_samples(stored, &computed)
+    {
+        return Err(ArchiveError::Lost {
+            path: samples_path,
+            message: format!("{loss}; nothing was changed"),
+        });
+    }
 
     if let Some(t) = &pass.stats.torn {
         let copy = cut_torn_tail(&samples_path, pass.stats.good_bytes)?;
@@ -562,7 +786,19 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
             copy.display()
         ));
     }
-    if let Some(t) = &ev_stats.torn {
+    if !ev_stats.set_aside.is_empty() {
+        let spans: Vec<&read::TornTail> = ev_stats.set_aside.iter().chain(&ev_stats.torn).collect();
+        let copy = set_aside_lines(dir, EVENTS_FILE, &spans)?;
+        for t in &spans {
+            out.actions.push(format!(
+                "events.csv: set aside malformed line {} ({} bytes, kept in {}): {}",
+                t.line,
+                t.len,
+                copy.display(),
+                t.reason
+            ));
+        }
+    } else if let Some(t) = &ev_stats.torn {
         let copy = cut_torn_tail(&events_path, ev_stats.good_bytes)?;
         out.actions.push(format!(
             "events.csv: dropped torn line {} ({} bytes, kept in {})",
@@ -572,16 +808,9 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
         ));
     }
 
-    let mut computed = pass
-        .summary
-        .clone()
-        .unwrap_or_else(|| SummaryBuilder::new(&meta.epochs).summary());
-    let unscored =
-        super::summary::unscored_turns(events.iter().map(|e| (e.kind.as_str(), e.detail.as_str())));
-    super::summary::drop_unscored_turns(&mut computed, &unscored);
     let last_sample_utc = parse_utc(&pass.last_t_utc);
     let last_event = events.last();
-    let write_summary = match (meta.status, read_json::<Summary>(&dir.join(SUMMARY_FILE))) {
+    let write_summary = match (meta.status, stored) {
         (SessionStatus::Running, _) => true,
         (_, Err(_)) => true,
         (_, Ok(stored)) => !compare_summaries(&stored, &computed).is_empty(),

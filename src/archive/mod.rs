@@ -17,7 +17,8 @@
 //! time, so an interruption loses at most the last second and can tear only the last line.
 //! `skybearing check` ([`check::check_session`]) validates a folder; `check --repair`
 //! ([`check::repair_session`]) drops a torn last line (keeping the bytes in `<file>.torn`),
-//! recomputes `summary.json` and marks the session `recovered`. A last line without its
+//! recomputes `summary.json` and marks the session `recovered`; it never rewrites the summary
+//! of a closed session from fewer samples than it counts (a loss is reported instead). A last line without its
 //! newline is always treated as torn (its last field may be cut short), even if it parses.
 
 pub mod atomic;
@@ -227,6 +228,14 @@ pub enum ArchiveError {
         dir: PathBuf,
         /// The id prefix.
         prefix: String,
+    },
+    /// Data of a closed session is gone: repair refuses to paper over it.
+    #[error("{path}: {message}")]
+    Lost {
+        /// The file that lost data.
+        path: PathBuf,
+        /// What was lost and what was kept.
+        message: String,
     },
     /// A malformed file: a CSV line, a JSON field.
     #[error("{path}:{line}: {message}")]

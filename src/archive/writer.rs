@@ -56,6 +56,19 @@ fn create_new(path: &Path) -> Result<File, ArchiveError> {
         .map_err(|e| ArchiveError::io(path, e))
 }
 
+/// The id without its trailing `_NNN` counter, if it has one.
+fn counter_prefix(id: &str) -> Option<&str> {
+    let (prefix, num) = id.rsplit_once('_')?;
+    (num.len() == 3 && num.bytes().all(|b| b.is_ascii_digit())).then_some(prefix)
+}
+
+/// The id with its trailing `_NNN` counter raised by one (None past 999 or without a counter).
+fn next_counter(id: &str) -> Option<String> {
+    let prefix = counter_prefix(id)?;
+    let k: u32 = id[prefix.len() + 1..].parse().ok()?;
+    (k < 999).then(|| format!("{prefix}_{:03}", k + 1))
+}
+
 impl SessionWriter {
     /// Creates `sessions_dir/<meta.id>/` (the folder must not exist; `sessions_dir` is created
     /// if missing), takes its lock, writes `session.json` atomically and the CSV headers.
@@ -124,6 +137,32 @@ impl SessionWriter {
             events_written: 0,
             finished: false,
         })
+    }
+
+    /// Like [`SessionWriter::create`], but when the folder is already taken (another run
+    /// started at the same moment chose the same id) takes the next free counter: the id's
+    /// trailing `_NNN` is raised by one and the folder created again, until `create_dir`
+    /// succeeds (it is atomic, so two runs never share a folder) or the counter passes 999.
+    /// `meta.id` is updated to the id that was taken.
+    pub fn create_next(
+        sessions_dir: &Path,
+        meta: &mut SessionMeta,
+    ) -> Result<SessionWriter, ArchiveError> {
+        loop {
+            match SessionWriter::create(sessions_dir, meta) {
+                Err(ArchiveError::Exists { path }) => match next_counter(&meta.id) {
+                    Some(id) => meta.id = id,
+                    None if counter_prefix(&meta.id).is_some() => {
+                        return Err(ArchiveError::NoFreeCounter {
+                            dir: sessions_dir.to_path_buf(),
+                            prefix: counter_prefix(&meta.id).unwrap_or_default().to_string(),
+                        });
+                    }
+                    None => return Err(ArchiveError::Exists { path }),
+                },
+                other => return other,
+            }
+        }
     }
 
     /// The session folder.

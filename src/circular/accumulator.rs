@@ -94,11 +94,10 @@ impl HeadingAccumulator {
         self.push_unit(c, s);
     }
 
-    /// Adds one heading given as its unit vector (cos θ, sin θ) of a finite θ: what
-    /// [`HeadingAccumulator::push_deg`] does once it has them, for a caller that already has
-    /// them (from a [`super::SinCosMemo`]).
+    /// Adds one heading given as its unit vector (cos θ, sin θ) of a finite θ: the part of
+    /// [`HeadingAccumulator::push_deg`] after the sine and cosine.
     #[inline(always)]
-    pub(crate) fn push_unit(&mut self, c: f64, s: f64) {
+    fn push_unit(&mut self, c: f64, s: f64) {
         self.n += 1;
         self.blk_c += c;
         self.blk_s += s;

@@ -22,7 +22,6 @@ pub use second_order::{
     HotellingResult, MooreResult, WatsonWilliamsResult, hotelling_one_sample_test,
     moore_rayleigh_test, second_order_mean, watson_williams_test,
 };
-pub(crate) use trig::SinCosMemo;
 
 use crate::frames::{wrap_360_deg, wrap_axial_deg};
 use serde::Serialize;

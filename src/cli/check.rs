@@ -115,6 +115,15 @@ fn check_one(dir: &Path, repair: bool) -> FolderResult {
             }
         }
     }
+    if repair_out.as_ref().is_some_and(|o| o.removed) {
+        // Nothing was recorded in it: gone is the whole repair.
+        return FolderResult {
+            ok: true,
+            report: CheckReport::removed(dir),
+            repair: repair_out,
+            repair_error,
+        };
+    }
     let report = check_session(dir);
     FolderResult {
         ok: report.ok(),

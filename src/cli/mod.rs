@@ -50,6 +50,12 @@ enum Command {
 /// Errors are printed as one line on stderr: `skybearing: error: ...`.
 pub fn main() -> i32 {
     let cli = Cli::parse();
+    if !matches!(
+        cli.command,
+        Command::Demo(_) | Command::Run(_) | Command::Sim(_)
+    ) {
+        quiet_on_broken_pipe();
+    }
     let result = match cli.command {
         Command::Demo(a) => demo::run(a),
         Command::Run(a) => run::run(a),
@@ -68,6 +74,19 @@ pub fn main() -> i32 {
             eprintln!("skybearing: error: {}", one_line(&e));
             2
         }
+    }
+}
+
+/// Commands that only print (check, plan, batch...) end quietly when the reader of their
+/// output goes away (`skybearing check DIR --json | head`): the default action of SIGPIPE is
+/// restored, as for any Unix filter, instead of Rust's "ignore", which turns every later
+/// `println!` into a panic. Session commands (demo, run, sim) keep SIGPIPE ignored: their
+/// progress lines are written with errors ignored, so a closed pipe never stops a session
+/// before its archive is closed.
+fn quiet_on_broken_pipe() {
+    // SAFETY: called before any other thread exists; sets a standard signal disposition.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
 }
 

@@ -54,6 +54,15 @@ pub fn run(args: PlanArgs) -> anyhow::Result<i32> {
         None => next_minute(Utc::now()),
     };
     let (protocol, protocol_warnings) = load_protocol(&args.protocol)?;
+    let total_ms = (protocol.total_duration_s() * 1000.0).round() as i64;
+    if chrono::TimeDelta::try_milliseconds(total_ms)
+        .and_then(|d| start.checked_add_signed(d))
+        .is_none()
+    {
+        anyhow::bail!(
+            "--start: {start} plus the protocol's duration is past the last date this program can show"
+        );
+    }
     let (site, magnetic) = match &args.rig {
         Some(path) => plan_site_from_rig(&read_rig(path)?, start)
             .with_context(|| format!("{}", path.display()))?,

@@ -5,6 +5,11 @@ use clap::{Args, Subcommand};
 use std::io::Write;
 use std::path::PathBuf;
 
+use crate::frames::{Direction, SensorUnit};
+use crate::rig::config::{
+    BearingReference, ReplayPace, Rig, SensorSource, TimeUnit, TurntableConfig,
+};
+
 /// Flags of `skybearing rig`.
 #[derive(Debug, Args)]
 pub struct RigArgs {
@@ -64,23 +69,95 @@ pub fn run(args: RigArgs) -> anyhow::Result<i32> {
                     drop(crate::rig::open_turntable(&rig, clock)?);
                 }
             }
-            println!(
-                "{}: ok: site {} ({:.4}, {:.4}, {} m, {}); arena mark {} deg {}; sensor {}; turntable {}",
-                file.display(),
-                rig.site.name,
-                rig.site.latitude_deg,
-                rig.site.longitude_deg,
-                rig.site.elevation_m,
-                rig.time_zone,
-                rig.arena_mark_bearing_deg,
-                match rig.arena_mark_reference {
-                    crate::rig::config::BearingReference::Magnetic => "magnetic",
-                    crate::rig::config::BearingReference::True => "true",
-                },
-                serde_json::to_string(&rig.sensor.source)?,
-                serde_json::to_string(&rig.turntable)?,
-            );
+            print!("{}", describe_rig(&file.display().to_string(), &rig));
             Ok(0)
         }
+    }
+}
+
+/// What `rig check` prints: the rig in words, one aspect a line.
+pub fn describe_rig(file: &str, rig: &Rig) -> String {
+    let site = &rig.site;
+    let reference = match rig.arena_mark_reference {
+        BearingReference::Magnetic => "magnetic (corrected with the WMM declination at run time)",
+        BearingReference::True => "true",
+    };
+    format!(
+        "{file}: ok\n  site       {} ({:.4}, {:.4}, {} m), time zone {}\n  arena      0 mark at {} deg {reference}\n  sensor     {}\n  turntable  {}\n  sessions   {}\n",
+        site.name,
+        site.latitude_deg,
+        site.longitude_deg,
+        site.elevation_m,
+        rig.time_zone,
+        rig.arena_mark_bearing_deg,
+        describe_sensor(rig),
+        describe_turntable(&rig.turntable),
+        rig.sessions_dir.display(),
+    )
+}
+
+fn describe_sensor(rig: &Rig) -> String {
+    let s = &rig.sensor;
+    let d = &s.decoder;
+    let from = match &s.source {
+        SensorSource::Serial { path, baud } => {
+            format!("serial port {} at {baud} baud", path.display())
+        }
+        SensorSource::Stdin => "standard input".to_string(),
+        SensorSource::Replay { path, pace } => format!(
+            "replay of {} ({})",
+            path.display(),
+            match pace {
+                ReplayPace::Recorded => "at its recorded times",
+                ReplayPace::Fast => "as fast as it is read",
+            }
+        ),
+        SensorSource::Sim => "built-in simulator".to_string(),
+    };
+    let delim = match d.delimiter {
+        ' ' | '\t' => "blank-separated".to_string(),
+        c => format!("\"{c}\"-separated"),
+    };
+    let time = match d.time_column {
+        Some(c) => format!(
+            ", device time in column {c} ({})",
+            match d.time_unit {
+                TimeUnit::Ms => "ms",
+                TimeUnit::Us => "us",
+            }
+        ),
+        None => String::new(),
+    };
+    let cal = &rig.calibration;
+    let unit = match cal.unit {
+        SensorUnit::Degrees => "degrees".to_string(),
+        SensorUnit::Radians => "radians".to_string(),
+        SensorUnit::Counts { per_rev } => format!("counts ({per_rev} per revolution)"),
+    };
+    let dir = match cal.direction {
+        Direction::Clockwise => "clockwise",
+        Direction::Counterclockwise => "counterclockwise (mirrored)",
+    };
+    format!(
+        "{from}; {delim} lines, heading in column {}{time}; {unit}, {dir}, zero offset {} deg; lost after {} s without a line",
+        d.value_column, cal.zero_offset_deg, s.lost_after_s
+    )
+}
+
+fn describe_turntable(t: &TurntableConfig) -> String {
+    match t {
+        TurntableConfig::Serial {
+            path,
+            baud,
+            timeout_s,
+            ..
+        } => format!(
+            "serial controller on {} at {baud} baud, reply within {timeout_s} s (one retry)",
+            path.display()
+        ),
+        TurntableConfig::Manual => {
+            "turned by hand (the operator is prompted before each turn)".to_string()
+        }
+        TurntableConfig::Sim => "built-in simulator".to_string(),
     }
 }

@@ -18,8 +18,9 @@ pub struct RunArgs {
     /// Protocol file (TOML; see protocols/).
     #[arg(long)]
     pub protocol: PathBuf,
-    /// Animal id written into the archive (letters, digits, - _ .).
-    #[arg(long, default_value = "animal")]
+    /// Animal id written into the archive (letters, digits, - _ .). Required: a session
+    /// without the animal's own id cannot be told apart from the others later.
+    #[arg(long, value_name = "ID")]
     pub animal: String,
     /// Sessions folder (default: the rig file's, else ./sessions).
     #[arg(long)]

@@ -319,7 +319,11 @@ impl Engine {
             auto_confirm_after_s,
             mut sim_operator,
         } = w;
-        self.writer = Some(SessionWriter::create(&self.setup.sessions_dir, &self.meta)?);
+        // Two runs started together may have chosen the same id: take the next counter.
+        self.writer = Some(SessionWriter::create_next(
+            &self.setup.sessions_dir,
+            &mut self.meta,
+        )?);
         self.sensor_desc = sensor.describe();
         self.turntable_desc = turntable.describe();
         let mut progress_seen = 0usize;

@@ -12,6 +12,14 @@ use std::ops::Range;
 use toml::Spanned;
 use toml::de::{DeTable, DeValue};
 
+/// Longest epoch (and longest flight rule), seconds: 24 hours. Longer values are refused, so
+/// that no time computed from a protocol can overflow a date or exhaust memory.
+pub const MAX_EPOCH_S: f64 = 24.0 * 3600.0;
+/// Longest settle window, seconds: 1 hour.
+pub const MAX_SETTLE_S: f64 = 3600.0;
+/// Longest session (sum of the epochs), seconds: 3 days.
+pub const MAX_SESSION_S: f64 = 3.0 * 24.0 * 3600.0;
+
 /// A protocol total above this many seconds draws a warning (4 hours).
 pub const LONG_PROTOCOL_S: f64 = 4.0 * 3600.0;
 
@@ -364,6 +372,26 @@ fn sensor_loss_rules(
     Ok(rules)
 }
 
+/// A positive duration of at most `max` seconds.
+fn duration(
+    src: &Source<'_>,
+    v: &Spanned<f64>,
+    field: &str,
+    max: f64,
+    what: &str,
+) -> Result<f64, ProtocolError> {
+    let x = positive(src, v, field)?;
+    if x > max {
+        Err(src.field_err(
+            v.span(),
+            field,
+            format!("must be at most {max} s ({what}) (got {x})"),
+        ))
+    } else {
+        Ok(x)
+    }
+}
+
 fn non_empty(src: &Source<'_>, v: &Spanned<String>, field: &str) -> Result<String, ProtocolError> {
     let s = v.get_ref().trim();
     if s.is_empty() {
@@ -407,6 +435,13 @@ pub fn parse_protocol(
             format!("must be >= 0 (got {settle_s})"),
         ));
     }
+    if settle_s > MAX_SETTLE_S {
+        return Err(src.field_err(
+            raw.settle_s.span(),
+            "settle_s",
+            format!("must be at most {MAX_SETTLE_S} s (1 hour) (got {settle_s})"),
+        ));
+    }
 
     let mut flight = FlightRules::default();
     if let Some(f) = &raw.flight {
@@ -414,10 +449,22 @@ pub fn parse_protocol(
             flight.pause_clock_when_stopped = *p.get_ref();
         }
         if let Some(m) = &f.min_flying_s {
-            flight.min_flying_s = Some(positive(&src, m, "flight.min_flying_s")?);
+            flight.min_flying_s = Some(duration(
+                &src,
+                m,
+                "flight.min_flying_s",
+                MAX_EPOCH_S,
+                "24 hours",
+            )?);
         }
         if let Some(a) = &f.abort_after_stopped_s {
-            flight.abort_after_stopped_s = Some(positive(&src, a, "flight.abort_after_stopped_s")?);
+            flight.abort_after_stopped_s = Some(duration(
+                &src,
+                a,
+                "flight.abort_after_stopped_s",
+                MAX_EPOCH_S,
+                "24 hours",
+            )?);
         }
     }
 
@@ -514,6 +561,16 @@ pub fn parse_protocol(
         epochs,
     };
     let total = protocol.total_duration_s();
+    if total > MAX_SESSION_S {
+        return Err(src.field_err(
+            entries.span(),
+            "epochs",
+            format!(
+                "total duration {} is over the limit of {MAX_SESSION_S} s (3 days)",
+                super::format_duration_s(total)
+            ),
+        ));
+    }
     if total > LONG_PROTOCOL_S {
         warnings.push(format!(
             "{}:{}: epochs: total duration {} is over 4 hours",
@@ -534,7 +591,13 @@ fn expand_entry(
 ) -> Result<Vec<(EpochPlan, Range<usize>)>, ProtocolError> {
     let e = entry.get_ref();
     let f = |name: &str| format!("{at}.{name}");
-    let duration_s = positive(src, &e.duration_s, &f("duration_s"))?;
+    let duration_s = duration(
+        src,
+        &e.duration_s,
+        &f("duration_s"),
+        MAX_EPOCH_S,
+        "24 hours",
+    )?;
     let condition = match &e.condition {
         Some(c) => non_empty(src, c, &f("condition"))?,
         None => DEFAULT_CONDITION.to_string(),

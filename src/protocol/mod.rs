@@ -178,9 +178,16 @@ impl ArenaMove {
 /// Reads and checks a protocol file; errors and warnings name the file as given.
 pub fn load_protocol(path: &Path) -> Result<(Protocol, Vec<String>), ProtocolError> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| ProtocolError::Read {
-        file: name.clone(),
-        message: e.to_string(),
+    let text = crate::textfile::read_text_capped(path).map_err(|e| match e {
+        crate::textfile::TextFileError::NotUtf8 { line, .. } => ProtocolError::Syntax {
+            file: name.clone(),
+            line,
+            message: e.to_string(),
+        },
+        other => ProtocolError::Read {
+            file: name.clone(),
+            message: other.to_string(),
+        },
     })?;
     parse_protocol(&text, &name)
 }

@@ -193,9 +193,23 @@ impl Plan {
     }
 }
 
-/// `start + offset_s`, to the millisecond.
+/// `start + offset_s`, to the millisecond; saturates at the last (or first) representable
+/// instant instead of overflowing (protocol durations are capped, see
+/// [`super::file::MAX_SESSION_S`], so only a start at the end of the calendar gets there).
 pub fn at_offset(start: DateTime<Utc>, offset_s: f64) -> DateTime<Utc> {
-    start + TimeDelta::milliseconds((offset_s * 1000.0).round() as i64)
+    let ms = (offset_s * 1000.0).round();
+    let delta = if ms.is_finite() && ms.abs() < 9.0e15 {
+        TimeDelta::try_milliseconds(ms as i64)
+    } else {
+        None
+    };
+    delta
+        .and_then(|d| start.checked_add_signed(d))
+        .unwrap_or(if offset_s < 0.0 {
+            DateTime::<Utc>::MIN_UTC
+        } else {
+            DateTime::<Utc>::MAX_UTC
+        })
 }
 
 fn local_string(t: DateTime<Utc>, tz: Tz) -> String {

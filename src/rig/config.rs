@@ -10,6 +10,8 @@ use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
 use toml::Spanned;
 
+pub use super::template::{PLACEHOLDER, TEMPLATE, filled_example};
+
 /// Whether the arena mark bearing was measured against magnetic or true north.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -33,8 +35,6 @@ pub struct Rig {
     pub arena_mark_reference: BearingReference,
     /// Sensor calibration (units, direction, zero offset).
     pub calibration: SensorCalibration,
-    /// Settle window after each turn, seconds (a protocol may override).
-    pub settle_s: f64,
     /// Where sessions go.
     pub sessions_dir: PathBuf,
     /// The heading sensor: where its lines come from and how they are read.
@@ -168,12 +168,12 @@ pub enum TurntableConfig {
 #[derive(Debug, thiserror::Error)]
 pub enum RigFileError {
     /// The file could not be read.
-    #[error("{file}: cannot read rig file: {source}")]
+    #[error("{file}: cannot read rig file: {message}")]
     Read {
         /// The file.
         file: String,
         /// Why.
-        source: std::io::Error,
+        message: String,
     },
     /// A field is missing, unknown or wrong.
     #[error("{file}:{line}: {field}: {message}")]
@@ -211,7 +211,7 @@ struct RawRig {
     arena: Option<S<RawArena>>,
     sensor: Option<S<RawSensor>>,
     turntable: Option<S<RawTurntable>>,
-    settle_s: Option<S<f64>>,
+    settle_s: Option<S<toml::Value>>,
     sessions_dir: Option<S<String>>,
 }
 
@@ -424,18 +424,38 @@ impl Checker<'_> {
     }
 }
 
+/// Why "sim" is refused in a rig file: the in-process simulator is wired by `demo` only.
+const SIM_IN_RIG_FILE: &str = "\"sim\" is the built-in simulator of `skybearing demo` and cannot be opened by `run`; to rehearse without hardware, start `skybearing sim --write-rig FILE` and use the rig file it writes";
+
 /// Reads and checks a rig file.
 pub fn load_rig(path: &Path) -> Result<Rig, RigFileError> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| RigFileError::Read {
-        file: name.clone(),
-        source,
+    let text = crate::textfile::read_text_capped(path).map_err(|e| match e {
+        crate::textfile::TextFileError::NotUtf8 { line, .. } => RigFileError::Syntax {
+            file: name.clone(),
+            line,
+            message: e.to_string(),
+        },
+        other => RigFileError::Read {
+            file: name.clone(),
+            message: other.to_string(),
+        },
     })?;
     parse_rig(&text, &name)
 }
 
 /// Parses and checks the text of a rig file; `source_name` names it in errors.
 pub fn parse_rig(text: &str, source_name: &str) -> Result<Rig, RigFileError> {
+    if let Some((line, field)) = super::template::first_placeholder(text) {
+        return Err(RigFileError::Field {
+            file: source_name.to_string(),
+            line,
+            field,
+            message: format!(
+                "not filled in (still the template's \"{PLACEHOLDER}\"): write this rig's own value"
+            ),
+        });
+    }
     let raw: RawRig = toml::from_str(text).map_err(|e| {
         let offset = e.span().map_or(0, |s| s.start);
         let line = line_of(text, offset);
@@ -550,6 +570,13 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         "source",
         &["serial", "stdin", "replay", "sim"],
     )?;
+    if kind == "sim" {
+        return Err(c.err(
+            s.source.as_ref().map_or(at, |v| v.span().start),
+            "sensor.source",
+            SIM_IN_RIG_FILE,
+        ));
+    }
     let mut path_line = None;
     let source = match kind {
         "serial" => {
@@ -702,12 +729,14 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
     let tt_s = raw.turntable.as_ref().ok_or_else(|| top("[turntable]"))?;
     let at = tt_s.span().start;
     let t = tt_s.get_ref();
+    let kind_s = c.req(&t.kind, at, "turntable.kind")?;
     let turntable = match c.choice(
-        c.req(&t.kind, at, "turntable.kind")?,
+        kind_s,
         "turntable.kind",
         "turntable kind",
         &["serial", "manual", "sim"],
     )? {
+        "sim" => return Err(c.err(kind_s.span().start, "turntable.kind", SIM_IN_RIG_FILE)),
         "serial" => {
             let p = c.req(&t.path, at, "turntable.path")?;
             TurntableConfig::Serial {
@@ -733,10 +762,13 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         }
     };
 
-    let settle_s = match &raw.settle_s {
-        None => 5.0,
-        Some(v) => c.range(v, "settle_s", 0.0, 3600.0)?,
-    };
+    if let Some(v) = &raw.settle_s {
+        return Err(c.err(
+            v.span().start,
+            "settle_s",
+            "not a rig setting: the settle window is the protocol's settle_s (required in every protocol file)",
+        ));
+    }
     let sessions_dir = match &raw.sessions_dir {
         None => PathBuf::from("sessions"),
         Some(v) => c.path(v, "sessions_dir")?,
@@ -757,7 +789,6 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
             direction,
             zero_offset_deg,
         },
-        settle_s,
         sessions_dir,
         sensor: SensorConfig {
             source,
@@ -779,7 +810,6 @@ pub fn demo_rig() -> Rig {
         arena_mark_bearing_deg: 0.0,
         arena_mark_reference: BearingReference::True,
         calibration: SensorCalibration::default(),
-        settle_s: 5.0,
         sessions_dir: PathBuf::from("sessions"),
         sensor: SensorConfig {
             source: SensorSource::Sim,
@@ -795,75 +825,17 @@ pub fn demo_rig() -> Rig {
     }
 }
 
-/// The commented template written by `skybearing rig init FILE`.
-pub const TEMPLATE: &str = r#"# skybearing rig file: the hardware set-up for tethered heading sessions.
-# Fill in every value marked REQUIRED. Angles are degrees, clockwise seen from above.
-# Unknown keys are errors, so a misspelt key is caught before a session starts.
-
-# Where session folders go (relative to the directory you run skybearing from).
-sessions_dir = "sessions"
-# Seconds after each arena turn left out of scores while the animal re-orients
-# (a protocol may override it).
-settle_s = 5.0
-
-[site]
-name = "Larkfield Meadow (demo)"     # REQUIRED: a name for people
-latitude_deg = 43.2170               # REQUIRED: WGS84, north positive, [-90, 90]
-longitude_deg = 5.4420               # REQUIRED: WGS84, east positive, [-180, 180]
-elevation_m = 210.0                  # REQUIRED: height above sea level, metres
-time_zone = "Europe/Paris"           # REQUIRED: IANA name, for local display only
-
-[arena]
-# Bearing of the arena's 0 mark, measured at set-up (never align anything by looking
-# at the sun). "magnetic" bearings are corrected with the WMM declination for the
-# site and date: true = magnetic + declination (east positive).
-mark_bearing_deg = 0.0               # REQUIRED
-mark_reference = "magnetic"          # REQUIRED: "magnetic" or "true"
-
-[sensor]
-# Where heading lines come from: "serial", "stdin", "replay" or "sim".
-source = "serial"                    # REQUIRED
-path = "/dev/ttyUSB0"                # serial port (serial) or recorded file (replay)
-baud = 115200                        # serial only
-# pace = "recorded"                  # replay only: "recorded" (needs time_column) or "fast"
-lost_after_s = 1.0                   # no line for this long: sensor lost
-
-# One line per sample, columns separated by the delimiter (" " or "\t": any blanks).
-delimiter = ","
-value_column = 1                     # 1-based column of the heading value
-# time_column = 2                    # optional 1-based column of the device's time stamp
-# time_unit = "ms"                   # "ms" or "us"
-# max_abs_revolutions = 1000.0       # larger values are rejected as out of range
-
-# How a value becomes an arena heading:
-#   arena heading = s * value_in_degrees + zero_offset_deg, s = +1 clockwise, -1 counterclockwise
-unit = "degrees"                     # REQUIRED: "degrees", "radians" or "counts"
-# counts_per_rev = 4096.0            # REQUIRED with unit = "counts"
-direction = "clockwise"              # "counterclockwise" for a mirrored view (camera from below)
-zero_offset_deg = 0.0                # arena heading at which the sensor reads zero
-# Check direction and offset before each day: turn the pin by hand clockwise through
-# the arena's 0 and 90 marks and watch the live arena heading follow.
-
-[turntable]
-# "serial" (a motor controller speaking docs/turntable-protocol.md), "manual"
-# (you turn the arena by hand when prompted) or "sim".
-kind = "manual"                      # REQUIRED
-# path = "/dev/ttyACM0"              # serial only
-# baud = 115200                      # serial only
-# timeout_s = 30.0                   # serial only: wait for a reply, retry once, then fault
-"#;
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
     fn good() -> String {
-        TEMPLATE.replace("kind = \"manual\"", "kind = \"sim\"")
+        filled_example()
     }
 
     #[test]
     fn template_parses() {
-        let rig = parse_rig(TEMPLATE, "rig.toml").unwrap();
+        let rig = parse_rig(&good(), "rig.toml").unwrap();
         assert_eq!(rig.site.name, "Larkfield Meadow (demo)");
         assert_eq!(rig.arena_mark_reference, BearingReference::Magnetic);
         assert_eq!(
@@ -876,8 +848,6 @@ mod tests {
         assert_eq!(rig.sensor.path_line, Some(28));
         assert_eq!(rig.turntable, TurntableConfig::Manual);
         assert!(serde_json::to_string(&rig).is_ok());
-        let rig = parse_rig(&good(), "rig.toml").unwrap();
-        assert_eq!(rig.turntable, TurntableConfig::Sim);
     }
 
     fn err(text: &str) -> String {
@@ -886,7 +856,7 @@ mod tests {
 
     #[test]
     fn latitude_out_of_range() {
-        let e = err(&TEMPLATE.replace("latitude_deg = 43.2170", "latitude_deg = 123"));
+        let e = err(&good().replace("latitude_deg = 43.2170", "latitude_deg = 123"));
         assert_eq!(
             e,
             "rig.toml:13: site.latitude_deg: 123 is outside [-90, 90]"
@@ -895,13 +865,13 @@ mod tests {
 
     #[test]
     fn missing_field_names_table_line() {
-        let e = err(&TEMPLATE.replace("elevation_m = 210.0", ""));
+        let e = err(&good().replace("elevation_m = 210.0", ""));
         assert_eq!(e, "rig.toml:11: site.elevation_m: missing (required)");
     }
 
     #[test]
     fn unknown_unit() {
-        let e = err(&TEMPLATE.replace("unit = \"degrees\"", "unit = \"grads\""));
+        let e = err(&good().replace("unit = \"degrees\"", "unit = \"grads\""));
         assert!(
             e.starts_with("rig.toml:42: sensor.unit: unknown unit \"grads\""),
             "{e}"
@@ -911,7 +881,7 @@ mod tests {
 
     #[test]
     fn unknown_key() {
-        let e = err(&TEMPLATE.replace("baud = 115200  ", "baudrate = 115200"));
+        let e = err(&good().replace("baud = 115200  ", "baudrate = 115200"));
         assert!(
             e.starts_with("rig.toml:29: sensor.baudrate: unknown key"),
             "{e}"
@@ -921,23 +891,23 @@ mod tests {
 
     #[test]
     fn wrong_type_and_syntax() {
-        let e = err(&TEMPLATE.replace("settle_s = 5.0", "settle_s = \"five\""));
-        assert!(e.starts_with("rig.toml:9: settle_s: "), "{e}");
+        let e = err(&good().replace("sessions_dir = \"sessions\"", "sessions_dir = 5"));
+        assert!(e.starts_with("rig.toml:6: sessions_dir: "), "{e}");
         assert!(!e.contains('\n'));
-        let e = err(&TEMPLATE.replace("[arena]", "[arena"));
+        let e = err(&good().replace("[arena]", "[arena"));
         assert!(e.starts_with("rig.toml:18:"), "{e}");
         assert!(!e.contains('\n'));
     }
 
     #[test]
     fn counts_need_counts_per_rev() {
-        let e = err(&TEMPLATE.replace("unit = \"degrees\"", "unit = \"counts\""));
+        let e = err(&good().replace("unit = \"degrees\"", "unit = \"counts\""));
         assert!(
             e.starts_with("rig.toml:42: sensor.counts_per_rev: missing"),
             "{e}"
         );
         let rig = parse_rig(
-            &TEMPLATE
+            &good()
                 .replace("unit = \"degrees\"", "unit = \"counts\"")
                 .replace("# counts_per_rev = 4096.0", "counts_per_rev = 4096.0"),
             "rig.toml",
@@ -948,14 +918,44 @@ mod tests {
 
     #[test]
     fn bad_time_zone_and_missing_table() {
-        let e = err(&TEMPLATE.replace("Europe/Paris", "Europe/Larkfield"));
+        let e = err(&good().replace("Europe/Paris", "Europe/Larkfield"));
         assert!(
             e.starts_with("rig.toml:16: site.time_zone: unknown time zone"),
             "{e}"
         );
-        let cut = TEMPLATE.find("[turntable]").unwrap();
-        let e = err(&TEMPLATE[..cut]);
+        let g = good();
+        let cut = g.find("[turntable]").unwrap();
+        let e = err(&g[..cut]);
         assert!(e.contains("[turntable]: missing table"), "{e}");
+    }
+
+    #[test]
+    fn placeholders_sim_and_settle_are_refused_naming_file_line_field() {
+        let e = err(TEMPLATE);
+        assert!(
+            e.starts_with("rig.toml:12: site.name: not filled in"),
+            "{e}"
+        );
+        let e = err(&good().replace("latitude_deg = 43.2170", "latitude_deg = \"FILL IN\""));
+        assert!(
+            e.starts_with("rig.toml:13: site.latitude_deg: not filled in"),
+            "{e}"
+        );
+        let e = err(&good().replace("kind = \"manual\"", "kind = \"sim\""));
+        assert!(
+            e.starts_with("rig.toml:53: turntable.kind: \"sim\" is the built-in"),
+            "{e}"
+        );
+        let e = err(&good().replace("source = \"serial\"", "source = \"sim\""));
+        assert!(
+            e.starts_with("rig.toml:27: sensor.source: \"sim\" is the built-in"),
+            "{e}"
+        );
+        let e = err(&format!("settle_s = 5.0\n{}", good()));
+        assert!(
+            e.starts_with("rig.toml:1: settle_s: not a rig setting"),
+            "{e}"
+        );
     }
 
     #[test]

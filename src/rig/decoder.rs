@@ -145,7 +145,8 @@ impl LineDecoder {
         }
     }
 
-    fn too_long(&mut self, t_s: f64, bytes: &[u8], out: &mut Vec<SensorEvent>) {
+    /// Counts and reports a line longer than [`MAX_LINE_BYTES`] (`bytes`: its first bytes).
+    pub fn too_long(&mut self, t_s: f64, bytes: &[u8], out: &mut Vec<SensorEvent>) {
         self.stats.lines += 1;
         self.stats.malformed += 1;
         out.push(SensorEvent::Malformed {
@@ -175,6 +176,21 @@ impl LineDecoder {
         };
         self.buf.clear();
         ev
+    }
+
+    /// The end of the input: a partial last line (no terminator) is decoded as a whole line.
+    pub fn finish(&mut self, t_s: f64, out: &mut Vec<SensorEvent>) {
+        if std::mem::replace(&mut self.skipping, false) {
+            self.buf.clear();
+            return;
+        }
+        self.after_cr = false;
+        let line = std::mem::take(&mut self.buf);
+        if let Some(ev) = self.decode_line(t_s, &line) {
+            out.push(ev);
+        }
+        self.buf = line;
+        self.buf.clear();
     }
 
     fn malformed(&mut self, t_s: f64, reason: String, line: &[u8]) -> Option<SensorEvent> {
@@ -453,6 +469,43 @@ impl Pipeline {
             self.health.record(&lost);
             out.extend(std::iter::once(lost));
         }
+    }
+
+    /// A line longer than the limit arrived at `t_s` (`head`: its first bytes).
+    pub fn too_long(&mut self, t_s: f64, head: &[u8], out: &mut impl Extend<SensorEvent>) {
+        self.tick(t_s, out);
+        self.scratch.clear();
+        let mut scratch = std::mem::take(&mut self.scratch);
+        self.decoder.too_long(t_s, head, &mut scratch);
+        self.emit(t_s, &mut scratch, out);
+        self.scratch = scratch;
+    }
+
+    /// The input ended at `t_s`: a last line without a terminator is decoded.
+    pub fn finish(&mut self, t_s: f64, out: &mut impl Extend<SensorEvent>) {
+        self.scratch.clear();
+        let mut scratch = std::mem::take(&mut self.scratch);
+        self.decoder.finish(t_s, &mut scratch);
+        self.emit(t_s, &mut scratch, out);
+        self.scratch = scratch;
+    }
+
+    fn emit(
+        &mut self,
+        t_s: f64,
+        scratch: &mut Vec<SensorEvent>,
+        out: &mut impl Extend<SensorEvent>,
+    ) {
+        if !scratch.is_empty()
+            && let Some(back) = self.watch.on_line(t_s)
+        {
+            self.health.record(&back);
+            out.extend(std::iter::once(back));
+        }
+        for ev in scratch.iter() {
+            self.health.record(ev);
+        }
+        out.extend(scratch.drain(..));
     }
 
     /// The connection went away: a partial line is reported as malformed.

@@ -10,6 +10,7 @@ pub mod decoder;
 pub mod pty;
 pub mod sim;
 pub mod source;
+pub mod template;
 pub mod turntable;
 
 pub use source::open_sensor;

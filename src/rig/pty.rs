@@ -380,7 +380,6 @@ impl PtyServer {
             r#"# written by skybearing sim (seed {seed}): a simulated rig on pseudo-terminals.
 # Valid while `skybearing sim` runs; the .tty paths are links to its terminals.
 sessions_dir = "sessions"
-settle_s = 5.0
 
 [site]
 name = "{name}"

@@ -7,7 +7,7 @@
 //! itself; the silence in between raises `Lost`, the first line after it `Back`.
 
 use super::config::{ReplayPace, Rig, SensorSource};
-use super::decoder::{LineDecoder, Pipeline};
+use super::decoder::{LineDecoder, MAX_LINE_BYTES, Pipeline};
 use super::{HeadingSource, RigError, SensorEvent, SensorHealth};
 use crate::clock::Clock;
 use std::collections::VecDeque;
@@ -72,7 +72,7 @@ pub fn open_sensor(rig: &Rig, clock: Arc<dyn Clock>) -> Result<Box<dyn HeadingSo
                 message: format!("cannot open replay file {}: {e}", path.display()),
             })?;
             Ok(Box::new(ReplaySource {
-                reader: BufReader::new(Box::new(f)),
+                lines: BoundedLines::new(Box::new(f)),
                 probe: LineDecoder::new(s.decoder.clone(), rig.calibration),
                 pipe,
                 pace: *pace,
@@ -158,7 +158,16 @@ impl ThreadSource {
                 while !stop.load(Ordering::Relaxed) {
                     match stdin.read(&mut buf) {
                         Ok(0) => {
-                            lock(&shared).status = "end of input".into();
+                            // A last line without a newline is still a line.
+                            let t = clock.now_s();
+                            let mut g = lock(&shared);
+                            let Shared {
+                                queue,
+                                pipe,
+                                status,
+                            } = &mut *g;
+                            pipe.finish(t, queue);
+                            *status = "end of input".into();
                             break;
                         }
                         Ok(n) => {
@@ -347,16 +356,117 @@ impl HeadingSource for ThreadSource {
     }
 }
 
+/// One line read by [`BoundedLines`].
+#[derive(Debug, Clone, PartialEq)]
+pub enum ReadLine {
+    /// A whole line without its terminator.
+    Line(Vec<u8>),
+    /// A line longer than [`MAX_LINE_BYTES`]: its first bytes (the rest is skipped).
+    TooLong(Vec<u8>),
+    /// Bytes of an over-long line were skipped and it has not ended yet: call again.
+    Skipping,
+    /// End of input.
+    End,
+}
+
+/// Lines of a byte stream with the stream decoder's limits: split on '\n', "\r\n" and a lone
+/// '\r'; a line holds at most [`MAX_LINE_BYTES`] bytes (a longer one is reported once as
+/// [`ReadLine::TooLong`] and skipped to its end, so `/dev/zero` never grows memory); a last line
+/// without a terminator is returned at the end of input. Each call consumes at most one buffer
+/// of input, so a never-ending line cannot hold the caller.
+pub struct BoundedLines {
+    reader: BufReader<Box<dyn Read + Send>>,
+    line: Vec<u8>,
+    skipping: bool,
+    after_cr: bool,
+    end: bool,
+}
+
+impl BoundedLines {
+    /// Lines of `reader`.
+    pub fn new(reader: Box<dyn Read + Send>) -> Self {
+        Self {
+            reader: BufReader::new(reader),
+            line: Vec::with_capacity(MAX_LINE_BYTES + 1),
+            skipping: false,
+            after_cr: false,
+            end: false,
+        }
+    }
+
+    /// The next line (or a step through an over-long one).
+    pub fn next_line(&mut self) -> std::io::Result<ReadLine> {
+        loop {
+            if self.end {
+                return Ok(ReadLine::End);
+            }
+            let buf = match self.reader.fill_buf() {
+                Ok(b) => b,
+                Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+                Err(e) => return Err(e),
+            };
+            if buf.is_empty() {
+                self.end = true;
+                if self.skipping {
+                    self.skipping = false;
+                    return Ok(ReadLine::End);
+                }
+                if self.line.is_empty() {
+                    return Ok(ReadLine::End);
+                }
+                return Ok(ReadLine::Line(std::mem::take(&mut self.line)));
+            }
+            // A '\n' right after a '\r' (maybe across reads) ends nothing.
+            if self.after_cr && buf[0] == b'\n' {
+                self.after_cr = false;
+                self.reader.consume(1);
+                continue;
+            }
+            self.after_cr = false;
+            let (n, ended) = match buf.iter().position(|&b| b == b'\n' || b == b'\r') {
+                Some(i) => {
+                    self.after_cr = buf[i] == b'\r';
+                    (i, true)
+                }
+                None => (buf.len(), false),
+            };
+            let mut reported = None;
+            if !self.skipping {
+                let room = MAX_LINE_BYTES + 1 - self.line.len();
+                self.line.extend_from_slice(&buf[..n.min(room)]);
+                if self.line.len() > MAX_LINE_BYTES {
+                    self.line.truncate(MAX_LINE_BYTES);
+                    reported = Some(ReadLine::TooLong(std::mem::take(&mut self.line)));
+                    self.skipping = !ended;
+                }
+            }
+            self.reader.consume(if ended { n + 1 } else { n });
+            if let Some(r) = reported {
+                return Ok(r);
+            }
+            if ended {
+                if std::mem::replace(&mut self.skipping, false) {
+                    continue;
+                }
+                return Ok(ReadLine::Line(std::mem::take(&mut self.line)));
+            }
+            if self.skipping {
+                return Ok(ReadLine::Skipping);
+            }
+        }
+    }
+}
+
 /// A recorded file of lines, played at its recorded device times or as fast as it is read.
 pub struct ReplaySource {
-    reader: BufReader<Box<dyn Read + Send>>,
+    lines: BoundedLines,
     probe: LineDecoder,
     pipe: Pipeline,
     pace: ReplayPace,
     t0_s: f64,
     first_device_s: Option<f64>,
     last_stamp_s: f64,
-    pending: Option<(f64, Vec<u8>)>,
+    pending: Option<(f64, ReadLine)>,
     eof: bool,
     what: String,
 }
@@ -364,21 +474,40 @@ pub struct ReplaySource {
 /// Lines handed over per `drain` call at `pace = "fast"`.
 pub const FAST_REPLAY_LINES_PER_DRAIN: usize = 10_000;
 
+/// Steps through an over-long line allowed per `drain` call (each at most one read buffer):
+/// a never-ending line (`/dev/zero`) costs a bounded amount of work per call.
+pub const REPLAY_SKIPS_PER_DRAIN: usize = 64;
+
 impl ReplaySource {
-    fn next_line(&mut self) -> Result<Option<Vec<u8>>, RigError> {
+    /// The next line or over-long line; `None` at the end of the file or when the skip budget
+    /// of this call is spent.
+    fn next_line(&mut self, skips: &mut usize) -> Result<Option<ReadLine>, RigError> {
         if self.eof {
             return Ok(None);
         }
-        let mut line = Vec::new();
-        let n = self.reader.read_until(b'\n', &mut line)?;
-        if n == 0 {
-            self.eof = true;
-            return Ok(None);
+        loop {
+            match self.lines.next_line()? {
+                ReadLine::End => {
+                    self.eof = true;
+                    return Ok(None);
+                }
+                ReadLine::Skipping => {
+                    *skips += 1;
+                    if *skips >= REPLAY_SKIPS_PER_DRAIN {
+                        return Ok(None);
+                    }
+                }
+                other => return Ok(Some(other)),
+            }
         }
-        while matches!(line.last(), Some(b'\n' | b'\r')) {
-            line.pop();
+    }
+
+    fn feed(&mut self, t_s: f64, line: &ReadLine, out: &mut Vec<SensorEvent>) {
+        match line {
+            ReadLine::Line(l) => self.pipe.line(t_s, l, out),
+            ReadLine::TooLong(head) => self.pipe.too_long(t_s, head, out),
+            ReadLine::Skipping | ReadLine::End => {}
         }
-        Ok(Some(line))
     }
 }
 
@@ -386,35 +515,47 @@ impl HeadingSource for ReplaySource {
     fn drain(&mut self, now_s: f64, out: &mut Vec<SensorEvent>) -> Result<(), RigError> {
         match self.pace {
             ReplayPace::Fast => {
+                let mut skips = 0;
                 for _ in 0..FAST_REPLAY_LINES_PER_DRAIN {
-                    let Some(line) = self.next_line()? else { break };
-                    self.pipe.line(now_s, &line, out);
+                    let Some(line) = self.next_line(&mut skips)? else {
+                        break;
+                    };
+                    self.feed(now_s, &line, out);
                 }
             }
-            ReplayPace::Recorded => loop {
-                if self.pending.is_none() {
-                    let Some(line) = self.next_line()? else { break };
-                    let stamp = match self.probe.decode_line(0.0, &line) {
-                        Some(SensorEvent::Sample {
-                            device_time_s: Some(d),
-                            ..
-                        }) => {
-                            let first = *self.first_device_s.get_or_insert(d);
-                            (self.t0_s + d - first).max(self.last_stamp_s)
+            ReplayPace::Recorded => {
+                let mut skips = 0;
+                loop {
+                    if self.pending.is_none() {
+                        let Some(line) = self.next_line(&mut skips)? else {
+                            break;
+                        };
+                        let probed = match &line {
+                            ReadLine::Line(l) => self.probe.decode_line(0.0, l),
+                            _ => None,
+                        };
+                        let stamp = match probed {
+                            Some(SensorEvent::Sample {
+                                device_time_s: Some(d),
+                                ..
+                            }) => {
+                                let first = *self.first_device_s.get_or_insert(d);
+                                (self.t0_s + d - first).max(self.last_stamp_s)
+                            }
+                            _ => self.last_stamp_s,
+                        };
+                        self.last_stamp_s = stamp;
+                        self.pending = Some((stamp, line));
+                    }
+                    match self.pending.take() {
+                        Some((stamp, line)) if stamp <= now_s => self.feed(stamp, &line, out),
+                        other => {
+                            self.pending = other;
+                            break;
                         }
-                        _ => self.last_stamp_s,
-                    };
-                    self.last_stamp_s = stamp;
-                    self.pending = Some((stamp, line));
-                }
-                match self.pending.take() {
-                    Some((stamp, line)) if stamp <= now_s => self.pipe.line(stamp, &line, out),
-                    other => {
-                        self.pending = other;
-                        break;
                     }
                 }
-            },
+            }
         }
         self.pipe.tick(now_s, out);
         Ok(())
@@ -517,7 +658,8 @@ mod tests {
 
     #[test]
     fn unreadable_port_names_file_line_field() {
-        let text = crate::rig::config::TEMPLATE.replace("/dev/ttyUSB0", "/nonexistent/ttyNOPE");
+        let text =
+            crate::rig::config::filled_example().replace("/dev/ttyUSB0", "/nonexistent/ttyNOPE");
         let rig = crate::rig::config::parse_rig(&text, "rig.toml").unwrap();
         let e = open_sensor(&rig, Arc::new(SimClock::new()))
             .err()

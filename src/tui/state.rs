@@ -66,7 +66,8 @@ pub enum Mode {
     ConfirmEnd,
     /// `s` was pressed: `y` skips the epoch, any other key cancels.
     ConfirmSkip,
-    /// The help overlay is open; any key closes it.
+    /// The help overlay is open; Space, → or PageDown shows its next page when it has more
+    /// than one, any other key closes it.
     Help,
 }
 
@@ -87,6 +88,8 @@ pub struct UiState {
     pub flash: Option<(String, f64)>,
     /// The operator asked to end the session (waiting for the engine to close it).
     pub end_requested: bool,
+    /// Page of the help overlay (counted from 0; wraps around at the last page).
+    pub help_page: usize,
 }
 
 impl Default for UiState {
@@ -99,6 +102,7 @@ impl Default for UiState {
             bold_marks: false,
             flash: None,
             end_requested: false,
+            help_page: 0,
         }
     }
 }
@@ -159,7 +163,16 @@ impl UiState {
         }
         match std::mem::take(&mut self.mode) {
             Mode::Normal => self.normal_key(key, snap),
-            Mode::Help => Vec::new(),
+            Mode::Help => {
+                if matches!(
+                    key.code,
+                    KeyCode::Char(' ') | KeyCode::Right | KeyCode::PageDown
+                ) {
+                    self.help_page += 1;
+                    self.mode = Mode::Help;
+                }
+                Vec::new()
+            }
             Mode::ConfirmEnd => {
                 if matches!(key.code, KeyCode::Char('y') | KeyCode::Char('Y')) && !ctrl {
                     self.end_requested = true;
@@ -287,6 +300,7 @@ impl UiState {
             }
             KeyCode::Char('?') | KeyCode::Char('h') | KeyCode::F(1) => {
                 self.mode = Mode::Help;
+                self.help_page = 0;
                 Vec::new()
             }
             KeyCode::Char('z') | KeyCode::Char('Z') => {

@@ -56,3 +56,37 @@ pub fn finished_session(out: &Output) -> PathBuf {
     );
     session_folder(&stdout)
 }
+
+/// Set (to `1`) by `.ci/run`: a test whose system tool is missing fails instead of skipping.
+pub const REQUIRE_TOOLS_ENV: &str = "SKYBEARING_REQUIRE_TOOLS";
+
+/// Whether a test that needs a system tool should skip: false when `available`; otherwise,
+/// when [`REQUIRE_TOOLS_ENV`] is `1` it panics (CI installed the tools, so a missing one is a
+/// failure), and else it says on stderr that `test` skipped and why, and returns true.
+/// The notice is written to the process's stderr directly (not through the test harness's
+/// capture), so it shows in the normal `cargo test` output.
+pub fn skip_without(test: &str, tool: &str, available: bool, install: &str) -> bool {
+    use std::io::Write;
+    if available {
+        return false;
+    }
+    if std::env::var(REQUIRE_TOOLS_ENV).is_ok_and(|v| v == "1") {
+        panic!("{test}: {tool} is missing and {REQUIRE_TOOLS_ENV}=1 ({install})");
+    }
+    let _ = writeln!(
+        std::io::stderr().lock(),
+        "SKIPPED {test}: {tool} is not installed ({install}; .ci/run installs it and sets {REQUIRE_TOOLS_ENV}=1 so that it cannot skip)"
+    );
+    true
+}
+
+/// Whether `program` is found on the PATH as an executable file.
+pub fn on_path(program: &str) -> bool {
+    use std::os::unix::fs::PermissionsExt;
+    std::env::var_os("PATH").is_some_and(|paths| {
+        std::env::split_paths(&paths).any(|d| {
+            std::fs::metadata(d.join(program))
+                .is_ok_and(|m| m.is_file() && m.permissions().mode() & 0o111 != 0)
+        })
+    })
+}

@@ -130,7 +130,7 @@ pub fn write_session(
                 flying: true,
                 scored: i >= 20,
                 sun_relative_heading_deg: (world - sun).rem_euclid(360.0),
-                zenith_evector_deg: 40.0,
+                zenith_evector_deg: (sun + 90.0).rem_euclid(180.0),
                 raw: arena,
             };
             summary.push(&row);

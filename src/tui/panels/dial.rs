@@ -30,8 +30,8 @@ pub struct Dial<'a> {
 impl Widget for Dial<'_> {
     fn render(self, area: Rect, buf: &mut Buffer) {
         let Dial { snap, ui, theme } = self;
-        let legend_full = "● heading  A arena 0  * sun  ┄ e-vector";
-        let legend_short = "●head A 0 *sun ┄e";
+        let legend_full = "█● heading  A arena 0  * sun  ┄ e-vector";
+        let legend_short = "█●head A 0 *sun ┄e";
         let inner_w = area.width.saturating_sub(2) as usize;
         let legend = if legend_full.chars().count() <= inner_w {
             legend_full
@@ -105,49 +105,7 @@ impl Widget for Dial<'_> {
                     ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.evector)));
                     r += 0.17;
                 }
-                ctx.layer();
-                if let Some(hw) = heading_world {
-                    let a = screen(hw);
-                    if flying {
-                        let (x1, y1) = polar(0.8, a);
-                        ctx.draw(&CanvasLine::new(0.0, 0.0, x1, y1, col(theme.heading)));
-                        // A second stroke beside the first makes the needle bolder.
-                        let (dx, dy) = polar(0.03, a + 90.0);
-                        ctx.draw(&CanvasLine::new(
-                            dx,
-                            dy,
-                            x1 + dx,
-                            y1 + dy,
-                            col(theme.heading),
-                        ));
-                    } else {
-                        let mut r = 0.0;
-                        while r < 0.8 {
-                            let (x0, y0) = polar(r, a);
-                            let (x1, y1) = polar(r + 0.05, a);
-                            ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.heading)));
-                            r += 0.15;
-                        }
-                    }
-                }
-                // Labels (always on top of the dots).
-                // Cardinal labels about one row outside the rim, marks about one row inside it.
-                let row = 2.0 * yr / h;
-                let label_r = (1.0 + 1.2 * row).min(1.3);
-                let mark_r = (1.0 - row).clamp(0.8, 0.92);
-                for (name, b) in [("N", 0.0), ("E", 90.0), ("S", 180.0), ("W", 270.0)] {
-                    let (x, y) = polar(label_r, screen(b));
-                    ctx.print(x, y, Span::styled(name, theme.strong()));
-                }
-                let (x, y) = polar(mark_r, screen(snap.arena_bearing_deg));
-                ctx.print(x, y, Span::styled("A", theme.flag(theme.mark)));
-                let (x, y) = polar(mark_r, screen(snap.sun_azimuth_deg));
-                ctx.print(x, y, Span::styled("*", theme.flag(theme.sun)));
-                if let Some(hw) = heading_world {
-                    let (x, y) = polar(0.8, screen(hw));
-                    let tip = if flying { "●" } else { "○" };
-                    ctx.print(x, y, Span::styled(tip, theme.accent(theme.heading)));
-                } else {
+                if heading_world.is_none() {
                     ctx.print(
                         -0.3,
                         0.0,
@@ -156,5 +114,110 @@ impl Widget for Dial<'_> {
                 }
             });
         canvas.render(inner, buf);
+
+        // Cells, not dots, from here on: the needle and the labels are glyphs of their own, so
+        // the needle (solid blocks) never looks like the e-vector (thin dashed dots), in colour
+        // or not, and no two labels share or touch a cell.
+        let cell_of = |x: f64, y: f64| -> (u16, u16) {
+            let c = ((x + xr) / (2.0 * xr) * w).floor().clamp(0.0, w - 1.0) as u16;
+            let r = ((yr - y) / (2.0 * yr) * h).floor().clamp(0.0, h - 1.0) as u16;
+            (inner.x + c, inner.y + r)
+        };
+        let needle_style = theme.accent(theme.heading);
+        if let Some(hw) = heading_world {
+            let a = screen(hw);
+            let centre = cell_of(0.0, 0.0);
+            let mut cells: Vec<(u16, u16)> = Vec::new();
+            let mut r = 0.0;
+            while r <= 0.8 {
+                let (x, y) = polar(r, a);
+                let c = cell_of(x, y);
+                if cells.last() != Some(&c) {
+                    cells.push(c);
+                }
+                r += 0.01;
+            }
+            for (i, &(x, y)) in cells.iter().enumerate() {
+                // Not flying: a dashed needle of the same blocks (the tip says ○ as well).
+                if flying || i % 2 == 0 || (x, y) == centre {
+                    buf[(x, y)].set_char('█').set_style(needle_style);
+                }
+            }
+        }
+        let mut labels: Vec<(&str, ratatui::style::Style, f64, f64)> = Vec::new();
+        if let Some(hw) = heading_world {
+            let (x, y) = polar(0.8, screen(hw));
+            labels.push((if flying { "●" } else { "○" }, needle_style, x, y));
+        }
+        let row = 2.0 * yr / h;
+        let label_r = (1.0 + 1.2 * row).min(1.3);
+        let mark_r = (1.0 - row).clamp(0.8, 0.92);
+        let (x, y) = polar(mark_r, screen(snap.arena_bearing_deg));
+        labels.push(("A", theme.flag(theme.mark), x, y));
+        let (x, y) = polar(mark_r, screen(snap.sun_azimuth_deg));
+        labels.push(("*", theme.flag(theme.sun), x, y));
+        for (name, b) in [("N", 0.0), ("E", 90.0), ("S", 180.0), ("W", 270.0)] {
+            let (x, y) = polar(label_r, screen(b));
+            labels.push((name, theme.strong(), x, y));
+        }
+        place_labels(buf, inner, &labels, cell_of);
+    }
+}
+
+/// Nearby cells tried, in order, when a label's own cell is taken (column, row offsets).
+const NUDGES: [(i32, i32); 21] = [
+    (0, 0),
+    (-1, 0),
+    (1, 0),
+    (0, -1),
+    (0, 1),
+    (-1, -1),
+    (1, -1),
+    (-1, 1),
+    (1, 1),
+    (-2, 0),
+    (2, 0),
+    (-2, -1),
+    (2, -1),
+    (-2, 1),
+    (2, 1),
+    (-3, 0),
+    (3, 0),
+    (0, -2),
+    (0, 2),
+    (-3, -1),
+    (3, 1),
+];
+
+/// Writes one-cell `labels` (most important first) into `buf`, each in the nearest free cell
+/// to where it belongs: a cell is free when no label already sits in it or beside it on its
+/// row. A label with no free cell within the nudges is left out rather than overlapped.
+fn place_labels(
+    buf: &mut Buffer,
+    inner: Rect,
+    labels: &[(&str, ratatui::style::Style, f64, f64)],
+    cell_of: impl Fn(f64, f64) -> (u16, u16),
+) {
+    let mut taken: Vec<(u16, u16)> = Vec::new();
+    for &(text, style, x, y) in labels {
+        let (cx, cy) = cell_of(x, y);
+        let spot = NUDGES.iter().find_map(|&(dx, dy)| {
+            let c = i32::from(cx) + dx;
+            let r = i32::from(cy) + dy;
+            let inside = c >= i32::from(inner.x)
+                && c < i32::from(inner.x + inner.width)
+                && r >= i32::from(inner.y)
+                && r < i32::from(inner.y + inner.height);
+            if !inside {
+                return None;
+            }
+            let (c, r) = (c as u16, r as u16);
+            let clear = taken.iter().all(|&(tc, tr)| tr != r || tc.abs_diff(c) > 1);
+            clear.then_some((c, r))
+        });
+        if let Some((c, r)) = spot {
+            buf.set_string(c, r, text, style);
+            taken.push((c, r));
+        }
     }
 }

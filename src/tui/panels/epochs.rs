@@ -31,7 +31,7 @@ fn epoch_window(snap: &Snapshot, rows: usize) -> (usize, usize) {
     (start, start + rows)
 }
 
-fn table_title<'a>(snap: &Snapshot, rows: usize, theme: &Theme) -> Line<'a> {
+fn table_title<'a>(snap: &Snapshot, frame: HeadingFrame, rows: usize, theme: &Theme) -> Line<'a> {
     let n = snap.epochs.len();
     let (a, b) = epoch_window(snap, rows);
     let range = if b - a < n && b > a {
@@ -39,17 +39,24 @@ fn table_title<'a>(snap: &Snapshot, rows: usize, theme: &Theme) -> Line<'a> {
     } else {
         format!(" epochs ({n}) ")
     };
-    Line::from(vec![
-        Span::styled(range, theme.strong()),
-        Span::styled(
-            format!(
-                "· session r world {} arena {} ",
-                r_value(snap.r_world),
-                r_value(snap.r_arena)
-            ),
-            theme.strong(),
+    let mut spans = vec![Span::styled(range, theme.strong())];
+    if frame == HeadingFrame::Sun {
+        // The snapshot carries no sun-relative mean per epoch, so the table cannot follow the
+        // screen into the sun frame: say which frame its means are in instead.
+        spans.push(Span::styled(
+            "· sun frame, means in world° ",
+            theme.flag(theme.caution),
+        ));
+    }
+    spans.push(Span::styled(
+        format!(
+            "· session r world {} arena {} ",
+            r_value(snap.r_world),
+            r_value(snap.r_arena)
         ),
-    ])
+        theme.strong(),
+    ));
+    Line::from(spans)
 }
 
 fn state_word(state: EpochState) -> &'static str {
@@ -274,7 +281,7 @@ impl Widget for EpochTable<'_> {
         .border_style(theme.border());
         // Rows of epochs in view: the block's inner height less the column header.
         let rows = block.inner(area).height.saturating_sub(1) as usize;
-        let block = block.title(table_title(snap, rows, theme));
+        let block = block.title(table_title(snap, ui.frame, rows, theme));
         let inner = block.inner(area);
         block.render(area, buf);
         if inner.height < 2 || inner.width < 20 {

@@ -10,6 +10,34 @@ use ratatui::layout::Rect;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, BorderType, Clear, Paragraph, Widget, Wrap};
 
+/// Seconds a prompt may wait past its due time before the screen calls it late (a display rule
+/// of our own: time to turn the arena by hand or place a filter). The plan counts prompts as
+/// instant, so the engine's `countdown_s` turns negative the moment a prompt appears; without
+/// this allowance every prompt read `LATE` from its first frame.
+pub const PROMPT_GRACE_S: f64 = 60.0;
+
+/// Where a prompt stands against its due time.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum PromptDue {
+    /// Due in this many seconds.
+    In(f64),
+    /// Due now or past due, with this many seconds of the allowance left.
+    Grace(f64),
+    /// Late by this many seconds beyond the allowance.
+    Late(f64),
+}
+
+/// Classifies a prompt's `countdown_s` (negative: past due) against [`PROMPT_GRACE_S`].
+pub(crate) fn prompt_due(countdown_s: f64) -> PromptDue {
+    if countdown_s > 0.0 {
+        PromptDue::In(countdown_s)
+    } else if countdown_s >= -PROMPT_GRACE_S || !countdown_s.is_finite() {
+        PromptDue::Grace(PROMPT_GRACE_S + countdown_s.clamp(-PROMPT_GRACE_S, 0.0))
+    } else {
+        PromptDue::Late(-countdown_s - PROMPT_GRACE_S)
+    }
+}
+
 /// A centered box of at most `w`×`h`, clipped to `area`, cleared and bordered.
 pub(crate) fn dialog(
     buf: &mut Buffer,
@@ -78,16 +106,25 @@ impl Widget for Overlays<'_> {
                 theme,
                 true,
             );
-            let due = if p.countdown_s >= 0.0 {
-                vec![
+            let due = match prompt_due(p.countdown_s) {
+                PromptDue::In(s) => vec![
                     Span::styled("next epoch due in ", theme.base()),
-                    Span::styled(countdown(p.countdown_s), theme.strong()),
-                ]
-            } else {
-                vec![Span::styled(
-                    format!(" LATE by {} ", duration(-p.countdown_s)),
-                    theme.flag(theme.alarm),
-                )]
+                    Span::styled(countdown(s), theme.strong()),
+                ],
+                PromptDue::Grace(left) => vec![
+                    Span::styled("next epoch due now ", theme.base()),
+                    Span::styled(format!("({} to go)", countdown(left)), theme.strong()),
+                ],
+                PromptDue::Late(by) => vec![
+                    Span::styled(
+                        format!(" LATE by {} ", duration(by)),
+                        theme.flag(theme.alarm),
+                    ),
+                    Span::styled(
+                        format!(" past the {} allowed", duration(PROMPT_GRACE_S)),
+                        theme.strong(),
+                    ),
+                ],
             };
             let mut lines = vec![Line::from(Span::styled(p.text.clone(), theme.strong()))];
             lines.push(Line::from(""));
@@ -319,5 +356,20 @@ impl Widget for NoSunConfirm<'_> {
             .style(theme.base())
             .wrap(Wrap { trim: true })
             .render(inner, buf);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn prompts_are_late_only_past_the_allowance() {
+        assert_eq!(prompt_due(11.0), PromptDue::In(11.0));
+        assert_eq!(prompt_due(0.0), PromptDue::Grace(PROMPT_GRACE_S));
+        assert_eq!(prompt_due(-0.0), PromptDue::Grace(PROMPT_GRACE_S));
+        assert_eq!(prompt_due(-4.0), PromptDue::Grace(PROMPT_GRACE_S - 4.0));
+        assert_eq!(prompt_due(-PROMPT_GRACE_S), PromptDue::Grace(0.0));
+        assert_eq!(prompt_due(-PROMPT_GRACE_S - 5.0), PromptDue::Late(5.0));
     }
 }

@@ -44,7 +44,8 @@ impl Widget for Trace<'_> {
         if inner.width < 12 || inner.height < 3 {
             return;
         }
-        let axis_w = 4u16;
+        // Axis labels are angles with their unit ("270°") and a space before the plot.
+        let axis_w = 5u16;
         let has_strip = inner.height >= 7;
         let bottom_rows = if has_strip { 2 } else { 1 };
         let plot = Rect {
@@ -105,11 +106,11 @@ impl Widget for Trace<'_> {
         // Y-axis labels, on the rows where the raster puts those headings.
         let dots_per_row = dots_h / plot.height.max(1) as f64;
         for (label, v) in [
-            ("360", 360.0),
-            ("270", 270.0),
-            ("180", 180.0),
-            (" 90", 90.0),
-            ("  0", 0.0),
+            ("360°", 360.0),
+            ("270°", 270.0),
+            ("180°", 180.0),
+            (" 90°", 90.0),
+            ("  0°", 0.0),
         ] {
             let row = (to_py(v).clamp(0.0, dots_h - 1.0) / dots_per_row).floor() as u16;
             buf.set_string(
