@@ -260,3 +260,97 @@ fn help_lists_the_flags() {
         assert!(text.contains(flag), "{flag}");
     }
 }
+
+/// A seeded heading series: held (restoring time 2 s) or an unoriented walk, 50 Hz, 120 s.
+fn series(held: bool) -> (Vec<f64>, Vec<f64>) {
+    let mut state: u64 = 11;
+    let mut normal = move || {
+        let mut u = || {
+            state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
+            let mut z = state;
+            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let (a, b) = (1.0 - u(), u());
+        (-2.0 * a.ln()).sqrt() * (std::f64::consts::TAU * b).cos()
+    };
+    let dt = 0.02;
+    let (mut t, mut a) = (Vec::new(), Vec::new());
+    let mut theta: f64 = 1.0;
+    for k in 0..6000 {
+        if held {
+            theta -= (theta - 1.0).sin() * dt / 2.0;
+        }
+        theta += 12f64.to_radians() * dt.sqrt() * normal();
+        t.push(k as f64 * dt);
+        a.push(theta.to_degrees().rem_euclid(360.0));
+    }
+    (t, a)
+}
+
+#[test]
+fn series_gives_the_calibrated_orientation_test() {
+    let (t, a) = series(true);
+    let with_time: String = t
+        .iter()
+        .zip(&a)
+        .map(|(t, a)| format!("{t:.2},{a:.3}\n"))
+        .collect();
+    let v = json_of(&run_with_stdin(
+        &["stats", "--series", "--json"],
+        with_time.as_bytes(),
+    ));
+    assert_eq!(v["independent"], false);
+    let p = v["p_oriented"].as_f64().expect("p_oriented");
+    assert!(p < 0.01, "{p}");
+    // The same numbers through the library function.
+    let lib_t: Vec<f64> = t
+        .iter()
+        .map(|t| format!("{t:.2}").parse().unwrap())
+        .collect();
+    let lib_a: Vec<f64> = a
+        .iter()
+        .map(|a| format!("{a:.3}").parse().unwrap())
+        .collect();
+    let lib = skybearing::circular::orientation_test_series(&lib_t, &lib_a).unwrap();
+    assert!((lib.p - p).abs() < 1e-12);
+    // Angles only, with the rate: the same test.
+    let only: String = a.iter().map(|a| format!("{a:.3}\n")).collect();
+    let v2 = json_of(&run_with_stdin(
+        &["stats", "--series", "--rate-hz", "50", "--json"],
+        only.as_bytes(),
+    ));
+    assert!((v2["p_oriented"].as_f64().unwrap() - p).abs() < 1e-9);
+    // An unoriented walk is not called oriented; 10 s is too short to say.
+    let (_, w) = series(false);
+    let walk: String = w.iter().map(|a| format!("{a:.3}\n")).collect();
+    let v3 = json_of(&run_with_stdin(
+        &["stats", "--series", "--rate-hz", "50", "--json"],
+        walk.as_bytes(),
+    ));
+    assert!(v3["p_oriented"].as_f64().unwrap() > 0.05, "{v3}");
+    let short: String = a[..500].iter().map(|a| format!("{a:.3}\n")).collect();
+    let v4 = json_of(&run_with_stdin(
+        &["stats", "--series", "--rate-hz", "50", "--json"],
+        short.as_bytes(),
+    ));
+    assert!(v4["p_oriented"].is_null());
+    // Without --series the angles are independent, and the table says so on stderr.
+    let v5 = json_of(&run_with_stdin(&["stats", "--json"], only.as_bytes()));
+    assert_eq!(v5["independent"], true);
+    assert!(v5.get("p_oriented").is_none() && v5.get("n_eff").is_none());
+    let out = run_with_stdin(&["stats"], b"10\n20\n");
+    assert!(String::from_utf8_lossy(&out.stderr).contains("independent"));
+}
+
+#[test]
+fn series_without_time_or_rate_is_an_error() {
+    let out = run_with_stdin(&["stats", "--series"], b"10\n20\n");
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("--rate-hz"), "{err}");
+    let out = run_with_stdin(&["stats", "--series"], b"0,10\n1,20\n0.5,30\n");
+    assert!(!out.status.success());
+    assert!(String::from_utf8_lossy(&out.stderr).contains("line 3"));
+}

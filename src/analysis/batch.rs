@@ -233,6 +233,9 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "rows",
     "torn_tail",
     "folder",
+    "turn_test_turns",
+    "p_world_kept",
+    "p_arena_kept",
 ];
 
 /// Columns of `epochs.csv`.
@@ -248,8 +251,7 @@ pub const EPOCH_COLUMNS: &[&str] = &[
     "r_arena",
     "rayleigh_z",
     "rayleigh_p",
-    "n_eff",
-    "rayleigh_p_eff",
+    "p_oriented",
     "arena_bearing_deg",
     "mean_sun_relative_deg",
     "mean_sun_azimuth_deg",
@@ -296,6 +298,12 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
             s.rows.into(),
             s.torn_tail.into(),
             s.info.dir.display().to_string().into(),
+            match s.turn_test() {
+                Some(tt) => tt.turns.into(),
+                None => Cell::Empty,
+            },
+            s.turn_test().and_then(|tt| tt.p_world_kept).into(),
+            s.turn_test().and_then(|tt| tt.p_arena_kept).into(),
         ]);
     }
     t
@@ -334,16 +342,7 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
                 } else {
                     Cell::Empty
                 },
-                if has {
-                    Cell::Num(e.world.n_eff())
-                } else {
-                    Cell::Empty
-                },
-                if has {
-                    Cell::Num(e.world.rayleigh_p_eff())
-                } else {
-                    Cell::Empty
-                },
+                s.p_oriented(e.index).into(),
                 e.arena_bearing_deg.into(),
                 e.mean_sun_relative_deg().into(),
                 e.mean_sun_azimuth_deg().into(),

@@ -212,14 +212,14 @@ pub fn summary_text(s: &SessionStats) -> String {
     let _ = writeln!(t);
     let _ = writeln!(
         t,
-        "{:>5}  {:<16} {:>7} {:>7} {:>6} {:>7} {:>9} {:>8} {:>9}",
-        "epoch", "condition", "n", "world°", "r", "arena°", "p", "n_eff", "p_eff"
+        "{:>5}  {:<16} {:>7} {:>7} {:>6} {:>7} {:>9} {:>10}",
+        "epoch", "condition", "n", "world°", "r", "arena°", "p", "p_oriented"
     );
     for e in &s.epochs {
         let has = e.world.n() > 0;
         let _ = writeln!(
             t,
-            "{:>5}  {:<16} {:>7} {:>7} {:>6} {:>7} {:>9} {:>8} {:>9}",
+            "{:>5}  {:<16} {:>7} {:>7} {:>6} {:>7} {:>9} {:>10}",
             e.index,
             truncate(&e.condition, 16),
             e.world.n(),
@@ -235,16 +235,7 @@ pub fn summary_text(s: &SessionStats) -> String {
             } else {
                 "-".into()
             },
-            if has {
-                format!("{:.1}", e.world.n_eff())
-            } else {
-                "-".into()
-            },
-            if has {
-                fmt_p(e.world.rayleigh_p_eff())
-            } else {
-                "-".into()
-            },
+            s.p_oriented(e.index).map_or("-".into(), fmt_p),
         );
     }
     let turns = &s.turns;
@@ -266,11 +257,29 @@ pub fn summary_text(s: &SessionStats) -> String {
             );
         }
     }
+    if let Some(tt) = s.turn_test() {
+        let _ = writeln!(t);
+        let _ = writeln!(
+            t,
+            "turn test ({} turns with headings on both sides, windows of up to {:.0} s of scored \
+             flight next to each turn): mean world shift {}°, world heading kept p = {}, arena \
+             heading kept p = {}",
+            tt.turns,
+            crate::archive::TURN_WINDOW_S,
+            fmt_opt(tt.mean_world_shift_deg, 1),
+            tt.p_world_kept
+                .map_or("- (fewer than 3 turns)".into(), fmt_p),
+            tt.p_arena_kept
+                .map_or("- (fewer than 3 turns)".into(), fmt_p),
+        );
+    }
     let _ = writeln!(t);
     let _ = writeln!(
         t,
-        "p: Rayleigh test on all scored samples; p_eff: on n_eff, the sample size corrected for \
-         autocorrelation (report p_eff, not p)."
+        "p: Rayleigh test taking every scored sample as independent (naive; headings are \
+         autocorrelated). p_oriented: the calibrated test that the animal held a heading against \
+         an unoriented walk with its own turning rate (from summary.json; - with less than 30 s \
+         of flight). Report p_oriented, not p."
     );
     t
 }

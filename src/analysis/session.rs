@@ -116,6 +116,23 @@ pub struct SessionStats {
 }
 
 impl SessionStats {
+    /// `p_oriented` of epoch `index` from summary.json (the archive's `SummaryBuilder`
+    /// computes it; None without a summary or with too little flight).
+    pub fn p_oriented(&self, index: usize) -> Option<f64> {
+        self.info
+            .summary
+            .as_ref()?
+            .epochs
+            .iter()
+            .find(|e| e.index == index)?
+            .p_oriented
+    }
+
+    /// The session's turn test from summary.json.
+    pub fn turn_test(&self) -> Option<crate::archive::TurnTest> {
+        self.info.summary.as_ref().map(|s| s.turn_test())
+    }
+
     /// Distinct conditions in epoch order.
     pub fn conditions(&self) -> Vec<String> {
         let mut v: Vec<String> = Vec::new();

@@ -27,6 +27,7 @@ pub mod fmt;
 pub mod lock;
 pub mod read;
 pub mod summary;
+mod windows;
 pub mod writer;
 
 use std::path::{Path, PathBuf};
@@ -35,6 +36,7 @@ use chrono::{DateTime, NaiveDate, Utc};
 use serde::{Deserialize, Serialize};
 
 pub use summary::{PlannedEpoch, SummaryBuilder};
+pub use windows::{MIN_TURN_WINDOW_S, TURN_WINDOW_S};
 pub use writer::SessionWriter;
 
 /// The archive format version written into `session.json` as `format_version`.
@@ -108,6 +110,7 @@ pub struct EventRow {
 
 /// Statistics of one epoch in `summary.json`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(from = "EpochSummaryFile")]
 pub struct EpochSummary {
     /// 1-based epoch index.
     pub index: usize,
@@ -122,18 +125,61 @@ pub struct EpochSummary {
     pub mean_arena_deg: Option<f64>,
     /// Mean world heading.
     pub mean_world_deg: Option<f64>,
-    /// Mean vector length of world headings.
+    /// Mean vector length of world headings (NaN, written null, with no scored samples).
     #[serde(with = "nan_as_null")]
     pub r: f64,
-    /// Rayleigh p on n.
+    /// Rayleigh p on n, the naive figure that takes every sample as independent (NaN, written
+    /// null, with no scored samples).
     #[serde(with = "nan_as_null")]
     pub rayleigh_p: f64,
-    /// Effective sample size.
-    #[serde(with = "nan_as_null")]
+    /// The calibrated orientation test of the world headings
+    /// ([`crate::circular::OrientationTracker`]); None with too little flight to say.
+    pub p_oriented: Option<f64>,
+    /// Not in summary.json (the lag-1 effective sample size is not calibrated, see
+    /// `tests/calibration_oriented.rs`); always NaN. Kept only so that code that still reads
+    /// it compiles; remove with it.
+    #[serde(skip)]
     pub n_eff: f64,
-    /// Rayleigh p on n_eff.
-    #[serde(with = "nan_as_null")]
+    /// Not in summary.json (not calibrated either); always NaN, so the live table that still
+    /// reads it shows "–" until it shows `p_oriented`. Remove with its readers.
+    #[serde(skip)]
     pub rayleigh_p_eff: f64,
+}
+
+/// `EpochSummary` as stored (archives written before `p_oriented` existed read as None).
+#[derive(Deserialize)]
+struct EpochSummaryFile {
+    index: usize,
+    condition: String,
+    #[serde(with = "nan_as_null")]
+    arena_bearing_deg: f64,
+    n: u64,
+    mean_arena_deg: Option<f64>,
+    mean_world_deg: Option<f64>,
+    #[serde(with = "nan_as_null")]
+    r: f64,
+    #[serde(with = "nan_as_null")]
+    rayleigh_p: f64,
+    #[serde(default)]
+    p_oriented: Option<f64>,
+}
+
+impl From<EpochSummaryFile> for EpochSummary {
+    fn from(f: EpochSummaryFile) -> Self {
+        EpochSummary {
+            index: f.index,
+            condition: f.condition,
+            arena_bearing_deg: f.arena_bearing_deg,
+            n: f.n,
+            mean_arena_deg: f.mean_arena_deg,
+            mean_world_deg: f.mean_world_deg,
+            r: f.r,
+            rayleigh_p: f.rayleigh_p,
+            p_oriented: f.p_oriented,
+            n_eff: f64::NAN,
+            rayleigh_p_eff: f64::NAN,
+        }
+    }
 }
 
 /// One turn in `summary.json`: turn k lies between epoch k and epoch k + 1.
@@ -146,10 +192,31 @@ pub struct TurnSummary {
     pub turn_deg: f64,
     /// Mean world heading after minus before, (-180, 180]; None if either side has no data.
     pub world_shift_deg: Option<f64>,
+    /// World shift on comparable windows: the mean of the first W scored seconds after the
+    /// turn (after the settle window) minus that of the last W scored seconds before, W =
+    /// min(TURN_WINDOW_S, the scored flight of either epoch); None below MIN_TURN_WINDOW_S.
+    /// What the turn test uses.
+    #[serde(default)]
+    pub window_shift_deg: Option<f64>,
+}
+
+/// The session's turn-compensation test ([`crate::circular::turn_compensation_test`]) over
+/// the turns with a `window_shift_deg`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+pub struct TurnTest {
+    /// Turns with headings on both sides.
+    pub turns: usize,
+    /// Mean of their world shifts, (-180, 180].
+    pub mean_world_shift_deg: Option<f64>,
+    /// V-test p of the world shifts toward 0 (kept the world heading); None below 3 turns.
+    pub p_world_kept: Option<f64>,
+    /// V-test p of world shift − turn toward 0 (kept the arena heading); None below 3 turns.
+    pub p_arena_kept: Option<f64>,
 }
 
 /// `summary.json`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(into = "SummaryFile", from = "SummaryFile")]
 pub struct Summary {
     /// Per epoch.
     pub epochs: Vec<EpochSummary>,
@@ -161,6 +228,63 @@ pub struct Summary {
     /// r of all scored arena headings.
     #[serde(with = "nan_as_null")]
     pub r_arena: f64,
+}
+
+/// `Summary` as written: the fields plus `turn_test`, which is derived from the turns
+/// ([`Summary::turn_test`]) and so not stored in the struct.
+#[derive(Serialize, Deserialize)]
+struct SummaryFile {
+    epochs: Vec<EpochSummary>,
+    turns: Vec<TurnSummary>,
+    #[serde(with = "nan_as_null")]
+    r_world: f64,
+    #[serde(with = "nan_as_null")]
+    r_arena: f64,
+    #[serde(default)]
+    turn_test: TurnTest,
+}
+
+impl From<Summary> for SummaryFile {
+    fn from(s: Summary) -> Self {
+        let turn_test = s.turn_test();
+        SummaryFile {
+            epochs: s.epochs,
+            turns: s.turns,
+            r_world: s.r_world,
+            r_arena: s.r_arena,
+            turn_test,
+        }
+    }
+}
+
+impl From<SummaryFile> for Summary {
+    fn from(f: SummaryFile) -> Self {
+        Summary {
+            epochs: f.epochs,
+            turns: f.turns,
+            r_world: f.r_world,
+            r_arena: f.r_arena,
+        }
+    }
+}
+
+impl Summary {
+    /// The session's turn test ([`crate::circular::turn_compensation_test`]) over the turns
+    /// that have a `window_shift_deg`.
+    pub fn turn_test(&self) -> TurnTest {
+        let (shifts, turned): (Vec<f64>, Vec<f64>) = self
+            .turns
+            .iter()
+            .filter_map(|t| t.window_shift_deg.map(|d| (d, t.turn_deg)))
+            .unzip();
+        let r = crate::circular::turn_compensation_test(&shifts, &turned);
+        TurnTest {
+            turns: r.turns,
+            mean_world_shift_deg: r.mean_world_shift_deg,
+            p_world_kept: r.p_world_kept,
+            p_arena_kept: r.p_arena_kept,
+        }
+    }
 }
 
 /// File names inside a session folder.
@@ -608,8 +732,9 @@ mod tests {
                 mean_arena_deg: None,
                 mean_world_deg: None,
                 r: f64::NAN,
-                rayleigh_p: 1.0,
-                n_eff: 0.0,
+                rayleigh_p: f64::NAN,
+                p_oriented: None,
+                n_eff: f64::NAN,
                 rayleigh_p_eff: f64::NAN,
             }],
             turns: vec![],
@@ -618,6 +743,9 @@ mod tests {
         };
         let j = serde_json::to_string(&s).unwrap();
         assert!(j.contains("\"r\":null"), "{j}");
+        assert!(j.contains("\"p_oriented\":null"), "{j}");
+        assert!(!j.contains("n_eff") && !j.contains("rayleigh_p_eff"), "{j}");
+        assert!(j.contains("\"turn_test\":{\"turns\":0"), "{j}");
         let back: Summary = serde_json::from_str(&j).unwrap();
         assert!(back.epochs[0].r.is_nan());
         assert_eq!(back.r_world, 0.5);

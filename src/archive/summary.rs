@@ -7,10 +7,11 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::fmt::quantize_angle_deg;
+use super::fmt::{quantize_angle_deg, quantize_fixed};
 use super::read::SampleFields;
-use super::{ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, TurnSummary};
-use crate::circular::HeadingAccumulator;
+use super::windows::{EdgeWindows, window_shift_deg};
+use super::{ANGLE_DECIMALS, EpochSummary, SampleRow, Summary, T_S_DECIMALS, TurnSummary};
+use crate::circular::{HeadingAccumulator, OrientationTracker};
 use crate::frames::{wrap_360_deg, wrap_signed_deg};
 use crate::protocol::{ArenaMove, Protocol};
 
@@ -82,17 +83,24 @@ struct EpochAcc {
     arena: Chain,
     bearing_scored_deg: Option<f64>,
     bearing_any_deg: Option<f64>,
+    /// The orientation test of scored world headings.
+    oriented: OrientationTracker,
+    /// First and last windows of scored world headings (the turn test).
+    edges: EdgeWindows,
 }
 
 /// Builds a [`Summary`] from sample rows, O(1) per sample.
 ///
-/// Only `scored` samples with finite headings count. Per-epoch `r`, `rayleigh_p`, `n_eff` and
-/// `rayleigh_p_eff` are of world headings; an epoch's `arena_bearing_deg` is the bearing of its
+/// Only `scored` samples with finite headings count. Per-epoch `r`, `rayleigh_p` and
+/// `p_oriented` ([`OrientationTracker`], O(1) per sample, O(40) to evaluate) are of world
+/// headings; an epoch with no scored sample has null for every statistic; an epoch's `arena_bearing_deg` is the bearing of its
 /// first scored sample (else its first sample, else the previous epoch's bearing plus the
 /// planned turn, else NaN, written `null`). Turn k lies between epochs k and k + 1, one per
 /// pair of consecutive planned epochs (a pair without a turn has `turn_deg` 0): `turn_deg` is
 /// the planned turn before epoch k + 1, `world_shift_deg` the mean world heading of epoch
-/// k + 1 minus that of epoch k in (-180, 180], None when either mean is undefined.
+/// k + 1 minus that of epoch k in (-180, 180], None when either mean is undefined;
+/// `window_shift_deg` the same on comparable windows next to the turn (see [`TurnSummary`]),
+/// and the session's `turn_test` is [`turn_compensation_test`] of the turns that have one.
 /// Samples of an epoch not in the plan count only in the session's `r_world` and `r_arena`.
 #[derive(Debug, Clone)]
 pub struct SummaryBuilder {
@@ -122,6 +130,8 @@ impl SummaryBuilder {
                     arena: Chain::default(),
                     bearing_scored_deg: None,
                     bearing_any_deg: None,
+                    oriented: OrientationTracker::new(),
+                    edges: EdgeWindows::default(),
                 })
                 .collect(),
             lookup,
@@ -136,6 +146,7 @@ impl SummaryBuilder {
     pub fn push(&mut self, row: &SampleRow) {
         self.push_values(
             row.epoch,
+            row.t_s,
             row.arena_heading_deg,
             row.arena_bearing_deg,
             row.world_heading_deg,
@@ -148,6 +159,7 @@ impl SummaryBuilder {
     pub fn push_fields(&mut self, s: &SampleFields<'_>) {
         self.push_values(
             s.epoch,
+            s.t_s,
             s.arena_heading_deg,
             s.arena_bearing_deg,
             s.world_heading_deg,
@@ -155,11 +167,14 @@ impl SummaryBuilder {
         );
     }
 
-    /// Adds one sample from its values (rounded first to the archive's angle precision).
+    /// Adds one sample from its values (rounded first to the archive's angle and time
+    /// precision). `t_s`: seconds since the session started.
     #[inline]
+    #[allow(clippy::too_many_arguments)]
     pub fn push_values(
         &mut self,
         epoch: usize,
+        t_s: f64,
         arena_heading_deg: f64,
         arena_bearing_deg: f64,
         world_heading_deg: f64,
@@ -185,6 +200,12 @@ impl SummaryBuilder {
                 }
             }
             if counts {
+                if e.world.last_seq.is_some_and(|last| last + 1 != seq) {
+                    e.oriented.mark_gap();
+                }
+                let t = quantize_fixed(t_s, T_S_DECIMALS);
+                e.oriented.push_deg(t, world);
+                e.edges.push(t, world);
                 e.world.push(seq, world);
                 e.arena.push(seq, arena);
             }
@@ -289,6 +310,8 @@ impl SummaryBuilder {
     fn epoch_summary_at(&self, pos: usize, bearing: f64) -> EpochSummary {
         let e = &self.epochs[pos];
         let w = &e.world.acc;
+        let empty = w.n() == 0;
+        let p_oriented = e.oriented.test().map(|t| t.p);
         EpochSummary {
             index: e.planned.index,
             condition: e.planned.condition.clone(),
@@ -296,10 +319,11 @@ impl SummaryBuilder {
             n: w.n(),
             mean_arena_deg: e.arena.acc.mean_deg(),
             mean_world_deg: w.mean_deg(),
-            r: w.r(),
-            rayleigh_p: w.rayleigh_p(),
-            n_eff: w.n_eff(),
-            rayleigh_p_eff: w.rayleigh_p_eff(),
+            r: if empty { f64::NAN } else { w.r() },
+            rayleigh_p: if empty { f64::NAN } else { w.rayleigh_p() },
+            p_oriented,
+            n_eff: f64::NAN,
+            rayleigh_p_eff: f64::NAN,
         }
     }
 
@@ -308,7 +332,7 @@ impl SummaryBuilder {
         let epochs: Vec<EpochSummary> = (0..self.epochs.len())
             .map(|pos| self.epoch_summary_at(pos, self.bearing_at(pos)))
             .collect();
-        let turns = (1..self.epochs.len())
+        let turns: Vec<TurnSummary> = (1..self.epochs.len())
             .map(|k| {
                 let shift = match (epochs[k - 1].mean_world_deg, epochs[k].mean_world_deg) {
                     (Some(a), Some(b)) => Some(wrap_signed_deg(b - a)),
@@ -318,6 +342,10 @@ impl SummaryBuilder {
                     index: k,
                     turn_deg: self.epochs[k].planned.turn_before_deg,
                     world_shift_deg: shift,
+                    window_shift_deg: window_shift_deg(
+                        &self.epochs[k - 1].edges,
+                        &self.epochs[k].edges,
+                    ),
                 }
             })
             .collect();
@@ -396,19 +424,19 @@ mod tests {
     fn counts_only_scored_samples_per_epoch() {
         let mut b = SummaryBuilder::new(&plan());
         // Epoch 1: world 350 (scored ×3), one unscored sample at 10 with another bearing.
-        b.push_values(1, 340.0, 5.0, 345.0, false);
+        b.push_values(1, 0.0, 340.0, 5.0, 345.0, false);
         for _ in 0..3 {
-            b.push_values(1, 340.0, 10.0, 350.0, true);
+            b.push_values(1, 0.0, 340.0, 10.0, 350.0, true);
         }
         // Epoch 2: world 10, i.e. a shift of +20 across the turn, wrapped.
         for _ in 0..4 {
-            b.push_values(2, 280.0, 90.0, 10.0, true);
+            b.push_values(2, 0.0, 280.0, 90.0, 10.0, true);
         }
         // Epoch 3: nothing scored; an unknown epoch 7 counts only for the session.
-        b.push_values(3, 0.0, 0.0, 0.0, false);
-        b.push_values(7, 10.0, 0.0, 10.0, true);
+        b.push_values(3, 0.0, 0.0, 0.0, 0.0, false);
+        b.push_values(7, 0.0, 10.0, 0.0, 10.0, true);
         // Non-finite headings never count.
-        b.push_values(2, f64::NAN, 90.0, f64::NAN, true);
+        b.push_values(2, 0.0, f64::NAN, 90.0, f64::NAN, true);
         let s = b.summary();
         assert_eq!(s.epochs.len(), 3);
         assert_eq!(s.epochs[0].n, 3);
@@ -418,6 +446,13 @@ mod tests {
         assert_eq!(s.epochs[1].condition, "diffuser");
         assert_eq!(s.epochs[2].n, 0);
         assert_eq!(s.epochs[2].mean_world_deg, None);
+        // An epoch without scored samples: null for every statistic.
+        assert!(s.epochs[2].r.is_nan() && s.epochs[2].rayleigh_p.is_nan());
+        assert_eq!(s.epochs[2].p_oriented, None);
+        let j = serde_json::to_value(&s).unwrap();
+        assert!(j["epochs"][2]["r"].is_null() && j["epochs"][2]["rayleigh_p"].is_null());
+        assert!(j["epochs"][2]["p_oriented"].is_null());
+        assert!(j["epochs"][0].get("n_eff").is_none());
         assert_eq!(s.epochs[2].arena_bearing_deg, 0.0); // first sample's bearing
         assert_eq!(s.turns.len(), 2);
         assert_eq!(s.turns[0].index, 1);
@@ -436,9 +471,52 @@ mod tests {
     }
 
     #[test]
+    fn p_oriented_and_the_turn_test_from_timed_samples() {
+        // Three 60 s epochs at 50 Hz of a heading held at 30° in the world (a steady wobble of
+        // ±10° at 0.3 Hz), 10 s unscored after each turn: kept world heading, world shift 0.
+        let mut b = SummaryBuilder::new(&plan());
+        let mut t = 0.0;
+        for (epoch, turn) in [(1usize, 0.0f64), (2, 90.0), (3, 0.0)] {
+            for k in 0..3500 {
+                let world = 30.0 + 10.0 * (0.3 * std::f64::consts::TAU * t).sin();
+                b.push_values(epoch, t, world - turn, turn, world, k >= 500);
+                t += 0.02;
+            }
+        }
+        let s = b.summary();
+        for e in &s.epochs {
+            assert!(e.p_oriented.is_some(), "{e:?}");
+        }
+        assert!(
+            s.turns
+                .iter()
+                .all(|t| t.window_shift_deg.unwrap().abs() < 5.0)
+        );
+        let tt = s.turn_test();
+        assert_eq!(tt.turns, 2);
+        assert_eq!(tt.p_world_kept, None); // fewer than 3 turns
+        assert!(tt.mean_world_shift_deg.unwrap().abs() < 5.0);
+        // Repair reads the same rows back: the same summary (JSON text).
+        let mut again = SummaryBuilder::new(&plan());
+        let mut t = 0.0;
+        for (epoch, turn) in [(1usize, 0.0f64), (2, 90.0), (3, 0.0)] {
+            for k in 0..3500 {
+                let world = 30.0 + 10.0 * (0.3 * std::f64::consts::TAU * t).sin();
+                let q = |x: f64| crate::archive::fmt::quantize_fixed(x, T_S_DECIMALS);
+                again.push_values(epoch, q(t), world - turn, turn, world, k >= 500);
+                t += 0.02;
+            }
+        }
+        assert_eq!(
+            serde_json::to_string(&again.summary()).unwrap(),
+            serde_json::to_string(&s).unwrap()
+        );
+    }
+
+    #[test]
     fn bearing_of_an_empty_epoch_follows_the_plan() {
         let mut b = SummaryBuilder::new(&plan());
-        b.push_values(1, 0.0, 350.0, 350.0, true);
+        b.push_values(1, 0.0, 0.0, 350.0, 350.0, true);
         let s = b.summary();
         assert_eq!(s.epochs[1].arena_bearing_deg, 80.0);
         assert_eq!(s.epochs[2].arena_bearing_deg, 350.0);
@@ -450,10 +528,10 @@ mod tests {
     fn rounds_like_the_writer() {
         let mut a = SummaryBuilder::new(&plan());
         let mut b = SummaryBuilder::new(&plan());
-        a.push_values(1, 12.345_678, 0.0, 12.345_678, true);
-        b.push_values(1, 12.346, 0.0, 12.346, true);
-        a.push_values(1, 359.999_7, 0.0, 359.999_7, true);
-        b.push_values(1, 0.0, 0.0, 0.0, true);
+        a.push_values(1, 0.0, 12.345_678, 0.0, 12.345_678, true);
+        b.push_values(1, 0.0, 12.346, 0.0, 12.346, true);
+        a.push_values(1, 0.0, 359.999_7, 0.0, 359.999_7, true);
+        b.push_values(1, 0.0, 0.0, 0.0, 0.0, true);
         // (JSON text: NaN statistics of empty epochs compare equal as null.)
         let json = |b: &SummaryBuilder| serde_json::to_string(&b.summary()).unwrap();
         assert_eq!(json(&a), json(&b));

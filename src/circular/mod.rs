@@ -13,14 +13,24 @@
 //! very long series (10^8 samples and more).
 
 mod accumulator;
+mod oriented;
+mod oriented_table;
 mod second_order;
 mod sum;
 mod trig;
+mod turn_test;
 
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
+pub use oriented::{
+    BIN_S, LAG_MAX_S, LAG_MIN_S, LAMBDA_TABLE_MAX, MIN_SCORED_S, OrientationTest,
+    OrientationTracker, P_FLOOR, bin_index, orientation_test_series, walk_mean_r2, walk_null_p,
+};
 pub use second_order::{
     HotellingResult, MooreResult, WatsonWilliamsResult, hotelling_one_sample_test,
     moore_rayleigh_test, second_order_mean, watson_williams_test,
+};
+pub use turn_test::{
+    EXACT_MAX_N, MIN_TURNS, TurnTestResult, turn_compensation_test, v_test_p_small_n,
 };
 
 use crate::frames::{wrap_360_deg, wrap_axial_deg};

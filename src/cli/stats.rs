@@ -1,8 +1,8 @@
 //! `skybearing stats`: circular statistics of angles in degrees, one per line.
 
 use crate::circular::{
-    CircularSummary, VTestResult, circular_variance, describe_axial_deg, describe_deg,
-    effective_sample_size_deg, kappa_estimate, mean_ci95_deg, rayleigh_test, v_test,
+    CircularSummary, MIN_SCORED_S, VTestResult, circular_variance, describe_axial_deg,
+    describe_deg, kappa_estimate, mean_ci95_deg, orientation_test_series, v_test,
 };
 use anyhow::{Context, bail};
 use clap::Args;
@@ -15,8 +15,14 @@ use std::path::PathBuf;
     after_help = "Input: one angle in degrees per line (compass style, any finite value; \
 blank lines and text after '#' are ignored). Reads standard input when FILE is '-' or missing.\n\
 --json prints n, mean_deg, r, rayleigh_z, rayleigh_p, circular_sd_deg, angular_deviation_deg \
-(and v, v_u, v_p with --expect), plus kappa, ci95_deg, circular_variance, n_eff and \
-rayleigh_p_eff."
+(and v, v_u, v_p with --expect), plus kappa, ci95_deg, circular_variance and \
+`independent` (true: every angle is taken as an independent observation).\n\
+With --series the lines are headings in time order, either `angle` (sampled at --rate-hz) or \
+`t_s,angle` (seconds, non-decreasing; a step longer than 0.1 s breaks the series); the output \
+adds p_oriented, the test that the animal held a heading, calibrated for autocorrelated \
+headings (null: an unoriented random walk with the series' own turning rate; null with less \
+than 30 s of series), and independent is false. Rayleigh p, the V-test and the CI still \
+take the lines as independent and are not valid for a time series."
 )]
 pub struct StatsArgs {
     /// File of angles in degrees, one per line; '-' or nothing reads standard input.
@@ -31,12 +37,21 @@ pub struct StatsArgs {
     /// Print one JSON object instead of the table.
     #[arg(long)]
     pub json: bool,
+    /// The lines are a time series of headings (`angle` or `t_s,angle`): add the calibrated
+    /// orientation test p_oriented.
+    #[arg(long)]
+    pub series: bool,
+    /// Sample rate of a --series file without a time column, Hz.
+    #[arg(long, value_name = "HZ")]
+    pub rate_hz: Option<f64>,
 }
 
 /// Angles read from an input, with the name used in error messages.
 struct Input {
     name: String,
     angles_deg: Vec<f64>,
+    /// Times of `t_s,angle` lines (empty when the lines hold angles only).
+    times_s: Vec<f64>,
 }
 
 fn read_input(file: Option<&PathBuf>) -> anyhow::Result<Input> {
@@ -54,8 +69,63 @@ fn read_input(file: Option<&PathBuf>) -> anyhow::Result<Input> {
             ("<stdin>".to_string(), bytes)
         }
     };
-    let angles_deg = parse_angles(&name, &bytes)?;
-    Ok(Input { name, angles_deg })
+    let (times_s, angles_deg) = parse_lines(&name, &bytes)?;
+    Ok(Input {
+        name,
+        angles_deg,
+        times_s,
+    })
+}
+
+/// Parses `angle` or `t_s,angle` lines (all lines alike); returns (times, angles), times empty
+/// for angle-only input. Errors name the input and the 1-based line number.
+fn parse_lines(name: &str, bytes: &[u8]) -> anyhow::Result<(Vec<f64>, Vec<f64>)> {
+    let mut times = Vec::new();
+    let mut angles = Vec::new();
+    let mut with_time: Option<bool> = None;
+    for (i, raw) in bytes.split(|&b| b == b'\n').enumerate() {
+        let line_no = i + 1;
+        let line = String::from_utf8_lossy(raw);
+        let text = line.split('#').next().unwrap_or("").trim();
+        if text.is_empty() {
+            continue;
+        }
+        let has_t = text.contains(',');
+        if *with_time.get_or_insert(has_t) != has_t {
+            bail!("{name}, line {line_no}: mixes `angle` and `t_s,angle` lines");
+        }
+        if let Some((t, _)) = text.split_once(',') {
+            let t: f64 = t
+                .trim()
+                .parse()
+                .ok()
+                .filter(|t: &f64| t.is_finite())
+                .ok_or_else(|| {
+                    anyhow::anyhow!(
+                        "{name}, line {line_no}: '{}' is not a time in seconds",
+                        shorten(t)
+                    )
+                })?;
+            if times.last().is_some_and(|&last| t < last) {
+                bail!("{name}, line {line_no}: t_s {t} goes back in time");
+            }
+            times.push(t);
+        }
+    }
+    let stripped: Vec<u8> = if with_time == Some(true) {
+        let mut v = Vec::new();
+        for raw in bytes.split(|&b| b == b'\n') {
+            let line = String::from_utf8_lossy(raw);
+            let (body, _) = line.split_once('#').unwrap_or((&line, ""));
+            v.extend_from_slice(body.split_once(',').map_or("", |x| x.1).as_bytes());
+            v.push(b'\n');
+        }
+        v
+    } else {
+        bytes.to_vec()
+    };
+    angles.extend(parse_angles(name, &stripped)?);
+    Ok((times, angles))
 }
 
 /// Parses one angle per line; blank lines and `#` comments are skipped. Errors name the input
@@ -103,8 +173,8 @@ struct Report {
     summary: CircularSummary,
     kappa: f64,
     ci95_deg: Option<(f64, f64)>,
-    n_eff: f64,
-    rayleigh_p_eff: f64,
+    /// Some(p_oriented) with --series (None inside: too short).
+    series: Option<Option<f64>>,
     expect_deg: Option<f64>,
     v: Option<VTestResult>,
 }
@@ -127,13 +197,6 @@ fn compute(angles_deg: &[f64], axial: bool, expect_deg: Option<f64>) -> Report {
     } else {
         mean_ci95_deg(n, summary.r, summary.mean_deg)
     };
-    let n_eff = if axial {
-        let doubled: Vec<f64> = angles_deg.iter().map(|a| 2.0 * a).collect();
-        effective_sample_size_deg(&doubled)
-    } else {
-        effective_sample_size_deg(angles_deg)
-    };
-    let rayleigh_p_eff = rayleigh_test(n_eff, summary.r).1;
     let (expect_deg, v) = match expect_deg {
         Some(e) if axial => {
             let e = crate::frames::wrap_axial_deg(e);
@@ -158,8 +221,7 @@ fn compute(angles_deg: &[f64], axial: bool, expect_deg: Option<f64>) -> Report {
         summary,
         kappa: kappa_estimate(summary.r, Some(n)),
         ci95_deg,
-        n_eff,
-        rayleigh_p_eff,
+        series: None,
         expect_deg,
         v,
     }
@@ -179,9 +241,11 @@ fn to_json(rep: &Report) -> serde_json::Value {
         "circular_variance": circular_variance(s.r),
         "kappa": finite_or_null(rep.kappa),
         "ci95_deg": rep.ci95_deg.map(|(lo, hi)| [lo, hi]),
-        "n_eff": rep.n_eff,
-        "rayleigh_p_eff": rep.rayleigh_p_eff,
+        "independent": rep.series.is_none(),
     });
+    if let (Some(p), Some(map)) = (rep.series, obj.as_object_mut()) {
+        map.insert("p_oriented".into(), p.into());
+    }
     if let (Some(v), Some(e), Some(map)) = (rep.v, rep.expect_deg, obj.as_object_mut()) {
         map.insert("expect_deg".into(), e.into());
         map.insert("v".into(), v.v.into());
@@ -260,14 +324,23 @@ fn to_text(name: &str, rep: &Report) -> String {
             "infinite".to_string()
         },
     );
-    line(
-        "effective n",
-        format!(
-            "{:.1} (if the lines are a time series); Rayleigh p on it = {}",
-            rep.n_eff,
-            fmt_p(rep.rayleigh_p_eff)
+    match rep.series {
+        None => line(
+            "note",
+            "every angle is taken as independent (for a time series use --series)".into(),
         ),
-    );
+        Some(p) => line(
+            "held a heading",
+            match p {
+                Some(p) => format!(
+                    "p_oriented = {} (against an unoriented walk; the Rayleigh p, V-test and \
+                     CI above take the lines as independent)",
+                    fmt_p(p)
+                ),
+                None => format!("too short to say (under {MIN_SCORED_S:.0} s)"),
+            },
+        ),
+    }
     if let (Some(v), Some(e)) = (rep.v, rep.expect_deg) {
         line(
             "V-test",
@@ -296,7 +369,29 @@ pub fn run(args: StatsArgs) -> anyhow::Result<i32> {
             input.name
         );
     }
-    let rep = compute(&input.angles_deg, args.axial, args.expect);
+    let mut rep = compute(&input.angles_deg, args.axial, args.expect);
+    if args.series {
+        if args.axial {
+            bail!("--series: the orientation test is for directions, not axes (drop --axial)");
+        }
+        let times: Vec<f64> = if input.times_s.is_empty() {
+            match args.rate_hz {
+                Some(hz) if hz.is_finite() && hz > 0.0 => {
+                    (0..input.angles_deg.len()).map(|k| k as f64 / hz).collect()
+                }
+                Some(hz) => bail!("--rate-hz: '{hz}' is not a positive rate in Hz"),
+                None => bail!(
+                    "{}: --series needs a time column (`t_s,angle`) or --rate-hz",
+                    input.name
+                ),
+            }
+        } else {
+            input.times_s.clone()
+        };
+        rep.series = Some(orientation_test_series(&times, &input.angles_deg).map(|t| t.p));
+    } else if !args.json {
+        eprintln!("note: every angle is taken as independent (for a time series use --series)");
+    }
     if args.json {
         println!("{}", to_json(&rep));
     } else {
