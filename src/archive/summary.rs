@@ -383,12 +383,13 @@ pub fn unscored_turns<'a>(events: impl IntoIterator<Item = (&'a str, &'a str)>) 
     out
 }
 
-/// Removes the world shift of `turns` from `summary` (they are not scored whatever the
-/// headings say). The engine and `check` both apply it, so they agree.
+/// Removes the world shifts (epoch means and windows) of `turns` from `summary`: they are not
+/// scored whatever the headings say, and the turn test leaves them out. The engine and `check` both apply it, so they agree.
 pub fn drop_unscored_turns(summary: &mut Summary, turns: &[usize]) {
     for t in &mut summary.turns {
         if turns.contains(&t.index) {
             t.world_shift_deg = None;
+            t.window_shift_deg = None;
         }
     }
 }
