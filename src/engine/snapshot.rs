@@ -201,10 +201,13 @@ pub fn summary_lines(summary: &crate::archive::Summary) -> Vec<String> {
                 .map(|x| format!("{x:.digits$}"))
                 .unwrap_or_else(|| "–".to_string())
         };
+        let mean = match num("mean_world_shift_deg", 1).as_str() {
+            "–" => "–".to_string(),
+            m => format!("{m}°"),
+        };
         lines.push(format!(
-            "turn test: {} turns, mean world shift {}°, p world kept {}, p arena kept {}",
+            "turn test: {} turns, mean world shift {mean}, p world kept {}, p arena kept {}",
             num("turns", 0),
-            num("mean_world_shift_deg", 1),
             num("p_world_kept", 3),
             num("p_arena_kept", 3)
         ));
