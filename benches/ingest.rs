@@ -83,6 +83,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
             description: String::new(),
             settle_s: 0.0,
             flight: FlightRules::default(),
+            sensor_loss: Default::default(),
             epochs: vec![
                 EpochPlan {
                     index: 1,

@@ -236,6 +236,9 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "turn_test_turns",
     "p_world_kept",
     "p_arena_kept",
+    "heading_slope_deg_per_h",
+    "heading_trend_r",
+    "sun_azimuth_rate_deg_per_h",
 ];
 
 /// Columns of `epochs.csv`.
@@ -280,7 +283,11 @@ pub const TURN_COLUMNS: &[&str] = &[
     "cue_predicted_mod_deg",
 ];
 
-/// `sessions.csv`.
+/// `sessions.csv`. `heading_slope_deg_per_h` and `heading_trend_r` are the circular–linear
+/// regression of the session's scored world headings on time (10-s bins;
+/// [`crate::circular::heading_trend`]), `sun_azimuth_rate_deg_per_h` the sun's mean azimuth
+/// rate over the session: a heading that follows the sun has a slope near that rate, a
+/// world-fixed heading a slope near 0.
 pub fn sessions_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(SESSION_COLUMNS);
     for s in sessions {
@@ -309,6 +316,9 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
             },
             s.turn_test().and_then(|tt| tt.p_world_kept).into(),
             s.turn_test().and_then(|tt| tt.p_arena_kept).into(),
+            s.heading_trend.map(|h| h.slope_deg_per_h).into(),
+            s.heading_trend.map(|h| h.r).into(),
+            s.sun_azimuth_rate_deg_per_h.into(),
         ]);
     }
     t

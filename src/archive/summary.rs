@@ -407,6 +407,42 @@ impl SummaryBuilder {
     }
 }
 
+/// Kind of the event that marks a turn whose world shift is not scored (the arena could not be
+/// turned, or it was turned while the heading sensor was lost); its detail begins "turn K:".
+pub const TURN_NOT_SCORED_EVENT: &str = "turn_not_scored";
+
+/// The turns (1-based) that [`TURN_NOT_SCORED_EVENT`] events mark, in the order recorded
+/// (from each event's kind and detail).
+pub fn unscored_turns<'a>(events: impl IntoIterator<Item = (&'a str, &'a str)>) -> Vec<usize> {
+    let mut out: Vec<usize> = Vec::new();
+    for (_, detail) in events
+        .into_iter()
+        .filter(|(kind, _)| *kind == TURN_NOT_SCORED_EVENT)
+    {
+        let k = detail
+            .strip_prefix("turn ")
+            .and_then(|rest| rest.split(':').next())
+            .and_then(|k| k.trim().parse().ok());
+        if let Some(k) = k
+            && !out.contains(&k)
+        {
+            out.push(k);
+        }
+    }
+    out
+}
+
+/// Removes the world shifts (epoch means and windows) of `turns` from `summary`: they are not
+/// scored whatever the headings say, and the turn test leaves them out. The engine and `check` both apply it, so they agree.
+pub fn drop_unscored_turns(summary: &mut Summary, turns: &[usize]) {
+    for t in &mut summary.turns {
+        if turns.contains(&t.index) {
+            t.world_shift_deg = None;
+            t.window_shift_deg = None;
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -55,7 +55,6 @@ pub struct Engine {
     pub(super) local_offset: FixedOffset,
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
-    pub(super) sensor_lost: bool,
     /// Samples a burst could not stamp at or before the clock, counted per second.
     pub(super) dropped: SecondTally,
     /// Malformed sensor lines, counted per second (the lines go to `malformed.csv`).
@@ -118,7 +117,6 @@ impl Engine {
             ),
             local_offset,
             timeline,
-            sensor_lost: false,
             dropped: SecondTally::default(),
             malformed: SecondTally::default(),
             suspended_seen_s: 0.0,
@@ -233,6 +231,9 @@ impl Engine {
                 self.trace.mark_turn(e.t_s);
             }
             self.event(e.t_s, e.kind, e.detail)?;
+        }
+        for &k in &self.timeline.unscored_turns {
+            self.scoring.unscore_turn(k);
         }
         Ok(())
     }
@@ -378,6 +379,10 @@ const PROGRESS_KINDS: &[&str] = &[
     "epoch_start",
     "turn_done",
     "turn_fault",
+    "turn_held",
+    "turn_not_made",
+    "turn_not_scored",
+    "turns_by_hand",
     "polarizer_done",
     "polarizer_fault",
     "prompt",
@@ -635,11 +640,13 @@ impl Engine {
                     }
                 }
                 SensorEvent::Lost { .. } => {
-                    self.sensor_lost = true;
+                    self.timeline.set_sensor_lost(t, true);
+                    self.record_timeline()?;
                     self.event(t, "sensor_lost", "no data")?
                 }
                 SensorEvent::Back { .. } => {
-                    self.sensor_lost = false;
+                    self.timeline.set_sensor_lost(t, false);
+                    self.record_timeline()?;
                     self.event(t, "sensor_back", "")?
                 }
             }
@@ -700,9 +707,14 @@ impl Engine {
             "session {status} ({reason}): {} samples, r world {:.3}, r arena {:.3}",
             self.samples, summary.r_world, summary.r_arena
         ));
+        let lines = crate::engine::snapshot::summary_lines(&summary);
+        for l in &lines {
+            progress(l);
+        }
         let mut snap = self.snapshot(t_end);
         snap.ended = true;
         snap.end_reason = Some(format!("{status}: {reason}"));
+        snap.watch.end_summary = lines;
         cell.publish(snap);
         Ok(Outcome {
             dir,
