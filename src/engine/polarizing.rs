@@ -212,6 +212,7 @@ mod tests {
             description: String::new(),
             settle_s: 2.0,
             flight: FlightRules::default(),
+            sensor_loss: Default::default(),
             epochs,
         };
         let mut t = Timeline::new(&protocol, 0.0);
