@@ -74,7 +74,7 @@ kind = "manual"                      # REQUIRED
 # kind = "serial"
 # path = "/dev/ttyACM1"
 # baud = 115200
-# timeout_s = 30.0                   # wait for a reply, retry once, then fault
+# timeout_s = 30                     # wait for a reply, retry once, then fault
 "#;
 
 /// The template with every placeholder filled in with the demo site's values (Larkfield
