@@ -119,4 +119,10 @@ fn run_sets_the_simulated_polarizer_between_epochs() {
     }
     // 4 s epochs at 100 Hz (the second less its 1 s settle window).
     assert!(seen[0] > 100 && seen[1] > 100, "{seen:?}");
+    // Both epochs are scored as filter-only epochs (axial scores relative to the e-vector shown).
+    let summary = read_json(&dir.join("summary.json"));
+    for e in summary["epochs"].as_array().expect("epochs") {
+        assert_eq!(e["cue"], "polarization", "{e}");
+        assert!(e["axial_r"].is_number(), "{e}");
+    }
 }
