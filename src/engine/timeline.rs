@@ -371,7 +371,11 @@ impl Timeline {
                         .map(|p| format!("; reported position {p:.1} deg"))
                         .unwrap_or_default();
                     self.event(t_s, "turn_done", format!("{by_deg:+.1} deg{reported}"));
+                    // A reply stamped before the loop got to it (the timeline already stands
+                    // later): the epoch began at the reply, so its clock runs from there.
+                    let now = self.t_s;
                     self.start_epoch(next, t_s, true);
+                    self.accrue(t_s, now);
                 } else {
                     self.event(t_s, "turntable_reply", "unexpected done");
                 }
