@@ -105,9 +105,12 @@ fn a_recording_replays_at_full_speed_into_the_epochs_it_filled_live() {
     let live_dir = dir.path().join("live");
     let p = protocol.to_str().unwrap();
     let live = finished_session(
-        &demo_command(&live_dir, &["--speed", "max", "--seed", "5", "--protocol", p])
-            .output()
-            .unwrap(),
+        &demo_command(
+            &live_dir,
+            &["--speed", "max", "--seed", "5", "--protocol", p],
+        )
+        .output()
+        .unwrap(),
     );
     // The replay has no operator marks: the demo session must have flown throughout.
     let events = std::fs::read_to_string(live.join("events.csv")).unwrap();
@@ -154,7 +157,10 @@ fn a_recording_replays_at_full_speed_into_the_epochs_it_filled_live() {
     assert_eq!(ea.len(), eb.len());
     for (x, y) in ea.iter().zip(eb) {
         let (na, nb) = (x["n"].as_i64().unwrap(), y["n"].as_i64().unwrap());
-        assert!(na > 3000 && (na - nb).abs() <= 2, "n {na} live, {nb} replayed");
+        assert!(
+            na > 3000 && (na - nb).abs() <= 2,
+            "n {na} live, {nb} replayed"
+        );
         assert_eq!(x["arena_bearing_deg"], y["arena_bearing_deg"]);
         let (ma, mb) = (
             x["mean_world_deg"].as_f64().unwrap(),
@@ -204,7 +210,10 @@ fn full_speed_replay_needs_start_and_a_time_column() {
     assert_ne!(code, 0);
     assert_eq!(err.trim().lines().count(), 1, "{err}");
     assert!(err.contains("sensor.time_column"), "{err}");
-    assert!(!dir.path().join("s").exists(), "no session folder for a refused run");
+    assert!(
+        !dir.path().join("s").exists(),
+        "no session folder for a refused run"
+    );
 }
 
 #[test]

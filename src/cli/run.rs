@@ -3,8 +3,8 @@
 use crate::cli::demo::{parse_speed, parse_start};
 use crate::cli::launch::{Display, launch};
 use crate::clock::{Clock, RealClock, SimClock};
-use crate::rig::config::{ReplayPace, Rig, SensorSource};
 use crate::engine::session::{Engine, EngineClock, SessionSetup, Speed};
+use crate::rig::config::{ReplayPace, Rig, SensorSource};
 use anyhow::Context;
 use chrono::{DateTime, SubsecRound, Utc};
 use clap::Args;
@@ -56,9 +56,9 @@ fn full_speed_replay(args: &RunArgs, rig: &Rig) -> anyhow::Result<Option<(DateTi
             }
             return Ok(None);
         }
-        Speed::Times(x) => anyhow::bail!(
-            "--speed {x}: run takes 1 (live) or max (a replay file on its own clock)"
-        ),
+        Speed::Times(x) => {
+            anyhow::bail!("--speed {x}: run takes 1 (live) or max (a replay file on its own clock)")
+        }
         Speed::Max => {}
     }
     let SensorSource::Replay { path, .. } = &rig.sensor.source else {
