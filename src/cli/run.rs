@@ -48,7 +48,7 @@ pub struct RunArgs {
 fn full_speed_replay(args: &RunArgs, rig: &Rig) -> anyhow::Result<Option<(DateTime<Utc>, Rig)>> {
     let file = args.rig.display();
     match args.speed {
-        Speed::Times(x) if x == 1.0 => {
+        Speed::Times(1.0) => {
             if args.start.is_some() {
                 anyhow::bail!(
                     "--start is only for --speed max (a live run starts at the present moment)"

@@ -570,7 +570,7 @@ impl HeadingSource for ReplaySource {
 
     fn exhausted_at_s(&self) -> Option<f64> {
         // Noticed like a lost sensor: `lost_after_s` after the last line's stamp.
-        (self.eof && self.pending.is_none()).then(|| self.last_stamp_s + self.lost_after_s)
+        (self.eof && self.pending.is_none()).then_some(self.last_stamp_s + self.lost_after_s)
     }
 
     fn describe(&self) -> String {
