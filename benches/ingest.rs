@@ -83,6 +83,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
             description: String::new(),
             settle_s: 0.0,
             flight: FlightRules::default(),
+            sensor_loss: Default::default(),
             epochs: vec![
                 EpochPlan {
                     index: 1,
@@ -90,6 +91,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
                     condition: "open sky".into(),
                     arena: ArenaMove::Stay,
                     prompt: None,
+                    cues: skybearing::protocol::Cues::OPEN_SKY,
                 },
                 EpochPlan {
                     index: 2,
@@ -97,6 +99,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
                     condition: "open sky".into(),
                     arena: ArenaMove::Stay,
                     prompt: None,
+                    cues: skybearing::protocol::Cues::OPEN_SKY,
                 },
             ],
         },

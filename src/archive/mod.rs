@@ -27,6 +27,7 @@
 
 pub mod atomic;
 pub mod check;
+pub mod cue_scores;
 pub mod fmt;
 pub mod lock;
 pub mod malformed;
@@ -62,6 +63,8 @@ pub const SAMPLE_COLUMNS: &[&str] = &[
     "sun_relative_heading_deg",
     "zenith_evector_deg",
     "raw",
+    "sun_in_view",
+    "evector_shown_deg",
 ];
 
 /// The header of `events.csv`.
@@ -98,6 +101,12 @@ pub struct SampleRow {
     pub zenith_evector_deg: f64,
     /// The raw sensor value as received.
     pub raw: f64,
+    /// The sun's disc was in the animal's view (cue visible, above the horizon and the arena's
+    /// sky view limit).
+    pub sun_in_view: bool,
+    /// World axis [0, 180) of the e-vector the animal was shown (sky or filter); None without
+    /// polarization (written empty).
+    pub evector_shown_deg: Option<f64>,
 }
 
 /// One row of `events.csv`.
@@ -164,6 +173,9 @@ pub struct EpochSummary {
     /// reads it shows "–" until it shows `p_oriented`. Remove with its readers.
     #[serde(skip)]
     pub rayleigh_p_eff: f64,
+    /// What the animal was shown, and the axial scores under polarization only.
+    #[serde(flatten)]
+    pub cue: cue_scores::EpochCueScore,
 }
 
 /// `EpochSummary` as stored (archives written before `p_oriented` existed read as None).
@@ -182,6 +194,9 @@ struct EpochSummaryFile {
     rayleigh_p: f64,
     #[serde(default)]
     p_oriented: Option<f64>,
+    /// Archives written before cues were recorded read as no cue scores.
+    #[serde(flatten)]
+    cue: cue_scores::EpochCueScore,
 }
 
 impl From<EpochSummaryFile> for EpochSummary {
@@ -198,6 +213,7 @@ impl From<EpochSummaryFile> for EpochSummary {
             p_oriented: f.p_oriented,
             n_eff: f64::NAN,
             rayleigh_p_eff: f64::NAN,
+            cue: f.cue,
         }
     }
 }
@@ -212,6 +228,9 @@ pub struct TurnSummary {
     pub turn_deg: f64,
     /// Mean world heading after minus before, (-180, 180]; None if either side has no data.
     pub world_shift_deg: Option<f64>,
+    /// What steering by the cue shown predicts for the shift.
+    #[serde(flatten)]
+    pub cue: cue_scores::TurnCuePrediction,
     /// World shift on comparable windows: the mean of the first W scored seconds after the
     /// turn (after the settle window) minus that of the last W scored seconds before, W =
     /// min(TURN_WINDOW_S, the scored flight of either epoch); None below MIN_TURN_WINDOW_S.
@@ -759,6 +778,7 @@ mod tests {
                 p_oriented: None,
                 n_eff: f64::NAN,
                 rayleigh_p_eff: f64::NAN,
+                cue: Default::default(),
             }],
             turns: vec![],
             r_world: 0.5,

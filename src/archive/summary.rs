@@ -7,6 +7,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::cue_scores::EpochCues;
 use super::fmt::{quantize_angle_deg, quantize_fixed};
 use super::read::SampleFields;
 use super::windows::{EdgeWindows, window_shift_deg};
@@ -83,6 +84,7 @@ struct EpochAcc {
     arena: Chain,
     bearing_scored_deg: Option<f64>,
     bearing_any_deg: Option<f64>,
+    cues: EpochCues,
     /// The orientation test of scored world headings.
     oriented: OrientationTracker,
     /// First and last windows of scored world headings (the turn test).
@@ -130,6 +132,7 @@ impl SummaryBuilder {
                     arena: Chain::default(),
                     bearing_scored_deg: None,
                     bearing_any_deg: None,
+                    cues: EpochCues::default(),
                     oriented: OrientationTracker::new(),
                     edges: EdgeWindows::default(),
                 })
@@ -152,6 +155,15 @@ impl SummaryBuilder {
             row.world_heading_deg,
             row.scored,
         );
+        self.push_cues(
+            row.epoch,
+            row.arena_heading_deg,
+            row.world_heading_deg,
+            row.scored,
+            Some(row.sun_in_view),
+            row.evector_shown_deg.unwrap_or(f64::NAN),
+            row.sun_azimuth_deg,
+        );
     }
 
     /// Adds one sample read back from `samples.csv`.
@@ -165,6 +177,41 @@ impl SummaryBuilder {
             s.world_heading_deg,
             s.scored,
         );
+        self.push_cues(
+            s.epoch,
+            s.arena_heading_deg,
+            s.world_heading_deg,
+            s.scored,
+            s.sun_in_view,
+            s.evector_shown_deg,
+            s.sun_azimuth_deg,
+        );
+    }
+
+    /// Adds what the animal was shown at one sample to its epoch's cue scores (see
+    /// [`super::cue_scores`]); the same samples count as in [`SummaryBuilder::push_values`].
+    #[allow(clippy::too_many_arguments)]
+    #[inline]
+    pub fn push_cues(
+        &mut self,
+        epoch: usize,
+        arena_heading_deg: f64,
+        world_heading_deg: f64,
+        scored: bool,
+        sun_in_view: Option<bool>,
+        evector_shown_deg: f64,
+        sun_azimuth_deg: f64,
+    ) {
+        let arena = quantize_angle_deg(arena_heading_deg, ANGLE_DECIMALS);
+        let world = quantize_angle_deg(world_heading_deg, ANGLE_DECIMALS);
+        if !(scored && arena.is_finite() && world.is_finite()) {
+            return;
+        }
+        if let Some(pos) = self.lookup.get(epoch).copied().flatten() {
+            self.epochs[pos]
+                .cues
+                .push(world, sun_in_view, evector_shown_deg, sun_azimuth_deg);
+        }
     }
 
     /// Adds one sample from its values (rounded first to the archive's angle and time
@@ -324,6 +371,7 @@ impl SummaryBuilder {
             p_oriented,
             n_eff: f64::NAN,
             rayleigh_p_eff: f64::NAN,
+            cue: e.cues.score(),
         }
     }
 
@@ -342,6 +390,7 @@ impl SummaryBuilder {
                     index: k,
                     turn_deg: self.epochs[k].planned.turn_before_deg,
                     world_shift_deg: shift,
+                    cue: EpochCues::predict(&self.epochs[k - 1].cues, &self.epochs[k].cues),
                     window_shift_deg: window_shift_deg(
                         &self.epochs[k - 1].edges,
                         &self.epochs[k].edges,
@@ -354,6 +403,42 @@ impl SummaryBuilder {
             turns,
             r_world: self.r_world(),
             r_arena: self.r_arena(),
+        }
+    }
+}
+
+/// Kind of the event that marks a turn whose world shift is not scored (the arena could not be
+/// turned, or it was turned while the heading sensor was lost); its detail begins "turn K:".
+pub const TURN_NOT_SCORED_EVENT: &str = "turn_not_scored";
+
+/// The turns (1-based) that [`TURN_NOT_SCORED_EVENT`] events mark, in the order recorded
+/// (from each event's kind and detail).
+pub fn unscored_turns<'a>(events: impl IntoIterator<Item = (&'a str, &'a str)>) -> Vec<usize> {
+    let mut out: Vec<usize> = Vec::new();
+    for (_, detail) in events
+        .into_iter()
+        .filter(|(kind, _)| *kind == TURN_NOT_SCORED_EVENT)
+    {
+        let k = detail
+            .strip_prefix("turn ")
+            .and_then(|rest| rest.split(':').next())
+            .and_then(|k| k.trim().parse().ok());
+        if let Some(k) = k
+            && !out.contains(&k)
+        {
+            out.push(k);
+        }
+    }
+    out
+}
+
+/// Removes the world shifts (epoch means and windows) of `turns` from `summary`: they are not
+/// scored whatever the headings say, and the turn test leaves them out. The engine and `check` both apply it, so they agree.
+pub fn drop_unscored_turns(summary: &mut Summary, turns: &[usize]) {
+    for t in &mut summary.turns {
+        if turns.contains(&t.index) {
+            t.world_shift_deg = None;
+            t.window_shift_deg = None;
         }
     }
 }

@@ -28,12 +28,17 @@ pub struct RunArgs {
     #[arg(long)]
     pub sessions: Option<PathBuf>,
     /// No screen: progress lines on stdout; operator words on stdin (ok, stop, fly, note TEXT,
-    /// pause, resume, skip, end).
+    /// pause, resume, skip, end; at a turn prompt `cannot` = could not turn; `hand` = every
+    /// later turn by hand).
     #[arg(long)]
     pub headless: bool,
     /// Monochrome screen (also when NO_COLOR is set).
     #[arg(long)]
     pub mono: bool,
+    /// Start although the sun is below the horizon during the session (the warnings are still
+    /// printed). Without it the live screen asks first and a headless run refuses.
+    #[arg(long)]
+    pub allow_no_sun: bool,
     /// `1` (live, the default) or `max`: a replay sensor with a time column runs on the file's
     /// own clock as fast as the machine allows (needs --start).
     #[arg(long, default_value = "1", value_parser = parse_speed)]
@@ -142,6 +147,10 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         seed: None,
         extra,
     };
+    for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
+        eprintln!("skybearing: warning: {w}");
+    }
+    let no_sun = crate::cli::launch::no_sun_warnings(&setup.protocol, &setup.rig, start_utc)?;
     let engine = Engine::new(setup)?;
     let sensor = crate::rig::open_sensor(&rig, shared.clone())
         .with_context(|| format!("{}: sensor", args.rig.display()))?;
@@ -161,6 +170,8 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
             mono: args.mono,
             auto_confirm_after_s: replay.as_ref().map(|_| 0.0),
             stdin_commands: !matches!(rig.sensor.source, SensorSource::Stdin),
+            no_sun,
+            allow_no_sun: args.allow_no_sun,
         },
         None,
     )?;

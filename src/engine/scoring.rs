@@ -21,12 +21,24 @@ pub(super) fn is_scored(timeline: &Timeline, t_s: f64) -> bool {
 #[derive(Debug, Clone)]
 pub(super) struct Scoring {
     builder: SummaryBuilder,
+    /// Turns whose world shift is not scored (not made, or made blind), 1-based.
+    unscored_turns: Vec<usize>,
 }
 
 impl Scoring {
     /// Scores of the planned epochs, empty.
     pub(super) fn new(builder: SummaryBuilder) -> Self {
-        Self { builder }
+        Self {
+            builder,
+            unscored_turns: Vec::new(),
+        }
+    }
+
+    /// Turn `k` (between epochs k and k + 1) gets no world shift, whatever the headings say.
+    pub(super) fn unscore_turn(&mut self, k: usize) {
+        if !self.unscored_turns.contains(&k) {
+            self.unscored_turns.push(k);
+        }
     }
 
     /// Adds one archived sample (the builder looks at its `scored` flag).
@@ -36,7 +48,9 @@ impl Scoring {
 
     /// The scores so far.
     pub(super) fn summary(&self) -> Summary {
-        self.builder.summary()
+        let mut s = self.builder.summary();
+        crate::archive::summary::drop_unscored_turns(&mut s, &self.unscored_turns);
+        s
     }
 
     /// The headless status line at `now`: the scores of `epoch` of `epoch_count`.
@@ -78,6 +92,7 @@ mod tests {
             description: String::new(),
             settle_s: 2.0,
             flight: FlightRules::default(),
+            sensor_loss: Default::default(),
             epochs: vec![epoch(1, 100.0, ArenaMove::TurnBy { deg: 90.0 }, None)],
         };
         let mut tl = Timeline::new(&protocol, 0.0);
