@@ -610,7 +610,7 @@ fn prompt_is_not_late_the_moment_it_appears() {
 
 #[test]
 fn help_explains_every_column_and_abbreviation() {
-    // The operator meets `p eff`, `bearing`, `hold r`... on the main screen: the help names each.
+    // The operator meets `p held`, `bearing`, `hold r`... on the main screen: the help names each.
     let snap = SnapshotBuilder::new().build();
     let ui = UiState {
         mode: Mode::Help,
@@ -627,7 +627,8 @@ fn help_explains_every_column_and_abbreviation() {
             ("world°", "mean heading of the epoch from true north"),
             ("r", "mean vector length"),
             ("session r", "r over all epochs"),
-            ("p eff", "Rayleigh test p on the effective n"),
+            ("p held", "p that the heading was held"),
+            ("", "– until 30 s of flight: too little to tell"),
             ("state", "wait · ► now · done · skip"),
             ("turn", "commanded arena turn"),
             ("health", "saved = last write to disk"),

@@ -5,7 +5,8 @@
 //! it sees as scored and words the headless status line.
 
 use super::timeline::{Phase, Timeline};
-use crate::archive::{SampleRow, Summary, SummaryBuilder};
+use crate::archive::{EpochCache, EpochSummary, SampleRow, Summary, SummaryBuilder};
+use std::cell::RefCell;
 
 /// Is a sample at session second `t_s` scored? Only while an epoch runs (not while prompting
 /// or turning), not paused, with the animal marked flying, and after the settle window that
@@ -21,12 +22,52 @@ pub(super) fn is_scored(timeline: &Timeline, t_s: f64) -> bool {
 #[derive(Debug, Clone)]
 pub(super) struct Scoring {
     builder: SummaryBuilder,
+    /// The epoch lines as of the last snapshot: a snapshot recomputes only the epochs that
+    /// received samples since (see [`EpochCache`]).
+    lines: RefCell<EpochCache>,
+}
+
+/// What a snapshot shows of the scores: one line per planned epoch (what `summary.json` will
+/// hold), the world shift across each turn, and the session's r.
+pub(super) struct LiveScores {
+    pub(super) epochs: Vec<EpochSummary>,
+    /// (turn index, planned turn, world shift) of each turn.
+    pub(super) turns: Vec<(usize, f64, Option<f64>)>,
+    pub(super) r_world: f64,
+    pub(super) r_arena: f64,
 }
 
 impl Scoring {
     /// Scores of the planned epochs, empty.
     pub(super) fn new(builder: SummaryBuilder) -> Self {
-        Self { builder }
+        Self {
+            builder,
+            lines: RefCell::new(EpochCache::default()),
+        }
+    }
+
+    /// The scores a snapshot shows, equal to those of [`Scoring::summary`]: O(epochs) copies
+    /// plus the figures of the epochs that changed since the last call.
+    pub(super) fn live(&self) -> LiveScores {
+        let mut cache = self.lines.borrow_mut();
+        self.builder.refresh_epochs(&mut cache);
+        let epochs = cache.epochs.clone();
+        let planned: Vec<f64> = self.builder.planned().map(|p| p.turn_before_deg).collect();
+        let turns = (1..epochs.len())
+            .map(|k| {
+                let shift = match (epochs[k - 1].mean_world_deg, epochs[k].mean_world_deg) {
+                    (Some(a), Some(b)) => Some(crate::frames::wrap_signed_deg(b - a)),
+                    _ => None,
+                };
+                (k, planned[k], shift)
+            })
+            .collect();
+        LiveScores {
+            epochs,
+            turns,
+            r_world: self.builder.r_world(),
+            r_arena: self.builder.r_arena(),
+        }
     }
 
     /// Adds one archived sample (the builder looks at its `scored` flag).
@@ -47,10 +88,10 @@ impl Scoring {
         epoch_count: usize,
         samples: u64,
     ) -> String {
-        let s = self.summary();
-        let ep = s.epochs.iter().find(|e| e.index == epoch);
+        let ep = self.builder.epoch_summary(epoch);
+        let ep = ep.as_ref();
         format!(
-            "t {:>6.0} s  epoch {}/{}  n {}  r {:.2}  mean world {}  samples {}",
+            "t {:>6.0} s  epoch {}/{}  n {}  r {:.2}  mean world {}  p held {}  samples {}",
             now,
             epoch,
             epoch_count,
@@ -59,6 +100,7 @@ impl Scoring {
             ep.and_then(|e| e.mean_world_deg)
                 .map(|m| format!("{m:.0}°"))
                 .unwrap_or_else(|| "-".into()),
+            super::snapshot::p_held_text(ep.and_then(|e| e.p_oriented)),
             samples
         )
     }

@@ -102,8 +102,12 @@ impl Widget for Help<'_> {
                 "r over all epochs so far, world and arena frames",
             ),
             (
-                "p eff",
-                "Rayleigh test p on the effective n (autocorrelation allowed for)",
+                "p held",
+                "p that the heading was held, against a walk with the animal's own turning;",
+            ),
+            (
+                "",
+                "– until 30 s of flight: too little to tell a held heading from a walk",
             ),
             (
                 "state",
