@@ -228,3 +228,90 @@ pub fn compare_stored_summary(
     out.extend(lines);
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::archive::{EpochSummary, TurnSummary};
+
+    fn summary(p: Option<f64>, shift: Option<f64>) -> Summary {
+        let epoch = |index| EpochSummary {
+            index,
+            condition: "open sky".into(),
+            arena_bearing_deg: 10.0,
+            n: 5,
+            mean_arena_deg: Some(1.0),
+            mean_world_deg: Some(11.0),
+            r: 0.5,
+            rayleigh_p: 0.2,
+            p_oriented: p,
+        };
+        Summary {
+            epochs: vec![epoch(1), epoch(2)],
+            turns: vec![TurnSummary {
+                index: 1,
+                turn_deg: 90.0,
+                world_shift_deg: Some(0.0),
+                window_shift_deg: shift,
+            }],
+            r_world: 0.5,
+            r_arena: 0.4,
+        }
+    }
+
+    fn stored(s: &Summary, drop: &[&str]) -> (Summary, StoredKeys) {
+        let mut v = serde_json::to_value(s).unwrap();
+        for e in v["epochs"].as_array_mut().unwrap() {
+            for k in drop {
+                e.as_object_mut().unwrap().remove(*k);
+            }
+        }
+        for t in v["turns"].as_array_mut().unwrap() {
+            for k in drop {
+                t.as_object_mut().unwrap().remove(*k);
+            }
+        }
+        for k in drop {
+            v.as_object_mut().unwrap().remove(*k);
+        }
+        let keys = StoredKeys::of(&v);
+        (serde_json::from_value(v).unwrap(), keys)
+    }
+
+    #[test]
+    fn p_oriented_and_turn_test_are_compared_when_stored() {
+        let computed = summary(Some(0.004), Some(3.0));
+        let (same, keys) = stored(&computed, &[]);
+        assert_eq!(keys, StoredKeys::all(&computed));
+        assert!(compare_stored_summary(&same, &keys, &computed).is_empty());
+        // A stored p_oriented that the samples do not give, and a null where they give one.
+        let (other, keys) = stored(&summary(Some(0.3), Some(3.0)), &[]);
+        let d = compare_stored_summary(&other, &keys, &computed);
+        assert!(
+            d.iter()
+                .any(|l| l.starts_with("epochs[1].p_oriented is 0.3")),
+            "{d:?}"
+        );
+        let (null, keys) = stored(&summary(None, Some(3.0)), &[]);
+        assert_eq!(compare_stored_summary(&null, &keys, &computed).len(), 2);
+        // A window shift that differs changes the turn's line (and the turn test's count here).
+        let (moved, keys) = stored(&summary(Some(0.004), None), &[]);
+        let d = compare_stored_summary(&moved, &keys, &computed);
+        assert!(d.iter().any(|l| l.starts_with("turns[1].window_shift_deg is null")));
+        assert!(d.iter().any(|l| l.starts_with("turn_test.turns is 0 but")), "{d:?}");
+    }
+
+    #[test]
+    fn keys_missing_from_an_older_archive_are_not_compared() {
+        let computed = summary(Some(0.004), Some(3.0));
+        let (old, keys) = stored(
+            &summary(None, None),
+            &["p_oriented", "window_shift_deg", "turn_test"],
+        );
+        assert_eq!(keys.p_oriented, vec![false, false]);
+        assert_eq!(keys.turn_test, None);
+        assert!(compare_stored_summary(&old, &keys, &computed).is_empty());
+        // compare_summaries compares every key.
+        assert!(!compare_summaries(&old, &computed).is_empty());
+    }
+}

@@ -103,11 +103,7 @@ impl Widget for Help<'_> {
             ),
             (
                 "p held",
-                "p that the heading was held, against a walk with the animal's own turning;",
-            ),
-            (
-                "",
-                "– until 30 s of flight: too little to tell a held heading from a walk",
+                "p of a held heading; – until 30 s of flight: too short to tell",
             ),
             (
                 "state",
