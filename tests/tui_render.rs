@@ -627,7 +627,10 @@ fn help_explains_every_column_and_abbreviation() {
             ("world°", "mean heading of the epoch from true north"),
             ("r", "mean vector length"),
             ("session r", "r over all epochs"),
-            ("p held", "p of a held heading; – until 30 s of flight: too short"),
+            (
+                "p held",
+                "p of a held heading; – until 30 s of flight: too short",
+            ),
             ("state", "wait · ► now · done · skip"),
             ("turn", "commanded arena turn"),
             ("health", "saved = last write to disk"),
@@ -770,4 +773,41 @@ fn heading_needle_is_solid_blocks_unlike_the_dashed_evector() {
             assert!(dots >= 2, "{theme:?} {w}x{h}: no e-vector dots:\n{text}");
         }
     }
+}
+
+#[test]
+fn epoch_table_shows_p_held_from_the_snapshot() {
+    // The screen renders the engine's p_oriented as it is: a p, the floor as "≤0.001", and
+    // "–" while the epoch holds too little flight for the test (None).
+    let mut snap = SnapshotBuilder::new().epochs(4).build();
+    for (e, p) in snap
+        .epochs
+        .iter_mut()
+        .zip([Some(0.0123), Some(0.001), None, Some(0.47)])
+    {
+        e.n = 5_000;
+        e.mean_world_deg = Some(100.0);
+        e.mean_arena_deg = Some(10.0);
+        e.r = 0.5;
+        e.p_oriented = p;
+    }
+    let lines = screen(&snap, &UiState::default(), 160, 48);
+    let header = must_find(&lines, "p held");
+    let col = lines[header].find("p held").expect("header");
+    let cells: Vec<String> = lines[header + 1..]
+        .iter()
+        .take(4)
+        .map(|l| {
+            l.chars()
+                .skip(lines[header][..col].chars().count())
+                .take(6)
+                .collect()
+        })
+        .collect();
+    assert_eq!(
+        cells.iter().map(|c| c.trim()).collect::<Vec<_>>(),
+        ["0.012", "≤0.001", "–", "0.47"],
+        "{}",
+        dump(&lines)
+    );
 }

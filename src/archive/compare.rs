@@ -297,8 +297,14 @@ mod tests {
         // A window shift that differs changes the turn's line (and the turn test's count here).
         let (moved, keys) = stored(&summary(Some(0.004), None), &[]);
         let d = compare_stored_summary(&moved, &keys, &computed);
-        assert!(d.iter().any(|l| l.starts_with("turns[1].window_shift_deg is null")));
-        assert!(d.iter().any(|l| l.starts_with("turn_test.turns is 0 but")), "{d:?}");
+        assert!(
+            d.iter()
+                .any(|l| l.starts_with("turns[1].window_shift_deg is null"))
+        );
+        assert!(
+            d.iter().any(|l| l.starts_with("turn_test.turns is 0 but")),
+            "{d:?}"
+        );
     }
 
     #[test]
