@@ -114,6 +114,55 @@ mod tests {
     use crate::rig::Turntable;
 
     #[test]
+    fn status_line_and_snapshot_show_the_summary_p_oriented_after_30_s() {
+        use crate::archive::PlannedEpoch;
+        let plan: Vec<PlannedEpoch> = (1..=2)
+            .map(|index| PlannedEpoch {
+                index,
+                condition: "open sky".into(),
+                turn_before_deg: 0.0,
+                duration_s: 100.0,
+            })
+            .collect();
+        let mut sc = Scoring::new(SummaryBuilder::new(&plan));
+        let mut push_until = |sc: &mut Scoring, from: usize, to: usize| {
+            for i in from..to {
+                let t = i as f64 * 0.02;
+                // A heading held near 40° with a slow ±8° wobble.
+                let w = 40.0 + 8.0 * (0.4 * t).sin();
+                sc.builder.push_values(1, t, w, 0.0, w, true);
+            }
+        };
+        // 20 s of flight: too little for the test, on both the line and the snapshot.
+        push_until(&mut sc, 0, 1000);
+        assert!(sc.status_line(20.0, 1, 2, 1000).contains("p held –"));
+        assert_eq!(sc.live().epochs[0].p_oriented, None);
+        // 80 s: the figure of summary.json, worded the same on both.
+        push_until(&mut sc, 1000, 4000);
+        let p = sc.summary().epochs[0].p_oriented;
+        assert!(p.is_some());
+        assert_eq!(sc.live().epochs[0].p_oriented, p);
+        let want = format!("p held {}", super::super::snapshot::p_held_text(p));
+        assert!(sc.status_line(80.0, 1, 2, 4000).contains(&want), "{want}");
+        let live = sc.live();
+        assert_eq!(
+            serde_json::to_string(&live.epochs).unwrap(),
+            serde_json::to_string(&sc.summary().epochs).unwrap()
+        );
+        assert_eq!(live.turns, vec![(1, 0.0, None)]);
+    }
+
+    #[test]
+    fn p_held_words() {
+        use super::super::snapshot::p_held_text;
+        assert_eq!(p_held_text(None), "–");
+        assert_eq!(p_held_text(Some(0.001)), "≤0.001");
+        assert_eq!(p_held_text(Some(0.0123)), "0.012");
+        assert_eq!(p_held_text(Some(0.5)), "0.50");
+        assert_eq!(p_held_text(Some(f64::NAN)), "–");
+    }
+
+    #[test]
     fn only_settled_flying_unpaused_epoch_samples_are_scored() {
         let protocol = Protocol {
             name: "test".into(),
