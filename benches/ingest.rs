@@ -16,7 +16,7 @@ use skybearing::protocol::{ArenaMove, EpochPlan, FlightRules, Protocol};
 use skybearing::rig::{
     HeadingSource, RigError, SensorEvent, SensorHealth, Turntable, TurntableEvent,
 };
-use std::sync::atomic::AtomicBool;
+use std::sync::atomic::AtomicUsize;
 
 const SAMPLES: usize = 1_000_000;
 const RATE_HZ: f64 = 1000.0;
@@ -207,7 +207,7 @@ fn ingest(c: &mut Criterion) {
             |(tmp, mut src)| {
                 let engine = Engine::new(setup(tmp.path())).expect("engine");
                 let (_tx, rx) = std::sync::mpsc::channel();
-                let stop = AtomicBool::new(false);
+                let stop = AtomicUsize::new(0);
                 let cell = SnapshotCell::new();
                 let mut quiet = |_: &str| {};
                 let out = engine

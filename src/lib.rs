@@ -12,6 +12,7 @@ pub mod engine;
 pub mod frames;
 pub mod protocol;
 pub mod rig;
+pub mod signals;
 pub mod sky;
 pub mod textfile;
 pub mod tui;

@@ -270,7 +270,13 @@ fn same_seed_and_start_give_identical_archives() {
     let args = ["--protocol", "protocols/smoke.toml", "--garbage", "0.05"];
     let da = headless_demo(a.path(), &args);
     let db = headless_demo(b.path(), &args);
-    for f in ["samples.csv", "events.csv", "summary.json", "session.json"] {
+    for f in [
+        "samples.csv",
+        "events.csv",
+        "malformed.csv",
+        "summary.json",
+        "session.json",
+    ] {
         let x = std::fs::read(da.join(f)).expect("a");
         let y = std::fs::read(db.join(f)).expect("b");
         assert!(
@@ -278,6 +284,58 @@ fn same_seed_and_start_give_identical_archives() {
             "{f} differs between two runs with the same seed and start"
         );
     }
+}
+
+#[test]
+fn malformed_lines_are_counted_per_second_and_kept_raw_in_their_own_file() {
+    // Issue 14 point 9: 5% garbage gave one events.csv row per malformed line. Now one row per
+    // second that had any, with the count, and every line kept in malformed.csv.
+    let tmp = tempfile::tempdir().expect("tmp");
+    let args = ["--protocol", "protocols/smoke.toml", "--garbage", "0.05"];
+    let dir = headless_demo(tmp.path(), &args);
+    let ev = Table::read(&dir.join("events.csv"));
+    let kind = ev.col("kind");
+    assert!(!ev.rows.iter().any(|r| r[kind] == "malformed_line"));
+    let mut seconds = Vec::new();
+    let mut counted = 0u64;
+    for r in ev.rows.iter().filter(|r| r[kind] == "malformed_lines") {
+        let detail = &r[ev.col("detail")];
+        let (n, rest) = detail.split_once(' ').expect("count");
+        counted += n.parse::<u64>().expect("a count");
+        let span = rest.split(" in ").nth(1).expect("span");
+        let start: f64 = span
+            .split('-')
+            .next()
+            .expect("start")
+            .parse()
+            .expect("start");
+        assert!(
+            ev.f(r, "t_s") >= start && ev.f(r, "t_s") <= start + 1.0,
+            "{detail}"
+        );
+        seconds.push(start);
+    }
+    assert!(seconds.len() > 5, "{seconds:?}");
+    assert!(
+        seconds.windows(2).all(|w| w[0] < w[1]),
+        "one row per second: {seconds:?}"
+    );
+    let raw = std::fs::read_to_string(dir.join("malformed.csv")).expect("malformed.csv");
+    let mut lines = raw.lines();
+    assert_eq!(lines.next(), Some("t_utc,t_s,reason,line"));
+    let mut rows = 0u64;
+    for l in lines {
+        let t: f64 = l.split(',').nth(1).expect("t_s").parse().expect("t_s");
+        assert!(seconds.contains(&t.floor()), "line at {t} s not counted");
+        rows += 1;
+    }
+    assert_eq!(rows, counted, "every counted line is kept");
+    let check = bin().arg("check").arg(&dir).output().expect("check");
+    assert!(
+        check.status.success(),
+        "{}",
+        String::from_utf8_lossy(&check.stdout)
+    );
 }
 
 #[test]

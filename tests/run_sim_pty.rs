@@ -31,7 +31,7 @@ fn run_completes_against_the_pty_simulator_with_faults() {
     assert_eq!(meta["status"], "complete");
     let events = std::fs::read_to_string(dir.join("events.csv")).expect("events");
     for kind in [
-        ",malformed_line,",
+        ",malformed_lines,",
         ",sensor_lost,",
         ",sensor_back,",
         ",turn_done,",

@@ -452,6 +452,11 @@ pub fn check_session(dir: &Path) -> CheckReport {
             }
         }
     }
+    // malformed.csv (only when the sensor sent malformed lines)
+    if let Some(m) = super::malformed::check_malformed(dir) {
+        r.problems.extend(m.problems);
+        r.notes.extend(m.notes);
+    }
     // summary.json
     let summary_path = dir.join(SUMMARY_FILE);
     if let Some(m) = &meta {

@@ -5,10 +5,14 @@
 //! - `session.json` ([`SessionMeta`]): written atomically (temporary file, fsync, rename,
 //!   fsync of the folder) at the start with status `running`, and again when the session ends;
 //! - `samples.csv` ([`SAMPLE_COLUMNS`]): one row per sample. `t_utc` RFC 3339 UTC with
-//!   milliseconds (truncated), `t_s` with 4 decimals, angles with 3 decimals (directions in
-//!   [0, 360), `zenith_evector_deg` in [0, 180)), `sun_elevation_deg` with 3 decimals, `flying`
-//!   and `scored` 0/1, `raw` the shortest text that reads back to the exact value received;
+//!   milliseconds (truncated), `t_s` with 6 decimals (microseconds), angles with 3 decimals
+//!   (directions in [0, 360), `zenith_evector_deg` in [0, 180)), `sun_elevation_deg` with 3
+//!   decimals, `flying` and `scored` 0/1, `raw` the shortest text that reads back to the exact
+//!   value received;
 //! - `events.csv` ([`EVENT_COLUMNS`]): `detail` (and `kind`) quoted per RFC 4180 when needed;
+//!   malformed sensor lines are counted there per second (`malformed_lines`);
+//! - `malformed.csv` ([`MALFORMED_COLUMNS`]), only when the sensor sent any: one row per
+//!   malformed line with its reason and the line itself (`rig::decoder::escape_raw_line`);
 //! - `summary.json` ([`Summary`], built by [`SummaryBuilder`]) once the session is closed;
 //!   statistics that are undefined (an empty epoch) are written `null`;
 //! - `.lock` while a writer has the folder: its pid (and process start time on Linux).
@@ -26,6 +30,7 @@ pub mod check;
 mod compare;
 pub mod fmt;
 pub mod lock;
+pub mod malformed;
 pub mod read;
 pub mod summary;
 mod windows;
@@ -62,6 +67,8 @@ pub const SAMPLE_COLUMNS: &[&str] = &[
 
 /// The header of `events.csv`.
 pub const EVENT_COLUMNS: &[&str] = &["t_utc", "t_s", "kind", "detail"];
+/// Columns of `malformed.csv`, in order.
+pub const MALFORMED_COLUMNS: &[&str] = &["t_utc", "t_s", "reason", "line"];
 
 /// One row of `samples.csv`.
 #[derive(Debug, Clone, PartialEq)]
@@ -103,10 +110,23 @@ pub struct EventRow {
     pub t_s: f64,
     /// Event kind (snake_case word: epoch_start, turn_commanded, turn_done, turn_fault,
     /// flight_stop, flight_start, note, pause, resume, epoch_skipped, prompt, prompt_confirmed,
-    /// sensor_lost, sensor_back, malformed_line, session_end...).
+    /// sensor_lost, sensor_back, malformed_lines, samples_dropped, session_end...).
     pub kind: String,
     /// Free text (quoted as CSV needs).
     pub detail: String,
+}
+
+/// One row of `malformed.csv`: a sensor line that was not a sample.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MalformedRow {
+    /// UTC of arrival.
+    pub t_utc: DateTime<Utc>,
+    /// Session seconds of arrival.
+    pub t_s: f64,
+    /// Why it was rejected.
+    pub reason: String,
+    /// The line as received, escaped by `rig::decoder::escape_raw_line`.
+    pub line: String,
 }
 
 /// Statistics of one epoch in `summary.json`.
@@ -283,6 +303,8 @@ pub const SESSION_FILE: &str = "session.json";
 pub const SAMPLES_FILE: &str = "samples.csv";
 /// Event rows.
 pub const EVENTS_FILE: &str = "events.csv";
+/// Malformed sensor lines, raw (created with the first one).
+pub const MALFORMED_FILE: &str = "malformed.csv";
 /// Written once the session is closed.
 pub const SUMMARY_FILE: &str = "summary.json";
 /// Held (O_EXCL, holding the writer's pid) while a writer has the folder open.
@@ -290,8 +312,9 @@ pub const LOCK_FILE: &str = ".lock";
 
 /// Decimals written for angles (degrees) in `samples.csv`: 3 (a thousandth of a degree).
 pub const ANGLE_DECIMALS: u32 = 3;
-/// Decimals written for `t_s` (seconds) in both CSV files: 4 (a tenth of a millisecond).
-pub const T_S_DECIMALS: u32 = 4;
+/// Decimals written for `t_s` (seconds) in the CSV files: 6 (a microsecond, so a sensor
+/// faster than 10 kHz keeps its own arrival times).
+pub const T_S_DECIMALS: u32 = 6;
 
 /// Everything that can go wrong in the archive. Every variant names the file (and line or
 /// field) it is about.

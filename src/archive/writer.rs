@@ -1,7 +1,7 @@
 //! The session writer: append-only CSV with periodic fsync, atomic JSON, a lock file.
 //!
 //! Number formats in the CSV files: angles with 3 decimals (directions reduced to [0, 360),
-//! axes to [0, 180)), `sun_elevation_deg` with 3 decimals, `t_s` with 4 decimals, `raw` as the
+//! axes to [0, 180)), `sun_elevation_deg` with 3 decimals, `t_s` with 6 decimals, `raw` as the
 //! shortest text that reads back to the exact value, instants RFC 3339 UTC with milliseconds.
 
 use std::fs::{File, OpenOptions};
@@ -17,9 +17,9 @@ use super::fmt::{
 };
 use super::lock::{lock_text, read_lock};
 use super::{
-    ANGLE_DECIMALS, ArchiveError, EVENT_COLUMNS, EVENTS_FILE, EventRow, LOCK_FILE, SAMPLE_COLUMNS,
-    SAMPLES_FILE, SESSION_FILE, SUMMARY_FILE, SampleRow, SessionMeta, Summary, T_S_DECIMALS,
-    validate_session_id,
+    ANGLE_DECIMALS, ArchiveError, EVENT_COLUMNS, EVENTS_FILE, EventRow, LOCK_FILE,
+    MALFORMED_COLUMNS, MALFORMED_FILE, MalformedRow, SAMPLE_COLUMNS, SAMPLES_FILE, SESSION_FILE,
+    SUMMARY_FILE, SampleRow, SessionMeta, Summary, T_S_DECIMALS, validate_session_id,
 };
 
 /// Buffered bytes written to the file once this many have piled up.
@@ -38,8 +38,11 @@ pub struct SessionWriter {
     id: String,
     samples: File,
     events: File,
+    /// `malformed.csv`, opened with the first malformed line.
+    malformed: Option<File>,
     sample_buf: Vec<u8>,
     event_buf: Vec<u8>,
+    malformed_buf: Vec<u8>,
     stamper: UtcStamper,
     event_stamper: UtcStamper,
     last_sync: Instant,
@@ -128,8 +131,10 @@ impl SessionWriter {
             id: meta.id.clone(),
             samples,
             events,
+            malformed: None,
             sample_buf: Vec::with_capacity(FLUSH_AT_BYTES + 4096),
             event_buf: Vec::with_capacity(4096),
+            malformed_buf: Vec::new(),
             stamper: UtcStamper::new(),
             event_stamper: UtcStamper::new(),
             last_sync: Instant::now(),
@@ -235,6 +240,47 @@ impl SessionWriter {
         Ok(())
     }
 
+    /// Appends one raw malformed line to `malformed.csv` (buffered; the file is created with
+    /// its header on the first one).
+    pub fn append_malformed(&mut self, row: &MalformedRow) -> Result<(), ArchiveError> {
+        let b = &mut self.malformed_buf;
+        self.event_stamper.push(b, &row.t_utc);
+        b.push(b',');
+        push_fixed(b, row.t_s, T_S_DECIMALS);
+        b.push(b',');
+        push_csv_field(b, &row.reason);
+        b.push(b',');
+        push_csv_field(b, &row.line);
+        b.push(b'\n');
+        if self.malformed_buf.len() >= FLUSH_AT_BYTES {
+            self.write_malformed()?;
+        }
+        Ok(())
+    }
+
+    fn write_malformed(&mut self) -> Result<(), ArchiveError> {
+        if self.malformed_buf.is_empty() {
+            return Ok(());
+        }
+        let path = self.dir.join(MALFORMED_FILE);
+        if self.malformed.is_none() {
+            let mut f = create_new(&path)?;
+            let mut header = MALFORMED_COLUMNS.join(",");
+            header.push('\n');
+            f.write_all(header.as_bytes())
+                .and_then(|()| f.sync_data())
+                .map_err(|e| ArchiveError::io(&path, e))?;
+            sync_dir(&self.dir)?;
+            self.malformed = Some(f);
+        }
+        let r = match self.malformed.as_mut() {
+            Some(f) => f.write_all(&self.malformed_buf),
+            None => Ok(()),
+        };
+        self.malformed_buf.clear();
+        r.map_err(|e| ArchiveError::io(path, e))
+    }
+
     fn write_samples(&mut self) -> Result<(), ArchiveError> {
         if !self.sample_buf.is_empty() {
             let r = self.samples.write_all(&self.sample_buf);
@@ -256,10 +302,11 @@ impl SessionWriter {
     /// Writes out the buffers (no fsync).
     pub fn flush(&mut self) -> Result<(), ArchiveError> {
         self.write_samples()?;
-        self.write_events()
+        self.write_events()?;
+        self.write_malformed()
     }
 
-    /// Writes out and fsyncs both CSV files if at least 1 s of real (monotonic) time has
+    /// Writes out and fsyncs the CSV files if at least 1 s of real (monotonic) time has
     /// passed since the last sync; returns the wall-clock UTC of the sync when it synced.
     pub fn sync_if_due(&mut self) -> Result<Option<DateTime<Utc>>, ArchiveError> {
         if self.last_sync.elapsed() >= SYNC_EVERY {
@@ -269,7 +316,7 @@ impl SessionWriter {
         }
     }
 
-    /// Writes out and fsyncs both CSV files now; returns the wall-clock UTC of the sync.
+    /// Writes out and fsyncs the CSV files now; returns the wall-clock UTC of the sync.
     pub fn sync_now(&mut self) -> Result<DateTime<Utc>, ArchiveError> {
         // Whatever happens, do not retry at loop speed.
         self.last_sync = Instant::now();
@@ -280,6 +327,10 @@ impl SessionWriter {
         self.events
             .sync_data()
             .map_err(|e| ArchiveError::io(self.dir.join(EVENTS_FILE), e))?;
+        if let Some(f) = &self.malformed {
+            f.sync_data()
+                .map_err(|e| ArchiveError::io(self.dir.join(MALFORMED_FILE), e))?;
+        }
         Ok(Utc::now())
     }
 
@@ -319,6 +370,9 @@ impl Drop for SessionWriter {
             let _ = self.flush();
             let _ = self.samples.sync_data();
             let _ = self.events.sync_data();
+            if let Some(f) = &self.malformed {
+                let _ = f.sync_data();
+            }
         }
     }
 }

@@ -9,22 +9,6 @@ use std::io::{BufRead, IsTerminal, Write};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc;
 
-/// Set by SIGINT/SIGTERM in headless runs: the engine ends the session properly.
-static STOP: AtomicBool = AtomicBool::new(false);
-
-extern "C" fn on_signal(_sig: libc::c_int) {
-    STOP.store(true, Ordering::SeqCst);
-}
-
-/// Routes SIGINT and SIGTERM to the STOP flag (headless runs).
-fn install_stop_signals() {
-    // SAFETY: the handler only stores to an atomic, which is async-signal-safe.
-    unsafe {
-        libc::signal(libc::SIGINT, on_signal as *const () as libc::sighandler_t);
-        libc::signal(libc::SIGTERM, on_signal as *const () as libc::sighandler_t);
-    }
-}
-
 /// How to show the session.
 pub struct Display {
     /// No screen: progress lines on stdout, the session folder as the last line.
@@ -66,8 +50,13 @@ pub fn launch(
 ) -> anyhow::Result<Outcome> {
     let cell = SnapshotCell::new();
     let (tx, rx) = mpsc::channel::<Command>();
+    // A file-size limit must come back as an error (EFBIG), not kill the process.
+    crate::signals::ignore_file_size_signal();
+    let stop = crate::signals::received();
     if display.headless {
-        install_stop_signals();
+        // SIGINT, SIGTERM and SIGHUP (ssh dropped, terminal closed) end the session properly.
+        crate::signals::record_stop_signals()
+            .context("installing the SIGINT/SIGTERM/SIGHUP handlers")?;
         // Operator commands typed on stdin (one word a line); EOF just ends the reader.
         let stdin_tx = tx.clone();
         std::thread::spawn(move || {
@@ -102,7 +91,7 @@ pub fn launch(
             clock,
             cell: &cell,
             commands: &rx,
-            stop: &STOP,
+            stop: &stop,
             progress: &mut progress,
             auto_confirm_after_s: display.auto_confirm_after_s,
             sim_operator,
@@ -127,7 +116,6 @@ pub fn launch(
     let handle = std::thread::Builder::new()
         .name("engine".into())
         .spawn(move || {
-            let never = AtomicBool::new(false);
             let mut quiet = |_: &str| {};
             let result = engine.run(Wiring {
                 sensor: sensor.as_mut(),
@@ -135,7 +123,7 @@ pub fn launch(
                 clock,
                 cell: &engine_cell,
                 commands: &rx,
-                stop: &never,
+                stop: &stop,
                 progress: &mut quiet,
                 auto_confirm_after_s: display.auto_confirm_after_s,
                 sim_operator,

@@ -9,6 +9,7 @@ mod scoring;
 pub mod session;
 mod setup;
 mod stamp;
+mod tally;
 #[cfg(test)]
 mod testing;
 mod timeline;

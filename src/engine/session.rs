@@ -18,6 +18,7 @@ pub use super::setup::{
     EndReason, EngineClock, EngineError, Outcome, SessionSetup, Speed, local_offset_for,
 };
 use super::stamp::{SampleContext, Stamped, Stamper, session_time_s};
+use super::tally::SecondTally;
 use super::timeline::{Phase, Timeline};
 use super::view::Trace;
 use crate::archive::{self, EventRow, SessionMeta, SessionWriter, SummaryBuilder};
@@ -25,15 +26,19 @@ use crate::clock::Clock;
 use crate::engine::snapshot::{Command, SnapshotCell};
 use crate::rig::sim::{OperatorAction, SimOperator};
 use crate::rig::{HeadingSource, SensorEvent, Turntable, TurntableEvent};
+use crate::signals::{StopSignal, stop_signal};
 use crate::sky::sun::SunTrack;
 use chrono::FixedOffset;
 use std::collections::VecDeque;
 use std::path::PathBuf;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::AtomicUsize;
 use std::sync::mpsc::Receiver;
 
 /// Session seconds of sim time advanced per loop iteration at `--speed max`.
 const MAX_SPEED_STEP_S: f64 = 0.05;
+/// Suspended time, seconds, that makes a gap worth an event (the boot-time and monotonic
+/// clocks drift apart by far less).
+const SUSPEND_GAP_MIN_S: f64 = 0.5;
 /// Recent event lines kept for screens.
 const RECENT_EVENTS: usize = 12;
 
@@ -50,6 +55,12 @@ pub struct Engine {
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
     pub(super) sensor_lost: bool,
+    /// Samples a burst could not stamp at or before the clock, counted per second.
+    pub(super) dropped: SecondTally,
+    /// Malformed sensor lines, counted per second (the lines go to `malformed.csv`).
+    pub(super) malformed: SecondTally,
+    /// Suspended seconds already marked as events.
+    pub(super) suspended_seen_s: f64,
     pub(super) samples: u64,
     /// The last sample's frames.
     pub(super) last_sample: Option<Stamped>,
@@ -100,6 +111,9 @@ impl Engine {
             local_offset,
             timeline,
             sensor_lost: false,
+            dropped: SecondTally::default(),
+            malformed: SecondTally::default(),
+            suspended_seen_s: 0.0,
             samples: 0,
             last_sample: None,
             trace: Trace::default(),
@@ -129,7 +143,51 @@ impl Engine {
         kind: &str,
         detail: impl Into<String>,
     ) -> Result<(), EngineError> {
-        let detail = detail.into();
+        self.close_seconds(Some(t_s))?;
+        self.write_event(t_s, kind, detail.into())
+    }
+
+    /// Writes the per-second counts whose second lies before `t_s` (all of them at the end,
+    /// `None`), so that `events.csv` stays in time order.
+    fn close_seconds(&mut self, t_s: Option<f64>) -> Result<(), EngineError> {
+        let at_most = t_s.unwrap_or(self.timeline.t_s);
+        let closed = match t_s {
+            Some(t) => self.malformed.due(t),
+            None => self.malformed.close(),
+        };
+        if let Some(c) = closed {
+            self.write_event(
+                c.row_time_s(at_most),
+                "malformed_lines",
+                format!(
+                    "{} malformed sensor line{} in {:.0}-{:.0} s (the lines are in malformed.csv)",
+                    c.count,
+                    if c.count == 1 { "" } else { "s" },
+                    c.start_s,
+                    c.start_s + 1.0
+                ),
+            )?;
+        }
+        let closed = match t_s {
+            Some(t) => self.dropped.due(t),
+            None => self.dropped.close(),
+        };
+        if let Some(c) = closed {
+            self.write_event(
+                c.row_time_s(at_most),
+                "samples_dropped",
+                format!(
+                    "{} samples in {:.0}-{:.0} s came faster than the archive's 1 µs resolution can stamp them",
+                    c.count,
+                    c.start_s,
+                    c.start_s + 1.0
+                ),
+            )?;
+        }
+        Ok(())
+    }
+
+    fn write_event(&mut self, t_s: f64, kind: &str, detail: String) -> Result<(), EngineError> {
         let row = EventRow {
             t_utc: self.stamper.utc_at(t_s),
             t_s,
@@ -210,6 +268,30 @@ impl Engine {
         self.record_timeline()
     }
 
+    /// Marks a suspend of the computer as an event when the clock reports more suspended time
+    /// than already marked (`suspended_total_s` since the session started). The real clock
+    /// counts suspended time, so `t_s` and `t_utc` stay true; the event says why no samples
+    /// came in the gap.
+    pub(super) fn note_suspend(
+        &mut self,
+        now: f64,
+        suspended_total_s: f64,
+    ) -> Result<(), EngineError> {
+        let gap = suspended_total_s - self.suspended_seen_s;
+        if gap < SUSPEND_GAP_MIN_S {
+            return Ok(());
+        }
+        self.suspended_seen_s = suspended_total_s;
+        let t = now.max(self.timeline.t_s);
+        self.event(
+            t,
+            "suspended",
+            format!(
+                "the computer was suspended for {gap:.1} s before this; session time counted it, no samples were taken in the gap"
+            ),
+        )
+    }
+
     /// Stamps, converts, archives and scores one sample at `t` (already monotonic).
     pub(super) fn on_sample(
         &mut self,
@@ -248,8 +330,9 @@ pub struct Wiring<'a> {
     pub cell: &'a SnapshotCell,
     /// Operator commands.
     pub commands: &'a Receiver<Command>,
-    /// Set from a signal handler: end the session properly.
-    pub stop: &'a AtomicBool,
+    /// Set from a signal handler to the signal's number: end the session properly and record
+    /// which signal it was ([`crate::signals::received`]).
+    pub stop: &'a AtomicUsize,
     /// Progress lines (headless runs print them).
     pub progress: &'a mut dyn FnMut(&str),
     /// Confirm operator prompts by itself after this many session seconds (headless demo).
@@ -275,6 +358,7 @@ const PROGRESS_KINDS: &[&str] = &[
     "prompt_confirmed",
     "sensor_lost",
     "sensor_back",
+    "suspended",
     "flight_stop",
     "flight_start",
     "abort",
@@ -354,14 +438,18 @@ impl Engine {
                     c.advance_to(n);
                     n
                 }
-                EngineClock::Real(c) => c.now_s(),
+                EngineClock::Real(c) => {
+                    let now = c.now_s();
+                    self.note_suspend(now, c.suspended_s())?;
+                    now
+                }
             };
             let step = self.step(
                 now,
                 sensor,
                 turntable,
                 &mut bufs,
-                commands,
+                (commands, stop),
                 sim_operator.as_mut(),
             );
             if let Err(e) = step {
@@ -377,9 +465,9 @@ impl Engine {
                 self.on_command(t, Command::ConfirmPrompt, turntable)?;
                 self.drive_turn(turntable)?;
             }
-            if stop.load(Ordering::SeqCst) && !stop_sent {
+            if !stop_sent && let Some(sig) = stop_signal(stop) {
                 stop_sent = true;
-                self.on_command(now, Command::EndSession, turntable)?;
+                self.end_by_signal(now, sig)?;
             }
             if let Some(wr) = self.writer.as_mut() {
                 match wr.sync_if_due() {
@@ -420,7 +508,7 @@ impl Engine {
                 std::thread::sleep(std::time::Duration::from_millis(5));
             }
         }
-        if let Some(e) = fatal {
+        if let Some(e) = fatal.map(EngineError::named_limit) {
             // Keep what reached the disk: try to flush, then report.
             if let Some(wr) = self.writer.as_mut() {
                 let _ = wr.sync_now();
@@ -437,7 +525,7 @@ impl Engine {
         sensor: &mut dyn HeadingSource,
         turntable: &mut dyn Turntable,
         bufs: &mut Buffers,
-        commands: &Receiver<Command>,
+        (commands, stop): (&Receiver<Command>, &AtomicUsize),
         mut operator: Option<&mut SimOperator>,
     ) -> Result<(), EngineError> {
         let Buffers {
@@ -456,12 +544,20 @@ impl Engine {
                 | SensorEvent::Lost { t_s }
                 | SensorEvent::Back { t_s } => *t_s,
             };
-            let t = session_time_s(
+            let Some(t) = session_time_s(
                 t,
                 self.timeline.t_s,
                 self.last_sample.map(|s| s.t_s),
                 matches!(ev, SensorEvent::Sample { .. }),
-            );
+                now,
+            ) else {
+                // No stamp of its own at or before the clock: dropped and counted, never
+                // stamped in the future.
+                let t = self.timeline.t_s;
+                self.close_seconds(Some(t))?;
+                self.dropped.add(t);
+                continue;
+            };
             self.poll_turntable(t, turntable, tt_buf)?;
             if let Some(op) = operator.as_deref_mut() {
                 marks.clear();
@@ -482,8 +578,17 @@ impl Engine {
                     arena_heading_deg,
                     ..
                 } => self.on_sample(t, raw, arena_heading_deg, turntable)?,
-                SensorEvent::Malformed { reason, text, .. } => {
-                    self.event(t, "malformed_line", format!("{reason}: {text}"))?
+                SensorEvent::Malformed { reason, line, .. } => {
+                    self.close_seconds(Some(t))?;
+                    self.malformed.add(t);
+                    if let Some(w) = self.writer.as_mut() {
+                        w.append_malformed(&archive::MalformedRow {
+                            t_utc: self.stamper.utc_at(t),
+                            t_s: t,
+                            reason,
+                            line,
+                        })?;
+                    }
                 }
                 SensorEvent::Lost { .. } => {
                     self.sensor_lost = true;
@@ -501,6 +606,10 @@ impl Engine {
         self.drive_turn(turntable)?;
         while self.timeline.end.is_none() {
             match commands.try_recv() {
+                // A screen forwards a signal as EndSession: record the signal itself.
+                Ok(Command::EndSession) if let Some(sig) = stop_signal(stop) => {
+                    self.end_by_signal(now, sig)?;
+                }
                 Ok(cmd) => {
                     self.on_command(now, cmd, turntable)?;
                     self.drive_turn(turntable)?;
@@ -511,6 +620,13 @@ impl Engine {
         Ok(())
     }
 
+    /// Ends the session on a termination signal, naming it in the events and `end_reason`.
+    fn end_by_signal(&mut self, t: f64, sig: StopSignal) -> Result<(), EngineError> {
+        self.timeline
+            .end_requested(t, super::setup::EndReason::Signal(sig));
+        self.record_timeline()
+    }
+
     fn close(
         mut self,
         cell: &SnapshotCell,
@@ -519,6 +635,7 @@ impl Engine {
         let end = self.timeline.end.unwrap_or(EndReason::Stopped);
         let (status, reason) = (end.status(), end.text());
         let t_end = self.timeline.t_s;
+        self.close_seconds(None)?;
         self.event(t_end, "session_end", format!("{status}: {reason}"))?;
         for l in std::mem::take(&mut self.progress_lines) {
             progress(&l);

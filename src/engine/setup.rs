@@ -32,6 +32,25 @@ pub enum EngineError {
     /// The setup is inconsistent.
     #[error("{0}")]
     Setup(String),
+    /// A write hit the file-size limit (EFBIG; SIGXFSZ is ignored so this comes back).
+    #[error(
+        "{0}: the file-size limit was reached (ulimit -f); what was written is kept: raise the limit and run `skybearing check --repair` on the session folder"
+    )]
+    FileSizeLimit(String),
+}
+
+impl EngineError {
+    /// A file-size-limit failure reported as such; other errors unchanged.
+    pub fn named_limit(self) -> Self {
+        match self {
+            EngineError::Archive(archive::ArchiveError::Io { path, source })
+                if crate::signals::is_file_size_limit(&source) =>
+            {
+                EngineError::FileSizeLimit(path.display().to_string())
+            }
+            other => other,
+        }
+    }
 }
 
 /// Everything the engine needs besides the devices.
@@ -151,6 +170,8 @@ pub enum EndReason {
     NoFlight,
     /// The operator ended the session before the protocol was done.
     EndedByOperator,
+    /// A termination signal (SIGINT, SIGTERM, SIGHUP) ended it before the protocol was done.
+    Signal(crate::signals::StopSignal),
     /// The loop stopped without the timeline ending the session.
     Stopped,
 }
@@ -176,15 +197,21 @@ impl EndReason {
             EndReason::ProtocolFinished => "protocol finished",
             EndReason::NoFlight => "no flight",
             EndReason::EndedByOperator => "ended by the operator",
+            EndReason::Signal(s) => match s {
+                crate::signals::StopSignal::Int => "ended by SIGINT",
+                crate::signals::StopSignal::Term => "ended by SIGTERM",
+                crate::signals::StopSignal::Hup => "ended by SIGHUP",
+            },
             EndReason::Stopped => "stopped",
         }
     }
 
     /// Exit status of `demo` and `run`: 0 when the protocol finished or the operator chose to
-    /// end, 1 when the session was cut short otherwise (the abort rule).
+    /// end (also by a termination signal, which ends the session properly), 1 when the session
+    /// was cut short otherwise (the abort rule).
     pub fn exit_code(self) -> i32 {
         match self {
-            EndReason::ProtocolFinished | EndReason::EndedByOperator => 0,
+            EndReason::ProtocolFinished | EndReason::EndedByOperator | EndReason::Signal(_) => 0,
             EndReason::NoFlight | EndReason::Stopped => 1,
         }
     }
@@ -240,6 +267,12 @@ mod tests {
                 0,
             ),
             (EndReason::Stopped, "aborted", "stopped", 1),
+            (
+                EndReason::Signal(crate::signals::StopSignal::Hup),
+                "aborted",
+                "ended by SIGHUP",
+                0,
+            ),
         ];
         for (end, status, text, code) in all {
             assert_eq!(

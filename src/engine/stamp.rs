@@ -13,25 +13,33 @@ use crate::sky::polarization::zenith_evector_deg;
 use crate::sky::sun::{SunPosition, SunTrack};
 use chrono::{DateTime, Duration, Utc};
 
-/// Resolution of `t_s` in the archive (4 decimals): consecutive samples are at least this far
-/// apart.
-pub(super) const T_S_RESOLUTION_S: f64 = 1e-4;
+/// Resolution of `t_s` in the archive (one microsecond, [`crate::archive::T_S_DECIMALS`]
+/// decimals): consecutive samples are at least this far apart.
+pub(super) const T_S_RESOLUTION_S: f64 = 1e-6;
 
 /// The session time of an input stamped `arrival_s`: never before `timeline_s` (a late stamp
 /// must not bend time backwards), and for a sample at least [`T_S_RESOLUTION_S`] after the
 /// previous sample (lines read from a serial port in one burst carry the same arrival stamp;
 /// spreading them keeps `t_s` strictly increasing in the archive).
+///
+/// Time is never invented: a stamp never runs ahead of `now_s`, the clock's reading when the
+/// input was handed over. `None` when a sample cannot get a stamp of its own at or before
+/// `now_s` (more than a million lines a second in one burst): the caller drops it and says so.
 pub(super) fn session_time_s(
     arrival_s: f64,
     timeline_s: f64,
     previous_sample_s: Option<f64>,
     is_sample: bool,
-) -> f64 {
+    now_s: f64,
+) -> Option<f64> {
     let mut t = arrival_s.max(timeline_s);
     if is_sample && let Some(last) = previous_sample_s {
         t = t.max(last + T_S_RESOLUTION_S);
+        if t > now_s.max(timeline_s) {
+            return None;
+        }
     }
-    t
+    Some(t)
 }
 
 /// What a sample's frames came to (kept for screens).
@@ -139,13 +147,39 @@ mod tests {
     #[test]
     fn late_and_burst_stamps_never_go_backwards() {
         // A stamp before the timeline's time is moved up to it (events and samples alike).
-        assert_eq!(session_time_s(4.0, 5.0, None, false), 5.0);
-        assert_eq!(session_time_s(4.0, 5.0, Some(3.0), true), 5.0);
+        assert_eq!(session_time_s(4.0, 5.0, None, false, 5.0), Some(5.0));
+        assert_eq!(session_time_s(4.0, 5.0, Some(3.0), true, 5.0), Some(5.0));
         // A burst of samples with one arrival stamp is spread by the archive's resolution.
-        let t1 = session_time_s(5.0, 5.0, Some(5.0), true);
-        assert!((t1 - 5.0001).abs() < 1e-12, "{t1}");
+        let t1 = session_time_s(5.0, 5.0, Some(5.0), true, 5.1).expect("stamp");
+        assert!((t1 - 5.000001).abs() < 1e-12, "{t1}");
         // Only samples are spread; other events keep the arrival stamp.
-        assert_eq!(session_time_s(5.0, 5.0, Some(5.0), false), 5.0);
+        assert_eq!(session_time_s(5.0, 5.0, Some(5.0), false, 5.0), Some(5.0));
+    }
+
+    #[test]
+    fn a_sensor_faster_than_10_khz_never_runs_ahead_of_the_clock() {
+        // Issue 14 point 10: 200,000 lines in 10 s (20 kHz), read in bursts of 2,000 lines
+        // that share one arrival stamp every 0.1 s and are handed over 5 ms later (the loop's
+        // pause). With 0.1 ms spreading they were stamped over 20 s; every stamp must stay at
+        // or before the clock's reading and strictly increase, and none may be dropped.
+        let mut last: Option<f64> = None;
+        let mut timeline = 0.0;
+        let mut kept = 0u32;
+        for k in 0..200_000u32 {
+            let arrival = f64::from(k / 2_000) * 0.1;
+            let now = arrival + 0.005;
+            if let Some(t) = session_time_s(arrival, timeline, last, true, now) {
+                assert!(t <= now, "stamp {t} ahead of the clock {now}");
+                assert!(last.is_none_or(|l| t > l));
+                last = Some(t);
+                timeline = t;
+                kept += 1;
+            }
+        }
+        assert_eq!(kept, 200_000);
+        assert!(last.expect("stamps") <= 10.0);
+        // Past a million lines a second in one burst a sample is refused, not stamped late.
+        assert_eq!(session_time_s(1.0, 1.0, Some(1.0), true, 1.0), None);
     }
 
     #[test]

@@ -459,18 +459,26 @@ impl Timeline {
                     }
                 }
             }
-            Command::EndSession => {
-                self.event(t, "end_requested", "by the operator");
-                let all_done = self
-                    .epochs
-                    .iter()
-                    .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
-                if all_done {
-                    self.finish_timeline(t, EndReason::ProtocolFinished);
-                } else {
-                    self.finish_timeline(t, EndReason::EndedByOperator);
-                }
-            }
+            Command::EndSession => self.end_requested(t, EndReason::EndedByOperator),
+        }
+    }
+
+    /// Ends the session at `t` on a request (the operator's, or a signal's): "protocol
+    /// finished" when every epoch is done, else `unfinished`.
+    pub(super) fn end_requested(&mut self, t: f64, unfinished: EndReason) {
+        let by = match unfinished {
+            EndReason::Signal(s) => s.name(),
+            _ => "the operator",
+        };
+        self.event(t, "end_requested", format!("by {by}"));
+        let all_done = self
+            .epochs
+            .iter()
+            .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
+        if all_done {
+            self.finish_timeline(t, EndReason::ProtocolFinished);
+        } else {
+            self.finish_timeline(t, unfinished);
         }
     }
 

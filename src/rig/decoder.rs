@@ -43,6 +43,31 @@ pub struct LineDecoder {
     stats: DecoderStats,
 }
 
+/// A received line as text with nothing lost: valid UTF-8 as is, a backslash as `\\`,
+/// control characters and bytes that are not UTF-8 as `\xNN` (one per byte).
+pub fn escape_raw_line(bytes: &[u8]) -> String {
+    let mut out = String::with_capacity(bytes.len());
+    let hex = |out: &mut String, b: u8| out.push_str(&format!("\\x{b:02x}"));
+    for chunk in bytes.utf8_chunks() {
+        for c in chunk.valid().chars() {
+            match c {
+                '\\' => out.push_str("\\\\"),
+                c if c.is_control() => {
+                    let mut buf = [0u8; 4];
+                    for b in c.encode_utf8(&mut buf).bytes() {
+                        hex(&mut out, b);
+                    }
+                }
+                c => out.push(c),
+            }
+        }
+        for &b in chunk.invalid() {
+            hex(&mut out, b);
+        }
+    }
+    out
+}
+
 /// The offending text for a `Malformed` event: lossy UTF-8, control characters shown as '?',
 /// at most [`MAX_SHOWN_CHARS`] characters (an ellipsis marks a cut).
 pub fn shown_text(bytes: &[u8]) -> String {
@@ -153,6 +178,7 @@ impl LineDecoder {
             t_s,
             reason: format!("line longer than {MAX_LINE_BYTES} bytes"),
             text: shown_text(bytes),
+            line: escape_raw_line(&bytes[..bytes.len().min(MAX_LINE_BYTES)]),
         });
     }
 
@@ -172,6 +198,7 @@ impl LineDecoder {
                 t_s,
                 reason: why.to_string(),
                 text: shown_text(&self.buf),
+                line: escape_raw_line(&self.buf),
             })
         };
         self.buf.clear();
@@ -199,6 +226,7 @@ impl LineDecoder {
             t_s,
             reason,
             text: shown_text(line),
+            line: escape_raw_line(line),
         })
     }
 

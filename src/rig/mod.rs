@@ -54,8 +54,11 @@ pub enum SensorEvent {
         t_s: f64,
         /// Why it was rejected.
         reason: String,
-        /// The offending text, truncated.
+        /// The offending text, truncated (for screens).
         text: String,
+        /// The whole line as received (at most [`decoder::MAX_LINE_BYTES`] bytes of an
+        /// overlong one), escaped by [`decoder::escape_raw_line`].
+        line: String,
     },
     /// No data for the configured time.
     Lost {

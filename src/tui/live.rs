@@ -96,7 +96,13 @@ fn signal_flags() -> Option<&'static SignalFlags> {
                 // terminates the default way; the first only sets the flag.
                 let a = signal_hook::flag::register_conditional_default(sig, term_seen.clone());
                 let b = signal_hook::flag::register(sig, term_seen.clone());
-                if a.is_err() || b.is_err() {
+                // Which signal it was, for the session's end reason.
+                let c = signal_hook::flag::register_usize(
+                    sig,
+                    crate::signals::received(),
+                    sig as usize,
+                );
+                if a.is_err() || b.is_err() || c.is_err() {
                     return None;
                 }
             }

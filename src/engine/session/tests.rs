@@ -122,3 +122,29 @@ fn scored_only_when_flying_running_and_settled() {
     // World heading = arena heading + mark bearing (true 0) + arena position (90).
     assert_eq!(e.last_sample.map(|s| s.world_heading_deg), Some(135.0));
 }
+
+#[test]
+fn a_suspend_of_the_computer_is_marked_as_an_event() {
+    // Issue 14 point 12: a suspended laptop left no trace. The real clock reports suspended
+    // seconds; each new gap of half a second or more becomes one `suspended` event.
+    let tmp = tempfile::tempdir().expect("tmp");
+    let mut e = engine(
+        tmp.path(),
+        vec![epoch(1, 600.0, ArenaMove::Stay, None)],
+        FlightRules::default(),
+    );
+    e.writer = Some(SessionWriter::create(tmp.path(), &e.meta).expect("writer"));
+    e.note_suspend(10.0, 0.001).expect("no gap");
+    e.note_suspend(130.0, 120.0).expect("gap");
+    e.note_suspend(131.0, 120.2).expect("drift only");
+    e.note_suspend(200.0, 150.0).expect("second gap");
+    e.writer.as_mut().expect("writer").sync_now().expect("sync");
+    let text = std::fs::read_to_string(e.session_dir().join("events.csv")).expect("events");
+    let gaps: Vec<&str> = text.lines().filter(|l| l.contains(",suspended,")).collect();
+    assert_eq!(gaps.len(), 2, "{text}");
+    assert!(
+        gaps[0].contains(",130.000000,") && gaps[0].contains("for 120.0 s"),
+        "{text}"
+    );
+    assert!(gaps[1].contains("for 30.0 s"), "{text}");
+}
