@@ -143,7 +143,7 @@ fn run_once(setup: SessionSetup, evs: &[SensorEvent]) -> u64 {
     };
     let engine = Engine::new(setup).expect("engine");
     let (_tx, rx) = std::sync::mpsc::channel();
-    let stop = AtomicBool::new(false);
+    let stop = AtomicUsize::new(0);
     let cell = SnapshotCell::new();
     let mut quiet = |_: &str| {};
     let out = engine

@@ -125,7 +125,7 @@ mod tests {
             })
             .collect();
         let mut sc = Scoring::new(SummaryBuilder::new(&plan));
-        let mut push_until = |sc: &mut Scoring, from: usize, to: usize| {
+        let push_until = |sc: &mut Scoring, from: usize, to: usize| {
             for i in from..to {
                 let t = i as f64 * 0.02;
                 // A heading held near 40° with a slow ±8° wobble.
