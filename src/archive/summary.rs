@@ -630,7 +630,7 @@ mod tests {
             if i % 33 == 0 {
                 b.refresh_epochs(&mut cache);
                 refreshes += 1;
-                if refreshes % 3_001 == 0 {
+                if refreshes.is_multiple_of(3_001) {
                     assert_eq!(json(&cache.epochs), json(&b.summary().epochs), "after {i}");
                 }
             }

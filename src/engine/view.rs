@@ -72,9 +72,9 @@ impl Engine {
             .epochs
             .iter()
             .enumerate()
-            .map(|(pos, e)| {
+            .map(|(at, e)| {
                 // The timeline's epochs and the builder's lines are both in plan order.
-                let s = summary.epochs.get(pos).filter(|x| x.index == e.index);
+                let s = summary.epochs.get(at).filter(|x| x.index == e.index);
                 EpochRow {
                     index: e.index,
                     condition: e.condition.clone(),
