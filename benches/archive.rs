@@ -76,6 +76,8 @@ fn row(k: u64) -> SampleRow {
         sun_relative_heading_deg: (world - 121.234_567 - t_s * 0.004).rem_euclid(360.0),
         zenith_evector_deg: 31.234_5,
         raw: (world * 10.0).round() / 10.0,
+        sun_in_view: true,
+        evector_shown_deg: Some(31.234_5),
     }
 }
 

@@ -90,6 +90,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
             condition: "open sky".into(),
             arena: ArenaMove::Stay,
             prompt: None,
+            cues: skybearing::protocol::Cues::OPEN_SKY,
         },
         EpochPlan {
             index: 2,
@@ -97,6 +98,7 @@ fn setup(dir: &std::path::Path) -> SessionSetup {
             condition: "open sky".into(),
             arena: ArenaMove::Stay,
             prompt: None,
+            cues: skybearing::protocol::Cues::OPEN_SKY,
         },
     ];
     setup_with(dir, epochs)
@@ -111,6 +113,7 @@ fn epochs_of(count: usize, duration_s: f64) -> Vec<EpochPlan> {
             condition: "open sky".into(),
             arena: ArenaMove::Stay,
             prompt: None,
+            cues: skybearing::protocol::Cues::OPEN_SKY,
         })
         .collect()
 }
@@ -125,6 +128,7 @@ fn setup_with(dir: &std::path::Path, epochs: Vec<EpochPlan>) -> SessionSetup {
             description: String::new(),
             settle_s: 0.0,
             flight: FlightRules::default(),
+            sensor_loss: Default::default(),
             epochs,
         },
         rig: skybearing::rig::config::demo_rig(),

@@ -64,6 +64,8 @@ fn row(k: u64) -> SampleRow {
         sun_relative_heading_deg: (world - 120.0 - t_s * 0.004).rem_euclid(360.0),
         zenith_evector_deg: (120.0 + t_s * 0.004 + 90.0).rem_euclid(180.0),
         raw: world,
+        sun_in_view: true,
+        evector_shown_deg: Some(30.0),
     }
 }
 

@@ -56,6 +56,8 @@ fn row(k: u64) -> SampleRow {
         sun_relative_heading_deg: (world - 130.0).rem_euclid(360.0),
         zenith_evector_deg: 40.0,
         raw: world,
+        sun_in_view: true,
+        evector_shown_deg: Some(40.0),
     }
 }
 

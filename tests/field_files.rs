@@ -46,7 +46,7 @@ fn a_fresh_rig_template_is_refused_until_its_placeholders_are_filled() {
     let out = bin().args(["rig", "check"]).arg(&f).output().unwrap();
     assert_eq!(out.status.code(), Some(2));
     assert!(
-        stderr(&out).contains(":23: arena.mark_reference: not filled in"),
+        stderr(&out).contains(":22: arena.mark_reference: not filled in"),
         "{}",
         stderr(&out)
     );

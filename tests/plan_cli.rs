@@ -300,3 +300,79 @@ fn without_start_plans_from_the_next_minute() {
     assert_eq!(start.timestamp() % 60, 0);
     assert_eq!(v["epochs"].as_array().unwrap().len(), 3);
 }
+
+#[test]
+fn each_epochs_cues_show_in_text_and_json() {
+    // The shipped protocols say what the animal sees: two-conditions' diffuser blocks the sun
+    // and the polarization; polarizer's filter turns with the arena.
+    let v = plan_json("two-conditions.toml", "2026-06-21T07:00:00Z");
+    assert_eq!(v["epochs"][0]["cues"]["sun"], "visible");
+    assert_eq!(v["epochs"][0]["cues"]["polarization"]["kind"], "sky");
+    assert_eq!(v["epochs"][4]["cues"]["sun"], "blocked");
+    assert_eq!(v["epochs"][4]["cues"]["polarization"]["kind"], "none");
+    let v = plan_json("polarizer.toml", "2026-06-21T07:00:00Z");
+    let pol = &v["epochs"][1]["cues"]["polarization"];
+    assert_eq!(pol["kind"], "filter");
+    assert_eq!(pol["turns_with"], "arena");
+    assert_eq!(pol["axis_deg"], 0.0);
+    let p = protocol("two-conditions.toml");
+    let out = plan(&[
+        "--protocol",
+        p.to_str().unwrap(),
+        "--start",
+        "2026-06-21T07:00:00Z",
+    ]);
+    let text = String::from_utf8(out.stdout).unwrap();
+    let sees: Vec<&str> = text
+        .lines()
+        .filter_map(|l| l.trim_start().strip_prefix("sees: "))
+        .collect();
+    assert_eq!(
+        sees,
+        [
+            "sun visible, sky polarization",
+            "sun blocked, no polarization"
+        ],
+        "{text}"
+    );
+}
+
+#[test]
+fn a_wall_that_hides_the_low_sun_draws_warnings() {
+    // The demo site from 07:00 UTC on 2026-06-21: the sun climbs from 30.1 deg (epoch 1) through
+    // 31 deg during epoch 2 (the plan's own elevations; the sun model is checked against pvlib
+    // in tests/engine_demo.rs). A wall hiding the sky below 31 deg keeps it out of view for
+    // the whole of epoch 1, and it enters the view during epoch 2.
+    let dir = tempfile::tempdir().unwrap();
+    let rig = dir.path().join("rig.toml");
+    // The rig template filled in as for the demo site (true north mark, no devices needed).
+    let text = skybearing::rig::config::filled_example().replace(
+        "sky_view_min_elevation_deg = 0.0",
+        "sky_view_min_elevation_deg = 31.0",
+    );
+    std::fs::write(&rig, text).unwrap();
+    let p = protocol("two-conditions.toml");
+    let out = plan(&[
+        "--protocol",
+        p.to_str().unwrap(),
+        "--rig",
+        rig.to_str().unwrap(),
+        "--start",
+        "2026-06-21T07:00:00Z",
+    ]);
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        text.contains("epoch 1: the sun is out of the animal's view for the whole epoch"),
+        "{text}"
+    );
+    assert!(
+        text.contains("epoch 2: the sun is out of the animal's view for part of the epoch"),
+        "{text}"
+    );
+    assert!(
+        text.contains("epoch 2: the sun enters the animal's view mid-epoch"),
+        "{text}"
+    );
+    // The diffuser epochs show no sun: no view warning for them.
+    assert!(!text.contains("epoch 5: the sun is out"), "{text}");
+}

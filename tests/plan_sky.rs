@@ -18,6 +18,7 @@ fn tropic() -> PlanSite {
         },
         time_zone: chrono_tz::UTC,
         mark_bearing_true_deg: 0.0,
+        sky_view_min_elevation_deg: 0.0,
     }
 }
 

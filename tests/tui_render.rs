@@ -776,6 +776,29 @@ fn heading_needle_is_solid_blocks_unlike_the_dashed_evector() {
 }
 
 #[test]
+fn the_dial_draws_the_evector_shown_and_none_under_a_diffuser() {
+    // The dashed axis is the e-vector the animal is shown: a filter's axis moves it, and a
+    // diffuser (no polarization) removes it.
+    let ui = UiState::default();
+    let count = |snap: &Snapshot| {
+        let buf = buffer(snap, &ui, 120, 40);
+        let theme = skybearing::tui::theme::Theme::new(ui.theme);
+        buf.content()
+            .iter()
+            .filter(|c| c.fg == theme.evector && c.symbol() != " ")
+            .count()
+    };
+    let mut snap = SnapshotBuilder::new().build();
+    snap.evector_shown_deg = Some(0.0);
+    let along_north = screen(&snap, &ui, 120, 40);
+    let shown = count(&snap);
+    snap.evector_shown_deg = Some(90.0);
+    assert_ne!(screen(&snap, &ui, 120, 40), along_north);
+    snap.evector_shown_deg = None;
+    assert!(shown > 0 && count(&snap) == 0, "{shown}");
+}
+
+#[test]
 fn epoch_table_shows_p_held_from_the_snapshot() {
     // The screen renders the engine's p_oriented as it is: a p, the floor as "≤0.001", and
     // "–" while the epoch holds too little flight for the test (None).

@@ -236,6 +236,9 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "turn_test_turns",
     "p_world_kept",
     "p_arena_kept",
+    "heading_slope_deg_per_h",
+    "heading_trend_r",
+    "sun_azimuth_rate_deg_per_h",
 ];
 
 /// Columns of `epochs.csv`.
@@ -259,6 +262,9 @@ pub const EPOCH_COLUMNS: &[&str] = &[
     "flying_s",
     "t_start_s",
     "t_end_s",
+    "cue",
+    "axial_r",
+    "mean_evector_rel_deg",
 ];
 
 /// Columns of `turns.csv`.
@@ -273,9 +279,15 @@ pub const TURN_COLUMNS: &[&str] = &[
     "turn_deg",
     "world_shift_deg",
     "arena_shift_deg",
+    "cue_predicted_shift_deg",
+    "cue_predicted_mod_deg",
 ];
 
-/// `sessions.csv`.
+/// `sessions.csv`. `heading_slope_deg_per_h` and `heading_trend_r` are the circular–linear
+/// regression of the session's scored world headings on time (10-s bins;
+/// [`crate::circular::heading_trend`]), `sun_azimuth_rate_deg_per_h` the sun's mean azimuth
+/// rate over the session: a heading that follows the sun has a slope near that rate, a
+/// world-fixed heading a slope near 0.
 pub fn sessions_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(SESSION_COLUMNS);
     for s in sessions {
@@ -304,6 +316,9 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
             },
             s.turn_test().and_then(|tt| tt.p_world_kept).into(),
             s.turn_test().and_then(|tt| tt.p_arena_kept).into(),
+            s.heading_trend.map(|h| h.slope_deg_per_h).into(),
+            s.heading_trend.map(|h| h.r).into(),
+            s.sun_azimuth_rate_deg_per_h.into(),
         ]);
     }
     t
@@ -318,7 +333,7 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
             let n = e.world.n();
             let has = n > 0;
             let (z, _) = crate::circular::rayleigh_test(n as f64, e.world.r());
-            t.push(vec![
+            let mut row: Vec<Cell> = vec![
                 s.info.id.as_str().into(),
                 animal.as_str().into(),
                 e.index.into(),
@@ -350,10 +365,26 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
                 e.flying_s.into(),
                 e.t_start_s.into(),
                 e.t_end_s.into(),
-            ]);
+            ];
+            // What the epoch showed, and its axial scores, from the session's summary.json.
+            let cue = epoch_cue(s, e.index);
+            row.push(cue.cue.map_or(Cell::Empty, Cell::from));
+            row.push(cue.axial_r.into());
+            row.push(cue.mean_evector_rel_deg.into());
+            t.push(row);
         }
     }
     t
+}
+
+/// The cue fields of epoch `index` in the session's `summary.json` (empty without one).
+fn epoch_cue(s: &SessionStats, index: usize) -> crate::archive::cue_scores::EpochCueScore {
+    s.info
+        .summary
+        .as_ref()
+        .and_then(|sm| sm.epochs.iter().find(|e| e.index == index))
+        .map(|e| e.cue.clone())
+        .unwrap_or_default()
 }
 
 /// `turns.csv` (a turn is listed when both its epochs are kept).
@@ -373,7 +404,7 @@ pub fn turns_table(sessions: &[SessionStats]) -> Table {
                     .map(|e| e.condition.clone())
                     .unwrap_or_default()
             };
-            t.push(vec![
+            let mut row: Vec<Cell> = vec![
                 s.info.id.as_str().into(),
                 animal.as_str().into(),
                 tr.from_epoch.into(),
@@ -384,7 +415,17 @@ pub fn turns_table(sessions: &[SessionStats]) -> Table {
                 tr.turn_deg.into(),
                 tr.world_shift_deg.into(),
                 tr.arena_shift_deg.into(),
-            ]);
+            ];
+            let pred = s
+                .info
+                .summary
+                .as_ref()
+                .and_then(|sm| sm.turns.iter().find(|x| x.index == tr.from_epoch))
+                .map(|x| x.cue.clone())
+                .unwrap_or_default();
+            row.push(pred.cue_predicted_shift_deg.into());
+            row.push(pred.cue_predicted_mod_deg.into());
+            t.push(row);
         }
     }
     t

@@ -10,11 +10,28 @@
 use super::session::SessionStats;
 use super::table::{Cell, Table};
 use crate::circular::{
-    HeadingAccumulator, describe_deg, hotelling_one_sample_test, moore_rayleigh_test,
-    rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
+    HeadingAccumulator, bootstrap_mean_ci95_deg, describe_deg, hermans_rasson_test,
+    hotelling_one_sample_test, hotelling_paired_test, moore_paired_test, moore_rayleigh_test,
+    rao_spacing_test, rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
 };
 use crate::frames::signed_difference_deg;
 use std::collections::{BTreeMap, BTreeSet};
+
+/// A p-value cell written so that it cannot be taken for an integer: always with a decimal
+/// point or an exponent ("1.0", "0.0156", "1e-6"); empty when there is no p.
+fn p_cell(p: Option<f64>) -> Cell {
+    match p {
+        Some(x) if x.is_finite() => {
+            let t = super::table::format_cell(&Cell::Num(x));
+            if t.contains(['.', 'e']) {
+                Cell::Text(t)
+            } else {
+                Cell::Text(format!("{t}.0"))
+            }
+        }
+        _ => Cell::Empty,
+    }
+}
 
 /// Mean direction and mean vector length of directions in degrees.
 fn mean_and_r(angles_deg: &[f64]) -> (Option<f64>, f64) {
@@ -102,9 +119,21 @@ pub const POPULATION_COLUMNS: &[&str] = &[
     "hotelling_p",
     "mean_vector_deg",
     "mean_vector_length",
+    "rao_spacing_u",
+    "rao_spacing_p",
+    "hermans_rasson_p",
+    "mean_ci95_low_deg",
+    "mean_ci95_high_deg",
 ];
 
-/// `population.csv`: one row per condition.
+/// `population.csv`: one row per condition. `rayleigh_*` test the animals' mean directions
+/// (unit vectors); `moore_*` and `hotelling_*` use their vector lengths too, and their p are
+/// the seeded randomization p of [`crate::circular::moore_rayleigh_test`] and
+/// [`crate::circular::hotelling_one_sample_test`] (calibrated for 4 to 30 animals in
+/// `circular::calibration`; the F tail of Hotelling's test is not reported). `rao_spacing_*`
+/// and `hermans_rasson_p` are omnibus tests of uniformity of the animals' mean directions
+/// (they also see bimodal populations; n ≥ 3), and `mean_ci95_*` the seeded percentile
+/// bootstrap 95% interval of their mean direction (n ≥ 5), read clockwise from low to high.
 pub fn population_table(vectors: &AnimalVectors) -> Table {
     let mut t = Table::new(POPULATION_COLUMNS);
     for (cond, vs) in vectors {
@@ -120,6 +149,9 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
         };
         let moore = moore_rayleigh_test(&d, &l).ok().map(|m| (m.r_star, m.p));
         let hot = hotelling_one_sample_test(&d, &l).ok().map(|h| (h.f, h.p));
+        let rao = rao_spacing_test(&d).ok();
+        let hr = hermans_rasson_test(&d).ok();
+        let ci = bootstrap_mean_ci95_deg(&d);
         // Second-order mean vector: the mean of the animals' vectors r_i (cos θ_i, sin θ_i).
         let (mv_deg, mv_len) = match second_order_mean(&d, &l) {
             Ok((m, len)) => (m, Some(len)),
@@ -132,18 +164,23 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
             mean.into(),
             if n > 0 { Cell::Num(r) } else { Cell::Empty },
             z.into(),
-            p.into(),
+            p_cell(p),
             moore.map(|m| m.0).into(),
-            moore.map(|m| m.1).into(),
+            p_cell(moore.map(|m| m.1)),
             hot.map(|h| h.0).into(),
             if hot.is_some() {
                 Cell::Num(n as f64 - 2.0)
             } else {
                 Cell::Empty
             },
-            hot.map(|h| h.1).into(),
+            p_cell(hot.map(|h| h.1)),
             mv_deg.into(),
             mv_len.into(),
+            rao.map(|r| r.statistic).into(),
+            p_cell(rao.map(|r| r.p)),
+            p_cell(hr.map(|h| h.p)),
+            ci.map(|c| c.0).into(),
+            ci.map(|c| c.1).into(),
         ]);
     }
     t
@@ -160,18 +197,30 @@ pub const COMPARISON_COLUMNS: &[&str] = &[
     "ww_f",
     "ww_df1",
     "ww_df2",
+    "ww_r_pooled",
+    "ww_concentration_ok",
     "ww_p",
 ];
 
-/// `comparisons.csv`: Watson–Williams test between the animals' preferred headings under
-/// every pair of conditions (conditions in name order, a < b).
+/// `comparisons.csv`: Watson–Williams test between the preferred headings of two independent
+/// groups of animals (every pair of conditions, in name order a < b, whose animal sets are
+/// disjoint; conditions measured on any of the same animals go to `paired.csv` instead).
+///
+/// `ww_r_pooled` is the pooled within-group mean vector length r_w and `ww_concentration_ok`
+/// (1/0) Zar's condition r_w ≥ 0.45 for the F approximation. `ww_p` is the seeded permutation
+/// p of the corrected F (see [`crate::circular::watson_williams_test`]), not the F tail: the
+/// calibration simulations show the F tail too liberal for populations of a few animals even
+/// where Zar's condition holds, the permutation p at its level throughout.
 pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
     let mut t = Table::new(COMPARISON_COLUMNS);
     let conds: Vec<&String> = vectors.keys().collect();
     for (i, a) in conds.iter().enumerate() {
         for b in &conds[i + 1..] {
-            let (da, _, _) = directions(&vectors[*a]);
-            let (db, _, _) = directions(&vectors[*b]);
+            let (da, _, na) = directions(&vectors[*a]);
+            let (db, _, nb) = directions(&vectors[*b]);
+            if na.iter().any(|x| nb.contains(x)) {
+                continue;
+            }
             let ww = watson_williams_test(&[&da, &db]).ok();
             t.push(vec![
                 a.as_str().into(),
@@ -183,7 +232,10 @@ pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
                 ww.as_ref().map(|w| w.f).into(),
                 ww.as_ref().map(|w| w.df.0).into(),
                 ww.as_ref().map(|w| w.df.1).into(),
-                ww.as_ref().map(|w| w.p).into(),
+                ww.as_ref().map(|w| w.r_pooled).into(),
+                ww.as_ref()
+                    .map_or(Cell::Empty, |w| w.concentration_ok.into()),
+                p_cell(ww.as_ref().map(|w| w.p_permutation)),
             ]);
         }
     }
@@ -200,6 +252,10 @@ pub const PAIRED_COLUMNS: &[&str] = &[
     "v",
     "v_u",
     "v_p",
+    "hotelling_f",
+    "hotelling_p",
+    "moore_r_star",
+    "moore_p",
 ];
 
 /// Columns of `paired_changes.csv`.
@@ -215,6 +271,14 @@ pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
 /// `paired.csv` (one row per pair of conditions: the change of preferred heading of each
 /// animal seen under both, b − a in (-180, 180], with a V-test toward 0, i.e. "the heading
 /// did not change") and `paired_changes.csv` (one row per animal and pair).
+///
+/// The same row carries Zar's paired-sample tests of the animals' preferred headings under the
+/// two conditions (Zar 2010 §27.13): the Hotelling-type test on the differences of the unit
+/// vectors (`hotelling_f`, `hotelling_p`) and Moore's paired test (`moore_r_star`, `moore_p`;
+/// Moore 1980). Both test whether the population's mean heading moved between the conditions;
+/// both p are sign-flip p (exact up to 12 animals; see [`crate::circular::hotelling_paired_test`]),
+/// calibrated in `circular::calibration`; with 4 or 5 animals they cannot go below 0.125 and
+/// 0.0625.
 pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
     let mut t = Table::new(PAIRED_COLUMNS);
     let mut detail = Table::new(PAIRED_CHANGE_COLUMNS);
@@ -222,6 +286,7 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
     for (i, a) in conds.iter().enumerate() {
         for b in &conds[i + 1..] {
             let mut changes = Vec::new();
+            let (mut heads_a, mut heads_b) = (Vec::new(), Vec::new());
             for (animal, va) in &vectors[*a] {
                 let Some(vb) = vectors[*b].get(animal) else {
                     continue;
@@ -231,6 +296,8 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
                 };
                 let ch = signed_difference_deg(ma, mb);
                 changes.push(ch);
+                heads_a.push(ma);
+                heads_b.push(mb);
                 detail.push(vec![
                     animal.as_str().into(),
                     a.as_str().into(),
@@ -245,6 +312,8 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
             }
             let (mean, r) = mean_and_r(&changes);
             let v = Some(v_test_deg(&changes, 0.0));
+            let hot = hotelling_paired_test(&heads_a, &heads_b).ok();
+            let moore = moore_paired_test(&heads_a, &heads_b).ok();
             t.push(vec![
                 a.as_str().into(),
                 b.as_str().into(),
@@ -253,7 +322,11 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
                 r.into(),
                 v.map(|v| v.v).into(),
                 v.map(|v| v.u).into(),
-                v.map(|v| v.p).into(),
+                p_cell(v.map(|v| v.p)),
+                hot.map(|h| h.statistic).into(),
+                p_cell(hot.map(|h| h.p)),
+                moore.map(|m| m.statistic).into(),
+                p_cell(moore.map(|m| m.p)),
             ]);
         }
     }
@@ -305,7 +378,7 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
             } else {
                 Cell::Empty
             },
-            p.into(),
+            p_cell(p),
             mean_r.into(),
             ss.iter().map(|s| s.flying_s).sum::<f64>().into(),
         ]);
@@ -379,8 +452,10 @@ mod tests {
         assert_eq!(cell(&pop, 1, "hotelling_df2"), "1");
 
         let cmp = comparisons_table(&v);
-        let p: f64 = cell(&cmp, 0, "ww_p").parse().unwrap();
-        assert!(p < 0.01, "90° apart: {p}");
+        assert!(
+            cmp.rows.is_empty(),
+            "the same animals under both conditions are not independent groups"
+        );
 
         let (paired, changes) = paired_tables(&v);
         assert_eq!(cell(&paired, 0, "animals"), "3");
@@ -393,6 +468,11 @@ mod tests {
             "changes of −90° are no evidence of 'no change': {vp}"
         );
         assert_eq!(changes.rows.len(), 3);
+        // Three animals: the paired tests are defined; the exact sign-flip p cannot go below
+        // 2/2³.
+        let hp: f64 = cell(&paired, 0, "hotelling_p").parse().unwrap();
+        assert!(hp >= 0.25 - 1e-12, "{hp}");
+        assert!(!cell(&paired, 0, "moore_r_star").is_empty());
 
         let animals = animals_table(&refs);
         assert_eq!(cell(&animals, 0, "animal"), "lm-01");
@@ -402,5 +482,40 @@ mod tests {
             "",
             "one session: no spread"
         );
+    }
+
+    #[test]
+    fn p_values_never_look_like_integers() {
+        assert_eq!(format_cell(&p_cell(Some(1.0))), "1.0");
+        assert_eq!(format_cell(&p_cell(Some(0.0))), "0.0");
+        assert_eq!(format_cell(&p_cell(Some(0.0156))), "0.0156");
+        assert_eq!(format_cell(&p_cell(Some(1e-7))), "1e-7");
+        assert_eq!(format_cell(&p_cell(None)), "");
+    }
+
+    #[test]
+    fn watson_williams_compares_only_independent_groups_by_permutation() {
+        // Six animals under "open sky" near 20°, six others under "diffuser" near 110°.
+        let mut ss = Vec::new();
+        for i in 0..6 {
+            let mut s = session(&format!("a{i}"), &format!("lm-0{i}"), 20.0 + i as f64, 0.0);
+            s.epochs.truncate(1);
+            ss.push(s);
+            let mut s = session(&format!("b{i}"), &format!("lm-1{i}"), 110.0 - i as f64, 0.0);
+            s.epochs.truncate(1);
+            s.epochs[0].condition = "diffuser".into();
+            ss.push(s);
+        }
+        let refs: Vec<&SessionStats> = ss.iter().collect();
+        let v = animal_vectors(&refs);
+        let cmp = comparisons_table(&v);
+        assert_eq!(cmp.rows.len(), 1);
+        assert_eq!(cell(&cmp, 0, "ww_concentration_ok"), "1");
+        let p: f64 = cell(&cmp, 0, "ww_p").parse().unwrap();
+        // 924 ways to split 12 animals 6/6; only the observed split and its mirror are as
+        // extreme, so the permutation p is about 2/924 (Monte Carlo, B = 9999).
+        assert!(p > 0.0005 && p < 0.006, "90° apart: {p}");
+        let (paired, _) = paired_tables(&v);
+        assert!(paired.rows.is_empty(), "no animal under both conditions");
     }
 }

@@ -273,6 +273,7 @@ pub fn summary_text(s: &SessionStats) -> String {
                 .map_or("- (fewer than 3 turns)".into(), fmt_p),
         );
     }
+    cue_text(s, &mut t);
     let _ = writeln!(t);
     let _ = writeln!(
         t,
@@ -282,6 +283,55 @@ pub fn summary_text(s: &SessionStats) -> String {
          of flight). Report p_oriented, not p."
     );
     t
+}
+
+/// What each epoch showed, the axial scores of polarization-only epochs and each turn's
+/// prediction under the cue shown (from `summary.json`; nothing for archives without cues).
+fn cue_text(s: &SessionStats, t: &mut String) {
+    let Some(sm) = s.info.summary.as_ref() else {
+        return;
+    };
+    if sm.epochs.iter().all(|e| e.cue.cue.is_none()) {
+        return;
+    }
+    let _ = writeln!(t);
+    let _ = writeln!(
+        t,
+        "{:>5}  {:<13} {:>8} {:>11}",
+        "epoch", "cue", "axial r", "rel e-vec°"
+    );
+    for e in &sm.epochs {
+        let _ = writeln!(
+            t,
+            "{:>5}  {:<13} {:>8} {:>11}",
+            e.index,
+            e.cue.cue.as_deref().unwrap_or("-"),
+            fmt_opt(e.cue.axial_r, 3),
+            fmt_opt(e.cue.mean_evector_rel_deg, 1)
+        );
+    }
+    let _ = writeln!(
+        t,
+        "cue: what the scored samples showed (sun in view; polarization only; none; mixed). \
+         Under polarization only, headings are also scored as axial data relative to the \
+         e-vector shown (angles doubled; 0 = along it, 90 = across it)."
+    );
+    let preds: Vec<String> = sm
+        .turns
+        .iter()
+        .filter_map(|tr| {
+            let p = tr.cue.cue_predicted_shift_deg?;
+            let m = tr.cue.cue_predicted_mod_deg.unwrap_or(360.0);
+            Some(format!("turn {}: {p:.1}° (mod {m:.0})", tr.index))
+        })
+        .collect();
+    if !preds.is_empty() {
+        let _ = writeln!(
+            t,
+            "world shift expected when steering by the cue shown: {}",
+            preds.join(", ")
+        );
+    }
 }
 
 fn or_dash(s: &str) -> &str {

@@ -113,6 +113,10 @@ pub struct SessionStats {
     pub duration_s: f64,
     /// samples.csv ended in a torn line that was left out.
     pub torn_tail: bool,
+    /// Circular–linear regression of the scored world headings on time (10-s bins).
+    pub heading_trend: Option<crate::circular::HeadingTrend>,
+    /// The sun's mean azimuth rate over the session, degrees per hour.
+    pub sun_azimuth_rate_deg_per_h: Option<f64>,
 }
 
 impl SessionStats {
@@ -158,6 +162,31 @@ pub struct SessionPass {
     rows: u64,
     flying_s: f64,
     duration_s: f64,
+    /// Scored world headings summed per [`TREND_BIN_S`] bin: (bin, Σt_s, Σcos, Σsin, count).
+    bins: Vec<(i64, f64, f64, f64, u64)>,
+    /// Sun azimuth: (first t_s, last t_s, last azimuth, unwrapped change since the first).
+    sun: Option<(f64, f64, f64, f64)>,
+}
+
+/// Width of the time bins of the heading-on-time regression, seconds.
+pub const TREND_BIN_S: f64 = 10.0;
+
+/// The heading trend of the binned headings: each bin's mean direction weighted by its
+/// resultant length times its sample count (so a bin of scattered headings counts little).
+fn trend_of_bins(bins: &[(i64, f64, f64, f64, u64)]) -> Option<crate::circular::HeadingTrend> {
+    let (mut t, mut h, mut w) = (Vec::new(), Vec::new(), Vec::new());
+    for &(_, st, c, s, n) in bins {
+        if n == 0 {
+            continue;
+        }
+        let Some(m) = crate::circular::mean_direction_from_resultant_deg(c, s, n as f64) else {
+            continue;
+        };
+        t.push(st / n as f64 / 3600.0);
+        h.push(m);
+        w.push(c.hypot(s));
+    }
+    crate::circular::heading_trend(&t, &h, &w)
 }
 
 impl SessionPass {
@@ -172,6 +201,8 @@ impl SessionPass {
             rows: 0,
             flying_s: 0.0,
             duration_s: 0.0,
+            bins: Vec::new(),
+            sun: None,
         }
     }
 
@@ -192,6 +223,30 @@ impl SessionPass {
         }
         self.prev = Some((s.t_s, s.flying, s.epoch, s.scored));
         let counts = s.scored && s.world_heading_deg.is_finite() && s.arena_heading_deg.is_finite();
+        if s.sun_azimuth_deg.is_finite() && s.t_s.is_finite() {
+            self.sun = Some(match self.sun {
+                None => (s.t_s, s.t_s, s.sun_azimuth_deg, 0.0),
+                Some((t0, _, last, total)) => (
+                    t0,
+                    s.t_s,
+                    s.sun_azimuth_deg,
+                    total + offset_deg(last, s.sun_azimuth_deg),
+                ),
+            });
+        }
+        if counts && s.t_s.is_finite() {
+            let bin = (s.t_s / TREND_BIN_S).floor() as i64;
+            if self.bins.last().is_none_or(|b| b.0 != bin) {
+                self.bins.push((bin, 0.0, 0.0, 0.0, 0));
+            }
+            if let Some(b) = self.bins.last_mut() {
+                let (sn, cs) = s.world_heading_deg.to_radians().sin_cos();
+                b.1 += s.t_s;
+                b.2 += cs;
+                b.3 += sn;
+                b.4 += 1;
+            }
+        }
         if s.epoch == 0 {
             if counts {
                 self.outside_world.push_deg(s.world_heading_deg);
@@ -271,7 +326,13 @@ impl SessionPass {
             world.merge(&e.world);
             arena.merge(&e.arena);
         }
+        let heading_trend = trend_of_bins(&self.bins);
+        let sun_azimuth_rate_deg_per_h = self
+            .sun
+            .and_then(|(t0, t1, _, total)| (t1 > t0).then(|| total / (t1 - t0) * 3600.0));
         SessionStats {
+            heading_trend,
+            sun_azimuth_rate_deg_per_h,
             world,
             arena,
             info: self.info,
@@ -361,6 +422,35 @@ fn analyse(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_heading_that_follows_the_sun_has_the_suns_slope() {
+        // Two hours at 10 Hz; the sun moves 15°/h from 120°, the animal holds 40° left of it
+        // (time-compensation failing: it follows the sun), scored throughout.
+        let mut pass = SessionPass::new(SessionInfo::default());
+        for i in 0..72_000 {
+            let t_s = i as f64 * 0.1;
+            let sun = crate::frames::wrap_360_deg(120.0 + 15.0 * t_s / 3600.0);
+            pass.push(&Row {
+                t_s,
+                epoch: 1,
+                world_heading_deg: crate::frames::wrap_360_deg(
+                    sun - 40.0 + 5.0 * (i as f64 * 0.37).sin(),
+                ),
+                arena_heading_deg: 0.0,
+                arena_bearing_deg: 0.0,
+                sun_azimuth_deg: sun,
+                sun_elevation_deg: 30.0,
+                flying: true,
+                scored: true,
+            });
+        }
+        let st = pass.finish(false);
+        let trend = st.heading_trend.unwrap();
+        assert!((trend.slope_deg_per_h - 15.0).abs() < 0.1, "{trend:?}");
+        let rate = st.sun_azimuth_rate_deg_per_h.unwrap();
+        assert!((rate - 15.0).abs() < 1e-6, "{rate}");
+    }
 
     #[test]
     fn offset_matches_signed_difference() {

@@ -425,10 +425,14 @@ pub fn check_session(dir: &Path) -> CheckReport {
         }
     }
     // events.csv
+    let mut unscored = Vec::new();
     match read::read_events(&dir.join(EVENTS_FILE)) {
         Err(e) => r.problems.push(e.to_string()),
         Ok((ev, st)) => {
             r.events = st.rows;
+            unscored = super::summary::unscored_turns(
+                ev.iter().map(|e| (e.kind.as_str(), e.detail.as_str())),
+            );
             for b in &st.set_aside {
                 r.problems.push(format!(
                     "events.csv:{}: malformed line ({}); 'skybearing check --repair' sets it aside in events.csv.torn and keeps the lines after it",
@@ -465,10 +469,12 @@ pub fn check_session(dir: &Path) -> CheckReport {
                 Err(e) => r.problems.push(e.to_string()),
                 Ok((stored, keys)) => {
                     if let Some(computed) = pass.as_ref().and_then(|p| p.summary.as_ref()) {
-                        if let Some(loss) = lost_samples(&stored, computed) {
+                        let mut computed = computed.clone();
+                        super::summary::drop_unscored_turns(&mut computed, &unscored);
+                        if let Some(loss) = lost_samples(&stored, &computed) {
                             r.problems.push(format!("samples.csv: {loss}"));
                         }
-                        for d in compare_stored_summary(&stored, &keys, computed) {
+                        for d in compare_stored_summary(&stored, &keys, &computed) {
                             r.problems.push(format!("summary.json: {d}"));
                         }
                     }
@@ -650,10 +656,13 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
             .push("events.csv was missing: created it with its header".into());
     }
     let (events, ev_stats) = read::read_events(&events_path)?;
-    let computed = pass
+    let mut computed = pass
         .summary
         .clone()
         .unwrap_or_else(|| SummaryBuilder::new(&meta.epochs).summary());
+    let unscored =
+        super::summary::unscored_turns(events.iter().map(|e| (e.kind.as_str(), e.detail.as_str())));
+    super::summary::drop_unscored_turns(&mut computed, &unscored);
     let stored = read_stored_summary(&dir.join(SUMMARY_FILE));
     if closed
         && let Ok((stored, _)) = &stored

@@ -245,6 +245,7 @@ mod tests {
             r: 0.5,
             rayleigh_p: 0.2,
             p_oriented: p,
+            cue: Default::default(),
         };
         Summary {
             epochs: vec![epoch(1), epoch(2)],
@@ -253,6 +254,7 @@ mod tests {
                 turn_deg: 90.0,
                 world_shift_deg: Some(0.0),
                 window_shift_deg: shift,
+                cue: Default::default(),
             }],
             r_world: 0.5,
             r_arena: 0.4,

@@ -28,6 +28,7 @@
 pub mod atomic;
 pub mod check;
 mod compare;
+pub mod cue_scores;
 pub mod fmt;
 pub mod lock;
 pub mod malformed;
@@ -63,6 +64,8 @@ pub const SAMPLE_COLUMNS: &[&str] = &[
     "sun_relative_heading_deg",
     "zenith_evector_deg",
     "raw",
+    "sun_in_view",
+    "evector_shown_deg",
 ];
 
 /// The header of `events.csv`.
@@ -99,6 +102,12 @@ pub struct SampleRow {
     pub zenith_evector_deg: f64,
     /// The raw sensor value as received.
     pub raw: f64,
+    /// The sun's disc was in the animal's view (cue visible, above the horizon and the arena's
+    /// sky view limit).
+    pub sun_in_view: bool,
+    /// World axis [0, 180) of the e-vector the animal was shown (sky or filter); None without
+    /// polarization (written empty).
+    pub evector_shown_deg: Option<f64>,
 }
 
 /// One row of `events.csv`.
@@ -156,6 +165,9 @@ pub struct EpochSummary {
     /// The calibrated orientation test of the world headings
     /// ([`crate::circular::OrientationTracker`]); None with too little flight to say.
     pub p_oriented: Option<f64>,
+    /// What the animal was shown, and the axial scores under polarization only.
+    #[serde(flatten)]
+    pub cue: cue_scores::EpochCueScore,
 }
 
 /// `EpochSummary` as stored (archives written before `p_oriented` existed read as None).
@@ -174,6 +186,9 @@ struct EpochSummaryFile {
     rayleigh_p: f64,
     #[serde(default)]
     p_oriented: Option<f64>,
+    /// Archives written before cues were recorded read as no cue scores.
+    #[serde(flatten)]
+    cue: cue_scores::EpochCueScore,
 }
 
 impl From<EpochSummaryFile> for EpochSummary {
@@ -188,6 +203,7 @@ impl From<EpochSummaryFile> for EpochSummary {
             r: f.r,
             rayleigh_p: f.rayleigh_p,
             p_oriented: f.p_oriented,
+            cue: f.cue,
         }
     }
 }
@@ -202,6 +218,9 @@ pub struct TurnSummary {
     pub turn_deg: f64,
     /// Mean world heading after minus before, (-180, 180]; None if either side has no data.
     pub world_shift_deg: Option<f64>,
+    /// What steering by the cue shown predicts for the shift.
+    #[serde(flatten)]
+    pub cue: cue_scores::TurnCuePrediction,
     /// World shift on comparable windows: the mean of the first W scored seconds after the
     /// turn (after the settle window) minus that of the last W scored seconds before, W =
     /// min(TURN_WINDOW_S, the scored flight of either epoch); None below MIN_TURN_WINDOW_S.
@@ -747,6 +766,7 @@ mod tests {
                 r: f64::NAN,
                 rayleigh_p: f64::NAN,
                 p_oriented: None,
+                cue: Default::default(),
             }],
             turns: vec![],
             r_world: 0.5,

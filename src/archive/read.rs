@@ -51,6 +51,11 @@ pub struct SampleFields<'a> {
     pub sun_relative_heading_deg: f64,
     /// Zenith e-vector axis; NaN when the column is absent.
     pub zenith_evector_deg: f64,
+    /// The sun's disc was in the animal's view; None when the column is absent (archives
+    /// written before cues were recorded).
+    pub sun_in_view: Option<bool>,
+    /// World axis of the e-vector shown; NaN when empty (no polarization) or absent.
+    pub evector_shown_deg: f64,
     /// The raw sensor value; NaN when the column is absent or not a number.
     pub raw: f64,
 }
@@ -98,6 +103,8 @@ enum Role {
     Scored,
     SunRel,
     Evector,
+    SunInView,
+    EvectorShown,
     Raw,
     Skip,
 }
@@ -116,6 +123,8 @@ fn role_of(name: &str) -> Role {
         "scored" => Role::Scored,
         "sun_relative_heading_deg" => Role::SunRel,
         "zenith_evector_deg" => Role::Evector,
+        "sun_in_view" => Role::SunInView,
+        "evector_shown_deg" => Role::EvectorShown,
         "raw" => Role::Raw,
         _ => Role::Skip,
     }
@@ -229,6 +238,8 @@ fn empty_fields(line: u64) -> SampleFields<'static> {
         scored: false,
         sun_relative_heading_deg: f64::NAN,
         zenith_evector_deg: f64::NAN,
+        sun_in_view: None,
+        evector_shown_deg: f64::NAN,
         raw: f64::NAN,
     }
 }
@@ -247,6 +258,8 @@ fn column_name(role: Role) -> &'static str {
         Role::Scored => "scored",
         Role::SunRel => "sun_relative_heading_deg",
         Role::Evector => "zenith_evector_deg",
+        Role::SunInView => "sun_in_view",
+        Role::EvectorShown => "evector_shown_deg",
         Role::Raw => "raw",
         Role::Skip => "(extra)",
     }
@@ -309,6 +322,14 @@ fn set_field(f: &mut SampleFields<'_>, role: Role, text: &[u8]) -> Result<(), St
         Role::Scored => f.scored = flag(text)?,
         Role::SunRel => f.sun_relative_heading_deg = num(text)?,
         Role::Evector => f.zenith_evector_deg = num(text)?,
+        Role::SunInView => f.sun_in_view = Some(flag(text)?),
+        Role::EvectorShown => {
+            f.evector_shown_deg = if text.is_empty() {
+                f64::NAN
+            } else {
+                num(text)?
+            }
+        }
         // Read, not enforced: `check` reports a raw value that is not a finite number.
         Role::Raw => f.raw = parse_f64(text).unwrap_or(f64::NAN),
     }

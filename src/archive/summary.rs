@@ -7,6 +7,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::cue_scores::EpochCues;
 use super::fmt::{quantize_angle_deg, quantize_fixed};
 use super::read::SampleFields;
 use super::windows::{EdgeWindows, window_shift_deg};
@@ -78,13 +79,15 @@ impl Chain {
 
 #[derive(Debug, Clone)]
 struct EpochAcc {
-    /// `seq` of the last sample that changed this epoch's figures (0: none yet).
+    /// [`SummaryBuilder`]'s change count when a sample last changed this epoch's figures
+    /// (0: none yet).
     changed_seq: u64,
     planned: PlannedEpoch,
     world: Chain,
     arena: Chain,
     bearing_scored_deg: Option<f64>,
     bearing_any_deg: Option<f64>,
+    cues: EpochCues,
     /// The orientation test of scored world headings.
     oriented: OrientationTracker,
     /// First and last windows of scored world headings (the turn test).
@@ -133,6 +136,8 @@ pub struct SummaryBuilder {
     other_world: Chain,
     other_arena: Chain,
     seq: u64,
+    /// Changes made to epochs' figures so far (marks which lines [`EpochCache`] must redo).
+    changes: u64,
 }
 
 impl SummaryBuilder {
@@ -153,6 +158,7 @@ impl SummaryBuilder {
                     arena: Chain::default(),
                     bearing_scored_deg: None,
                     bearing_any_deg: None,
+                    cues: EpochCues::default(),
                     oriented: OrientationTracker::new(),
                     edges: EdgeWindows::default(),
                 })
@@ -161,6 +167,7 @@ impl SummaryBuilder {
             other_world: Chain::default(),
             other_arena: Chain::default(),
             seq: 0,
+            changes: 0,
         }
     }
 
@@ -175,6 +182,15 @@ impl SummaryBuilder {
             row.world_heading_deg,
             row.scored,
         );
+        self.push_cues(
+            row.epoch,
+            row.arena_heading_deg,
+            row.world_heading_deg,
+            row.scored,
+            Some(row.sun_in_view),
+            row.evector_shown_deg.unwrap_or(f64::NAN),
+            row.sun_azimuth_deg,
+        );
     }
 
     /// Adds one sample read back from `samples.csv`.
@@ -188,6 +204,43 @@ impl SummaryBuilder {
             s.world_heading_deg,
             s.scored,
         );
+        self.push_cues(
+            s.epoch,
+            s.arena_heading_deg,
+            s.world_heading_deg,
+            s.scored,
+            s.sun_in_view,
+            s.evector_shown_deg,
+            s.sun_azimuth_deg,
+        );
+    }
+
+    /// Adds what the animal was shown at one sample to its epoch's cue scores (see
+    /// [`super::cue_scores`]); the same samples count as in [`SummaryBuilder::push_values`].
+    #[allow(clippy::too_many_arguments)]
+    #[inline]
+    pub fn push_cues(
+        &mut self,
+        epoch: usize,
+        arena_heading_deg: f64,
+        world_heading_deg: f64,
+        scored: bool,
+        sun_in_view: Option<bool>,
+        evector_shown_deg: f64,
+        sun_azimuth_deg: f64,
+    ) {
+        let arena = quantize_angle_deg(arena_heading_deg, ANGLE_DECIMALS);
+        let world = quantize_angle_deg(world_heading_deg, ANGLE_DECIMALS);
+        if !(scored && arena.is_finite() && world.is_finite()) {
+            return;
+        }
+        if let Some(pos) = self.lookup.get(epoch).copied().flatten() {
+            self.changes += 1;
+            let e = &mut self.epochs[pos];
+            e.changed_seq = self.changes;
+            e.cues
+                .push(world, sun_in_view, evector_shown_deg, sun_azimuth_deg);
+        }
     }
 
     /// Adds one sample from its values (rounded first to the archive's angle and time
@@ -212,7 +265,8 @@ impl SummaryBuilder {
         if let Some(pos) = pos {
             let e = &mut self.epochs[pos];
             if e.bearing_any_deg.is_none() || (counts && e.bearing_scored_deg.is_none()) {
-                e.changed_seq = seq;
+                self.changes += 1;
+                e.changed_seq = self.changes;
                 let bearing = quantize_angle_deg(arena_bearing_deg, ANGLE_DECIMALS);
                 if bearing.is_finite() {
                     if e.bearing_any_deg.is_none() {
@@ -224,7 +278,8 @@ impl SummaryBuilder {
                 }
             }
             if counts {
-                e.changed_seq = seq;
+                self.changes += 1;
+                e.changed_seq = self.changes;
                 if e.world.last_seq.is_some_and(|last| last + 1 != seq) {
                     e.oriented.mark_gap();
                 }
@@ -367,6 +422,7 @@ impl SummaryBuilder {
             r: if empty { f64::NAN } else { w.r() },
             rayleigh_p: if empty { f64::NAN } else { w.rayleigh_p() },
             p_oriented,
+            cue: e.cues.score(),
         }
     }
 
@@ -411,6 +467,7 @@ impl SummaryBuilder {
                     index: k,
                     turn_deg: self.epochs[k].planned.turn_before_deg,
                     world_shift_deg: shift,
+                    cue: EpochCues::predict(&self.epochs[k - 1].cues, &self.epochs[k].cues),
                     window_shift_deg: window_shift_deg(
                         &self.epochs[k - 1].edges,
                         &self.epochs[k].edges,
@@ -423,6 +480,42 @@ impl SummaryBuilder {
             turns,
             r_world: self.r_world(),
             r_arena: self.r_arena(),
+        }
+    }
+}
+
+/// Kind of the event that marks a turn whose world shift is not scored (the arena could not be
+/// turned, or it was turned while the heading sensor was lost); its detail begins "turn K:".
+pub const TURN_NOT_SCORED_EVENT: &str = "turn_not_scored";
+
+/// The turns (1-based) that [`TURN_NOT_SCORED_EVENT`] events mark, in the order recorded
+/// (from each event's kind and detail).
+pub fn unscored_turns<'a>(events: impl IntoIterator<Item = (&'a str, &'a str)>) -> Vec<usize> {
+    let mut out: Vec<usize> = Vec::new();
+    for (_, detail) in events
+        .into_iter()
+        .filter(|(kind, _)| *kind == TURN_NOT_SCORED_EVENT)
+    {
+        let k = detail
+            .strip_prefix("turn ")
+            .and_then(|rest| rest.split(':').next())
+            .and_then(|k| k.trim().parse().ok());
+        if let Some(k) = k
+            && !out.contains(&k)
+        {
+            out.push(k);
+        }
+    }
+    out
+}
+
+/// Removes the world shifts (epoch means and windows) of `turns` from `summary`: they are not
+/// scored whatever the headings say, and the turn test leaves them out. The engine and `check` both apply it, so they agree.
+pub fn drop_unscored_turns(summary: &mut Summary, turns: &[usize]) {
+    for t in &mut summary.turns {
+        if turns.contains(&t.index) {
+            t.world_shift_deg = None;
+            t.window_shift_deg = None;
         }
     }
 }

@@ -214,6 +214,12 @@ impl SessionWriter {
         push_axial_deg(b, row.zenith_evector_deg, ANGLE_DECIMALS);
         b.push(b',');
         push_exact(b, row.raw);
+        b.push(b',');
+        b.push(if row.sun_in_view { b'1' } else { b'0' });
+        b.push(b',');
+        if let Some(e) = row.evector_shown_deg {
+            push_axial_deg(b, e, ANGLE_DECIMALS);
+        }
         b.push(b'\n');
         self.samples_written += 1;
         if self.sample_buf.len() >= FLUSH_AT_BYTES {
@@ -446,6 +452,8 @@ pub(crate) mod tests {
             sun_relative_heading_deg: crate::frames::wrap_360_deg(world - 120.0 - t_s * 0.004),
             zenith_evector_deg: 30.0,
             raw: 0.1 * k as f64,
+            sun_in_view: true,
+            evector_shown_deg: Some(30.0),
         }
     }
 

@@ -13,24 +13,40 @@
 //! very long series (10^8 samples and more).
 
 mod accumulator;
+#[cfg(test)]
+mod calibration;
 mod oriented;
 mod oriented_table;
+mod paired;
+pub mod randomization;
+mod regression;
 mod second_order;
 mod sum;
 mod trig;
 mod turn_test;
+mod uniformity;
 
 pub use accumulator::{HeadingAccumulator, effective_sample_size_deg};
 pub use oriented::{
     BIN_S, LAG_MAX_S, LAG_MIN_S, LAMBDA_TABLE_MAX, MIN_SCORED_S, OrientationTest,
     OrientationTracker, P_FLOOR, bin_index, orientation_test_series, walk_mean_r2, walk_null_p,
 };
+pub use paired::{
+    PairedResult, hotelling_paired_test, hotelling_paired_test_with, moore_paired_test,
+    moore_paired_test_with,
+};
+pub use regression::{HeadingTrend, MAX_SLOPE_DEG_PER_H, heading_trend, unwrapped_rate_deg_per_h};
 pub use second_order::{
-    HotellingResult, MooreResult, WatsonWilliamsResult, hotelling_one_sample_test,
-    moore_rayleigh_test, second_order_mean, watson_williams_test,
+    HotellingResult, MooreResult, WW_MIN_POOLED_R, WatsonWilliamsResult, hotelling_one_sample_test,
+    hotelling_one_sample_test_with, moore_rayleigh_test, moore_rayleigh_test_with,
+    second_order_mean, watson_williams_test, watson_williams_test_with,
 };
 pub use turn_test::{
     EXACT_MAX_N, MIN_TURNS, TurnTestResult, turn_compensation_test, v_test_p_small_n,
+};
+pub use uniformity::{
+    BOOTSTRAP_RESAMPLES, UniformityResult, bootstrap_mean_ci95_deg, bootstrap_mean_ci95_deg_with,
+    hermans_rasson_test, hermans_rasson_test_with, rao_spacing_test, rao_spacing_test_with,
 };
 
 use crate::frames::{wrap_360_deg, wrap_axial_deg};

@@ -13,8 +13,11 @@ use std::path::PathBuf;
 /// Which cue the simulated animal steers by.
 #[derive(Debug, Clone, Copy, ValueEnum, PartialEq, Eq)]
 pub enum AnimalModeArg {
-    /// Holds a heading relative to the sun (a sky-compass animal).
+    /// A sky-compass animal: its own heading relative to the sun while the sun is in view,
+    /// else an axial heading relative to the e-vector shown, else a random walk.
     Sky,
+    /// Steers by the e-vector shown only, else a random walk.
+    Polarization,
     /// Holds a heading relative to the arena.
     Arena,
     /// Random walk.
@@ -66,6 +69,10 @@ pub struct DemoArgs {
     /// Monochrome screen (also when NO_COLOR is set).
     #[arg(long)]
     pub mono: bool,
+    /// Start although the sun is below the horizon during the session (the warnings are still
+    /// printed). Without it the live screen asks first and a headless run refuses.
+    #[arg(long)]
+    pub allow_no_sun: bool,
 }
 
 /// Parses `--speed`: a positive factor or `max`.
@@ -156,12 +163,15 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
     .context("demo site")?;
     let mode = match args.animal_mode {
         AnimalModeArg::Sky => AnimalMode::Sky,
+        AnimalModeArg::Polarization => AnimalMode::Polarization,
         AnimalModeArg::Arena => AnimalMode::Arena,
         AnimalModeArg::None => AnimalMode::None,
     };
     let mut sim = SimConfig::new(args.seed);
     sim.animal_mode = mode;
+    sim.sun_elevation_deg = track.clone().into_elevation_fn();
     sim.sun_azimuth_deg = track.into_azimuth_fn();
+    sim.sky_view_min_elevation_deg = rig.sky_view_min_elevation_deg;
     sim.arena_mark_true_bearing_deg = rig.arena_mark_bearing_deg;
     sim.rate_hz = args.rate_hz;
     sim.garbage_fraction = args.garbage;
@@ -171,6 +181,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
     let sim_settings = serde_json::json!({
         "seed": args.seed,
         "animal_mode": format!("{:?}", args.animal_mode).to_lowercase(),
+        "preferred_sun_relative_deg": sim.goal_deg,
         "rate_hz": args.rate_hz,
         "garbage": args.garbage,
         "unplug_at_s": args.unplug_at,
@@ -189,6 +200,10 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
         seed: Some(args.seed),
         extra: serde_json::json!({ "simulator": sim_settings }),
     };
+    for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
+        eprintln!("skybearing: warning: {w}");
+    }
+    let no_sun = crate::cli::launch::no_sun_warnings(&setup.protocol, &setup.rig, start_utc)?;
     let engine = Engine::new(setup)?;
     let clock = match args.speed {
         Speed::Max => EngineClock::Sim(SimClock::new()),
@@ -204,6 +219,8 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
             mono: args.mono,
             auto_confirm_after_s: Some(5.0),
             stdin_commands: true,
+            no_sun,
+            allow_no_sun: args.allow_no_sun,
         },
         Some(operator),
     )?;

@@ -114,13 +114,15 @@ pub fn plan_site_from_rig(
     rig: &Rig,
     start: DateTime<Utc>,
 ) -> anyhow::Result<(PlanSite, Option<MagneticMark>)> {
-    plan_site_from_parts(
+    let (mut site, magnetic) = plan_site_from_parts(
         &rig.site,
         &rig.time_zone,
         rig.arena_mark_bearing_deg,
         rig.arena_mark_reference,
         start,
-    )
+    )?;
+    site.sky_view_min_elevation_deg = rig.sky_view_min_elevation_deg;
+    Ok((site, magnetic))
 }
 
 /// As [`plan_site_from_rig`], from the rig's parts.
@@ -165,6 +167,7 @@ pub fn plan_site_from_parts(
             site: site.clone(),
             time_zone,
             mark_bearing_true_deg,
+            sky_view_min_elevation_deg: 0.0,
         },
         magnetic,
     ))
@@ -342,7 +345,13 @@ pub fn render_text(plan: &Plan, tz: Tz) -> String {
     let rule: Vec<String> = widths.iter().map(|w| "-".repeat(*w)).collect();
     let _ = writeln!(out, "{}", line(&rule));
     let indent = widths[0] + 2;
+    let mut cues_shown: Option<crate::protocol::Cues> = None;
     for (r, e) in rows.iter().zip(&plan.epochs) {
+        if cues_shown != Some(e.cues) {
+            // What the animal sees, from this epoch on (until the next such line).
+            let _ = writeln!(out, "{}sees: {}", " ".repeat(indent), e.cues.describe());
+            cues_shown = Some(e.cues);
+        }
         if let Some(p) = &e.prompt {
             let _ = writeln!(
                 out,

@@ -26,12 +26,17 @@ pub struct RunArgs {
     #[arg(long)]
     pub sessions: Option<PathBuf>,
     /// No screen: progress lines on stdout; operator words on stdin (ok, stop, fly, note TEXT,
-    /// pause, resume, skip, end).
+    /// pause, resume, skip, end; at a turn prompt `cannot` = could not turn; `hand` = every
+    /// later turn by hand).
     #[arg(long)]
     pub headless: bool,
     /// Monochrome screen (also when NO_COLOR is set).
     #[arg(long)]
     pub mono: bool,
+    /// Start although the sun is below the horizon during the session (the warnings are still
+    /// printed). Without it the live screen asks first and a headless run refuses.
+    #[arg(long)]
+    pub allow_no_sun: bool,
 }
 
 /// Runs the command; returns the exit status.
@@ -66,6 +71,10 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         seed: None,
         extra: serde_json::json!({ "rig_file": args.rig.display().to_string() }),
     };
+    for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
+        eprintln!("skybearing: warning: {w}");
+    }
+    let no_sun = crate::cli::launch::no_sun_warnings(&setup.protocol, &setup.rig, start_utc)?;
     let engine = Engine::new(setup)?;
     let sensor = crate::rig::open_sensor(&rig, shared.clone())
         .with_context(|| format!("{}: sensor", args.rig.display()))?;
@@ -81,6 +90,8 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
             mono: args.mono,
             auto_confirm_after_s: None,
             stdin_commands: !matches!(rig.sensor.source, crate::rig::config::SensorSource::Stdin),
+            no_sun,
+            allow_no_sun: args.allow_no_sun,
         },
         None,
     )?;

@@ -22,6 +22,8 @@ pub(super) fn is_scored(timeline: &Timeline, t_s: f64) -> bool {
 #[derive(Debug, Clone)]
 pub(super) struct Scoring {
     builder: SummaryBuilder,
+    /// Turns whose world shift is not scored (not made, or made blind), 1-based.
+    unscored_turns: Vec<usize>,
     /// The epoch lines as of the last snapshot: a snapshot recomputes only the epochs that
     /// received samples since (see [`EpochCache`]).
     lines: RefCell<EpochCache>,
@@ -42,11 +44,20 @@ impl Scoring {
     pub(super) fn new(builder: SummaryBuilder) -> Self {
         Self {
             builder,
+            unscored_turns: Vec::new(),
             lines: RefCell::new(EpochCache::default()),
         }
     }
 
-    /// The scores a snapshot shows, equal to those of [`Scoring::summary`]: O(epochs) copies
+    /// Turn `k` (between epochs k and k + 1) gets no world shift, whatever the headings say.
+    pub(super) fn unscore_turn(&mut self, k: usize) {
+        if !self.unscored_turns.contains(&k) {
+            self.unscored_turns.push(k);
+        }
+    }
+
+    /// The scores a snapshot shows, equal to those of [`Scoring::summary`] (unscored turns
+    /// without a shift): O(epochs) copies
     /// plus the figures of the epochs that changed since the last call.
     pub(super) fn live(&self) -> LiveScores {
         let mut cache = self.lines.borrow_mut();
@@ -56,6 +67,7 @@ impl Scoring {
         let turns = (1..epochs.len())
             .map(|k| {
                 let shift = match (epochs[k - 1].mean_world_deg, epochs[k].mean_world_deg) {
+                    _ if self.unscored_turns.contains(&k) => None,
                     (Some(a), Some(b)) => Some(crate::frames::wrap_signed_deg(b - a)),
                     _ => None,
                 };
@@ -77,7 +89,9 @@ impl Scoring {
 
     /// The scores so far.
     pub(super) fn summary(&self) -> Summary {
-        self.builder.summary()
+        let mut s = self.builder.summary();
+        crate::archive::summary::drop_unscored_turns(&mut s, &self.unscored_turns);
+        s
     }
 
     /// The headless status line at `now`: the scores of `epoch` of `epoch_count`.
@@ -169,6 +183,7 @@ mod tests {
             description: String::new(),
             settle_s: 2.0,
             flight: FlightRules::default(),
+            sensor_loss: Default::default(),
             epochs: vec![epoch(1, 100.0, ArenaMove::TurnBy { deg: 90.0 }, None)],
         };
         let mut tl = Timeline::new(&protocol, 0.0);

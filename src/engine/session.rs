@@ -54,7 +54,6 @@ pub struct Engine {
     pub(super) local_offset: FixedOffset,
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
-    pub(super) sensor_lost: bool,
     /// Samples a burst could not stamp at or before the clock, counted per second.
     pub(super) dropped: SecondTally,
     /// Malformed sensor lines, counted per second (the lines go to `malformed.csv`).
@@ -107,10 +106,14 @@ impl Engine {
             meta,
             writer: None,
             scoring: Scoring::new(SummaryBuilder::new(&planned)),
-            stamper: Stamper::new(setup.start_utc, mark_true_deg, sun),
+            stamper: Stamper::new(
+                setup.start_utc,
+                mark_true_deg,
+                sun,
+                setup.rig.sky_view_min_elevation_deg,
+            ),
             local_offset,
             timeline,
-            sensor_lost: false,
             dropped: SecondTally::default(),
             malformed: SecondTally::default(),
             suspended_seen_s: 0.0,
@@ -225,6 +228,9 @@ impl Engine {
             }
             self.event(e.t_s, e.kind, e.detail)?;
         }
+        for &k in &self.timeline.unscored_turns {
+            self.scoring.unscore_turn(k);
+        }
         Ok(())
     }
 
@@ -305,6 +311,7 @@ impl Engine {
             arena_position_deg: self.timeline.arena_position_at(t, turntable),
             flying: self.timeline.flying,
             scored: is_scored(&self.timeline, t),
+            cues: self.timeline.current_cues(),
         };
         let (row, stamped) = self.stamper.row(t, raw, arena_heading_deg, ctx);
         if let Some(w) = self.writer.as_mut() {
@@ -354,6 +361,10 @@ const PROGRESS_KINDS: &[&str] = &[
     "epoch_start",
     "turn_done",
     "turn_fault",
+    "turn_held",
+    "turn_not_made",
+    "turn_not_scored",
+    "turns_by_hand",
     "prompt",
     "prompt_confirmed",
     "sensor_lost",
@@ -534,6 +545,11 @@ impl Engine {
             marks,
         } = bufs;
         sensor_buf.clear();
+        // The simulated operator keeps over the arena what the current epoch's cues say (the
+        // shade, diffuser or filter a person places at the prompt), before the animal moves on.
+        if let Some(op) = operator.as_deref_mut() {
+            op.show(self.timeline.current_cues());
+        }
         if let Err(e) = sensor.drain(now, sensor_buf) {
             self.event(self.timeline.t_s, "sensor_error", e.to_string())?;
         }
@@ -591,11 +607,13 @@ impl Engine {
                     }
                 }
                 SensorEvent::Lost { .. } => {
-                    self.sensor_lost = true;
+                    self.timeline.set_sensor_lost(t, true);
+                    self.record_timeline()?;
                     self.event(t, "sensor_lost", "no data")?
                 }
                 SensorEvent::Back { .. } => {
-                    self.sensor_lost = false;
+                    self.timeline.set_sensor_lost(t, false);
+                    self.record_timeline()?;
                     self.event(t, "sensor_back", "")?
                 }
             }
@@ -656,9 +674,14 @@ impl Engine {
             "session {status} ({reason}): {} samples, r world {:.3}, r arena {:.3}",
             self.samples, summary.r_world, summary.r_arena
         ));
+        let lines = crate::engine::snapshot::summary_lines(&summary);
+        for l in &lines {
+            progress(l);
+        }
         let mut snap = self.snapshot(t_end);
         snap.ended = true;
         snap.end_reason = Some(format!("{status}: {reason}"));
+        snap.watch.end_summary = lines;
         cell.publish(snap);
         Ok(Outcome {
             dir,

@@ -168,6 +168,8 @@ pub enum EndReason {
     ProtocolFinished,
     /// The flight rules' abort: too long without flight.
     NoFlight,
+    /// The sensor-loss rules' abort: too long without data from the heading sensor.
+    SensorLost,
     /// The operator ended the session before the protocol was done.
     EndedByOperator,
     /// A termination signal (SIGINT, SIGTERM, SIGHUP) ended it before the protocol was done.
@@ -196,6 +198,7 @@ impl EndReason {
         match self {
             EndReason::ProtocolFinished => "protocol finished",
             EndReason::NoFlight => "no flight",
+            EndReason::SensorLost => "sensor lost",
             EndReason::EndedByOperator => "ended by the operator",
             EndReason::Signal(s) => match s {
                 crate::signals::StopSignal::Int => "ended by SIGINT",
@@ -212,7 +215,7 @@ impl EndReason {
     pub fn exit_code(self) -> i32 {
         match self {
             EndReason::ProtocolFinished | EndReason::EndedByOperator | EndReason::Signal(_) => 0,
-            EndReason::NoFlight | EndReason::Stopped => 1,
+            EndReason::NoFlight | EndReason::SensorLost | EndReason::Stopped => 1,
         }
     }
 }

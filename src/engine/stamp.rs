@@ -3,12 +3,15 @@
 //! A sample's time is session seconds on the monotonic clock; its UTC is the session's anchor
 //! plus those seconds (the wall clock is never read again). Its heading is converted from the
 //! arena frame to the world frame through the arena mark's true bearing and the arena's
-//! position, and the sun's position and the zenith e-vector at that instant are attached.
+//! position, and the sun's position and the zenith e-vector at that instant are attached, with
+//! what the animal was shown: whether the sun's disc was in view (the epoch's cues, the
+//! horizon and the rig's sky view limit) and the e-vector shown (sky or filter).
 
 use crate::archive::SampleRow;
 use crate::frames::{
     arena_bearing_after_rotation_deg, sun_relative_heading_deg, world_heading_deg,
 };
+use crate::protocol::Cues;
 use crate::sky::polarization::zenith_evector_deg;
 use crate::sky::sun::{SunPosition, SunTrack};
 use chrono::{DateTime, Duration, Utc};
@@ -61,6 +64,7 @@ pub(super) struct Stamper {
     start_utc: DateTime<Utc>,
     mark_true_deg: f64,
     sun: SunTrack,
+    view_min_elevation_deg: f64,
 }
 
 /// The fields of a sample row that come from the timeline rather than from the sample.
@@ -74,17 +78,40 @@ pub(super) struct SampleContext {
     pub(super) flying: bool,
     /// Counted in the epoch's scores.
     pub(super) scored: bool,
+    /// What the animal can see in the epoch.
+    pub(super) cues: Cues,
 }
 
 impl Stamper {
     /// Stamps for a session anchored at `start_utc` whose arena mark points at
-    /// `mark_true_deg` (true bearing) before any turn.
-    pub(super) fn new(start_utc: DateTime<Utc>, mark_true_deg: f64, sun: SunTrack) -> Self {
+    /// `mark_true_deg` (true bearing) before any turn, on a rig whose wall hides the sky below
+    /// `view_min_elevation_deg`.
+    pub(super) fn new(
+        start_utc: DateTime<Utc>,
+        mark_true_deg: f64,
+        sun: SunTrack,
+        view_min_elevation_deg: f64,
+    ) -> Self {
         Self {
             start_utc,
             mark_true_deg,
             sun,
+            view_min_elevation_deg,
         }
+    }
+
+    /// What the animal is shown with cues `cues`, the sun at `sun` and the arena mark at true
+    /// bearing `arena_bearing_deg`: (sun in view, world axis of the e-vector shown).
+    pub(super) fn shown(
+        &self,
+        cues: &Cues,
+        sun: &SunPosition,
+        arena_bearing_deg: f64,
+    ) -> (bool, Option<f64>) {
+        (
+            cues.sun_in_view(sun.elevation_deg, self.view_min_elevation_deg),
+            cues.evector_shown_deg(sun.azimuth_deg, arena_bearing_deg, self.mark_true_deg),
+        )
     }
 
     /// UTC at session second `t_s` (anchor + monotonic seconds, to the microsecond).
@@ -115,6 +142,7 @@ impl Stamper {
         let world = world_heading_deg(arena_heading_deg, bearing);
         let sun = self.sun.at(t_s);
         let sun_rel = sun_relative_heading_deg(world, sun.azimuth_deg);
+        let (sun_in_view, evector_shown_deg) = self.shown(&ctx.cues, &sun, bearing);
         let row = SampleRow {
             t_utc: self.utc_at(t_s),
             t_s,
@@ -129,6 +157,8 @@ impl Stamper {
             sun_relative_heading_deg: sun_rel,
             zenith_evector_deg: zenith_evector_deg(sun.azimuth_deg),
             raw,
+            sun_in_view,
+            evector_shown_deg,
         };
         let stamped = Stamped {
             t_s,
@@ -194,12 +224,13 @@ mod tests {
         )
         .expect("sun");
         // Mark at true 30°, arena turned +90°: the mark points at 120°.
-        let mut s = Stamper::new(start, 30.0, track.clone());
+        let mut s = Stamper::new(start, 30.0, track.clone(), 0.0);
         let ctx = SampleContext {
             epoch: 2,
             arena_position_deg: 90.0,
             flying: true,
             scored: false,
+            cues: Cues::OPEN_SKY,
         };
         let (row, st) = s.row(1.5, 7.0, 45.0, ctx);
         assert_eq!(row.t_utc, start + Duration::milliseconds(1500));
@@ -214,5 +245,56 @@ mod tests {
         assert_eq!(row.epoch, 2);
         assert!(row.flying && !row.scored);
         assert_eq!(row.raw, 7.0);
+    }
+
+    #[test]
+    fn sun_in_view_flips_at_the_rigs_view_limit_as_pvlib_says() {
+        // Fixture: tests/reference/demo_sun_reference.py, pvlib's spa_python (NREL SPA, Reda &
+        // Andreas 2008) apparent elevation at the demo site, 07:30-09:30 UTC on 2026-06-14,
+        // rising from 35.7 to 56.9 deg. A wall that hides the sky below 45 deg: the flag must
+        // be 0 before pvlib's elevation reaches 45 and 1 after, except within 0.01 deg of
+        // the limit (our SPA and pvlib's agree to about 0.001 deg there).
+        let fixture = include_str!("../../tests/fixtures/demo_sun_pvlib.csv");
+        let start: DateTime<Utc> = "2026-06-14T07:30:00Z".parse().expect("time");
+        let site = crate::rig::config::demo_rig().site;
+        let track = SunTrack::new(
+            site.latitude_deg,
+            site.longitude_deg,
+            site.elevation_m,
+            start,
+        )
+        .expect("sun");
+        let limit = 45.0;
+        let mut s = Stamper::new(start, 0.0, track, limit);
+        let blocked = Cues {
+            sun: crate::protocol::cues::SunCue::Blocked,
+            polarization: crate::protocol::cues::PolarizationCue::None,
+        };
+        let (mut before, mut after) = (0, 0);
+        for line in fixture.lines().filter(|l| !l.starts_with('#')).skip(1) {
+            let v: Vec<f64> = line.split(',').map(|x| x.parse().expect("num")).collect();
+            let (t, pvlib_el) = (v[0], v[2]);
+            let ctx = |cues| SampleContext {
+                epoch: 1,
+                arena_position_deg: 0.0,
+                flying: true,
+                scored: true,
+                cues,
+            };
+            let (row, _) = s.row(t, 0.0, 0.0, ctx(Cues::OPEN_SKY));
+            if (pvlib_el - limit).abs() > 0.01 {
+                assert_eq!(row.sun_in_view, pvlib_el > limit, "t {t}: pvlib {pvlib_el}");
+            }
+            if row.sun_in_view {
+                after += 1;
+            } else {
+                before += 1;
+            }
+            // Open sky shows the sky's zenith e-vector; a diffuser neither sun nor e-vector.
+            assert_eq!(row.evector_shown_deg, Some(row.zenith_evector_deg));
+            let (row, _) = s.row(t + 0.001, 0.0, 0.0, ctx(blocked));
+            assert!(!row.sun_in_view && row.evector_shown_deg.is_none());
+        }
+        assert!(before > 10 && after > 10, "{before} {after}");
     }
 }

@@ -74,5 +74,6 @@ pub(super) fn epoch(
         condition: "open sky".into(),
         arena,
         prompt: prompt.map(str::to_string),
+        cues: crate::protocol::Cues::OPEN_SKY,
     }
 }

@@ -3,10 +3,16 @@
 use super::session::Engine;
 use super::stamp::Stamped;
 use super::timeline::Phase;
-use crate::engine::snapshot::{EpochRow, Health, Prompt, Snapshot, TracePoint, TurnRow};
+use crate::engine::snapshot::{
+    AutoAbort, EpochRow, EpochState, Health, Prompt, Snapshot, TracePoint, TurnRow, Watch,
+};
 use crate::sky::polarization::zenith_evector_deg;
 use chrono::Duration;
 use std::collections::VecDeque;
+
+/// A heading older than this many session seconds is shown as stale, not live (a display rule
+/// of our own: ten sample periods of a slow 10 Hz sensor).
+pub const HEADING_STALE_S: f64 = 1.0;
 
 /// Spacing of trace points kept for screens, session seconds.
 const TRACE_SPACING_S: f64 = 0.25;
@@ -133,7 +139,13 @@ impl Engine {
             _ => (None, None),
         };
         let prompt = match &self.timeline.phase {
-            Phase::Prompt { text, since_s, .. } => Some(Prompt {
+            Phase::Prompt {
+                text,
+                since_s,
+                kind,
+                ..
+            } => Some(Prompt {
+                turn_by_hand: !matches!(kind, super::timeline::PromptKind::Protocol),
                 text: text.clone(),
                 waiting_s: now - since_s,
                 countdown_s: -(now - since_s),
@@ -179,6 +191,14 @@ impl Engine {
             sun_azimuth_deg: sun_now.azimuth_deg,
             sun_elevation_deg: sun_now.elevation_deg,
             zenith_evector_deg: zenith_evector_deg(sun_now.azimuth_deg),
+            evector_shown_deg: self
+                .stamper
+                .shown(
+                    &self.timeline.current_cues(),
+                    &sun_now,
+                    self.stamper.arena_bearing_deg(cur_pos),
+                )
+                .1,
             arena_heading_deg: self.last_sample.map(|s| s.arena_heading_deg),
             world_heading_deg: self.last_sample.map(|s| s.world_heading_deg),
             sun_relative_heading_deg: self.last_sample.map(|s| s.sun_relative_heading_deg),
@@ -193,7 +213,7 @@ impl Engine {
                 jitter_ms: self.health.jitter_ms,
                 malformed: self.health.malformed,
                 lost_periods: self.health.lost_periods,
-                sensor_lost: self.sensor_lost,
+                sensor_lost: self.timeline.sensor_lost,
                 // Shown as an age on the session's own time line: now minus the real time since
                 // the sync (so an accelerated demo does not look stale).
                 last_sync_utc: self.last_sync.map(|i| {
@@ -209,6 +229,37 @@ impl Engine {
             recent_events: self.recent.iter().cloned().collect(),
             ended: false,
             end_reason: None,
+            watch: self.watch(now),
+        }
+    }
+
+    /// Countdown, staleness, faults and abort timers at `now`.
+    fn watch(&self, now: f64) -> Watch {
+        let tl = &self.timeline;
+        let sample_age_s = self.last_sample.map(|s| (now - s.t_s).max(0.0));
+        let all_done = tl
+            .epochs
+            .iter()
+            .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
+        let at = now.max(tl.t_s);
+        Watch {
+            next_turn: tl.next_turn(),
+            sample_age_s,
+            heading_stale: tl.sensor_lost || sample_age_s.is_some_and(|a| a > HEADING_STALE_S),
+            turntable_faults: tl.turntable_faults,
+            turns_by_hand: tl.turns_by_hand,
+            not_flying_for_s: if tl.flying {
+                None
+            } else {
+                tl.stopped_since_s.map(|s| (at - s).max(0.0))
+            },
+            sensor_lost_for_s: tl.lost_since_s.map(|s| (at - s).max(0.0)),
+            auto_abort: tl.abort_at().map(|(t, why)| AutoAbort {
+                in_s: (t - at).max(0.0),
+                reason: why.text().to_string(),
+            }),
+            end_now_status: if all_done { "complete" } else { "aborted" }.to_string(),
+            end_summary: Vec::new(),
         }
     }
 }

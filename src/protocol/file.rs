@@ -6,7 +6,7 @@
 //! `epochs[3].duration_s` (entries of `[[epochs]]` are counted from 1, as in the file).
 
 use super::sequence::{self, Order};
-use super::{ArenaMove, EpochPlan, FlightRules, Protocol};
+use super::{ArenaMove, EpochPlan, FlightRules, Protocol, SensorLossRules};
 use serde::Deserialize;
 use std::ops::Range;
 use toml::Spanned;
@@ -81,6 +81,8 @@ struct RawProtocol {
     #[serde(default)]
     flight: Option<RawFlight>,
     #[serde(default)]
+    sensor_loss: Option<RawSensorLoss>,
+    #[serde(default)]
     epochs: Option<Spanned<Vec<Spanned<RawEntry>>>>,
 }
 
@@ -93,6 +95,17 @@ struct RawFlight {
     min_flying_s: Option<Spanned<f64>>,
     #[serde(default)]
     abort_after_stopped_s: Option<Spanned<f64>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSensorLoss {
+    #[serde(default)]
+    pause_clock: Option<Spanned<bool>>,
+    #[serde(default)]
+    hold_turns: Option<Spanned<bool>>,
+    #[serde(default)]
+    abort_after_s: Option<Spanned<f64>>,
 }
 
 /// One `[[epochs]]` entry: a single epoch, or a generated sequence when `count` is given.
@@ -118,6 +131,8 @@ struct RawEntry {
     order: Option<Spanned<Order>>,
     #[serde(default)]
     seed: Option<Spanned<u64>>,
+    #[serde(default)]
+    cues: Option<Spanned<super::cues::RawCues>>,
 }
 
 /// The condition an epoch gets when the file names none.
@@ -329,6 +344,36 @@ fn positive(src: &Source<'_>, v: &Spanned<f64>, field: &str) -> Result<f64, Prot
     }
 }
 
+/// `[sensor_loss]`: defaults from [`SensorLossRules::default`]; `abort_after_s = 0` turns the
+/// abort rule off.
+fn sensor_loss_rules(
+    src: &Source<'_>,
+    raw: Option<&RawSensorLoss>,
+) -> Result<SensorLossRules, ProtocolError> {
+    let mut rules = SensorLossRules::default();
+    let Some(r) = raw else {
+        return Ok(rules);
+    };
+    if let Some(p) = &r.pause_clock {
+        rules.pause_clock = *p.get_ref();
+    }
+    if let Some(h) = &r.hold_turns {
+        rules.hold_turns = *h.get_ref();
+    }
+    if let Some(a) = &r.abort_after_s {
+        let x = finite(src, a, "sensor_loss.abort_after_s")?;
+        if x < 0.0 {
+            return Err(src.field_err(
+                a.span(),
+                "sensor_loss.abort_after_s",
+                format!("must be >= 0 (got {x}; 0 means never)"),
+            ));
+        }
+        rules.abort_after_s = (x > 0.0).then_some(x);
+    }
+    Ok(rules)
+}
+
 /// A positive duration of at most `max` seconds.
 fn duration(
     src: &Source<'_>,
@@ -425,6 +470,8 @@ pub fn parse_protocol(
         }
     }
 
+    let sensor_loss = sensor_loss_rules(&src, raw.sensor_loss.as_ref())?;
+
     let Some(entries) = &raw.epochs else {
         return Err(ProtocolError::Field {
             file: source_name.to_string(),
@@ -512,6 +559,7 @@ pub fn parse_protocol(
         description,
         settle_s,
         flight,
+        sensor_loss,
         epochs,
     };
     let total = protocol.total_duration_s();
@@ -576,6 +624,13 @@ fn expand_entry(
         },
         (None, None) => ArenaMove::Stay,
     };
+    let cues = match &e.cues {
+        Some(c) => c
+            .get_ref()
+            .validate(c.span())
+            .map_err(|(s, key, msg)| src.field_err(s, f(&format!("cues.{key}")), msg))?,
+        None => super::Cues::OPEN_SKY,
+    };
     let span = e.duration_s.span();
 
     let Some(count_raw) = &e.count else {
@@ -601,6 +656,7 @@ fn expand_entry(
                 condition,
                 arena: first_move,
                 prompt,
+                cues,
             },
             span,
         )]);
@@ -785,6 +841,7 @@ fn expand_entry(
                 condition: condition.clone(),
                 arena,
                 prompt: if k == 0 { prompt.clone() } else { None },
+                cues,
             },
             span.clone(),
         ));

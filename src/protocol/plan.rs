@@ -31,6 +31,8 @@ pub struct PlanSite {
     pub time_zone: Tz,
     /// True bearing of the arena's 0 mark at the session start (magnetic already corrected).
     pub mark_bearing_true_deg: f64,
+    /// The rig's sky view limit: below this elevation the sun is out of the animal's view.
+    pub sky_view_min_elevation_deg: f64,
 }
 
 impl PlanSite {
@@ -40,6 +42,7 @@ impl PlanSite {
             site: crate::sky::demo_site(),
             time_zone: chrono_tz::Europe::Paris,
             mark_bearing_true_deg: 0.0,
+            sky_view_min_elevation_deg: 0.0,
         }
     }
 }
@@ -106,6 +109,8 @@ pub struct PlannedEpoch {
     pub sun_min_elevation_deg: f64,
     /// Highest apparent elevation within the epoch (sampled every 30 s at most).
     pub sun_max_elevation_deg: f64,
+    /// What the animal can see.
+    pub cues: super::Cues,
 }
 
 /// What a warning is about.
@@ -120,8 +125,23 @@ pub enum WarningKind {
     SunNearZenith,
     /// The sun's azimuth moves more than the chosen limit within one epoch.
     AzimuthDrift,
+    /// An epoch that shows the sun has it below the arena's sky view limit for part of it.
+    SunOutOfView,
+    /// The sun rises into the animal's view during an epoch that shows it.
+    SunEntersView,
     /// A warning from the protocol file itself.
     Protocol,
+}
+
+impl WarningKind {
+    /// Whether the warning says the sun an epoch shows may not be seen (the warnings `run` and
+    /// `demo` repeat at the start).
+    pub fn is_sun_view(self) -> bool {
+        matches!(
+            self,
+            WarningKind::SunBelowHorizon | WarningKind::SunOutOfView | WarningKind::SunEntersView
+        )
+    }
 }
 
 /// One warning.
@@ -317,6 +337,16 @@ pub fn make_plan_with(
                 }
             }
         }
+        if e.cues.sun == super::cues::SunCue::Visible {
+            sun_view_warnings(
+                e.index,
+                &samples,
+                site.sky_view_min_elevation_deg,
+                (start, tz),
+                &sun,
+                &mut warnings,
+            )?;
+        }
         if max_el > 90.0 - NEAR_ZENITH_DEG {
             warnings.push(PlanWarning {
                 kind: WarningKind::SunNearZenith,
@@ -363,6 +393,7 @@ pub fn make_plan_with(
             sun_azimuth_drift_deg: drift,
             sun_min_elevation_deg: min_el,
             sun_max_elevation_deg: max_el,
+            cues: e.cues,
         });
     }
     let end = at_offset(start, offset);
@@ -384,6 +415,68 @@ pub fn make_plan_with(
         epochs,
         warnings,
     })
+}
+
+/// Warnings for an epoch that shows the sun (`samples`: offsets and sun positions across it)
+/// when part of it has the sun below the arena's sky view limit `limit_deg` (the horizon
+/// itself is [`WarningKind::SunBelowHorizon`]), and when the sun rises into view mid-epoch.
+fn sun_view_warnings(
+    index: usize,
+    samples: &[(f64, SunPosition)],
+    limit_deg: f64,
+    (start, tz): (DateTime<Utc>, Tz),
+    sun: &impl Fn(DateTime<Utc>) -> Result<SunPosition, SkyError>,
+    warnings: &mut Vec<PlanWarning>,
+) -> Result<(), SkyError> {
+    let el = |p: &SunPosition| p.elevation_deg;
+    let min_el = samples
+        .iter()
+        .map(|(_, p)| el(p))
+        .fold(f64::INFINITY, f64::min);
+    let max_el = samples
+        .iter()
+        .map(|(_, p)| el(p))
+        .fold(f64::NEG_INFINITY, f64::max);
+    if limit_deg > 0.0 && min_el < limit_deg && max_el >= 0.0 {
+        let part = if max_el < limit_deg {
+            format!("for the whole epoch (elevation {min_el:.1} to {max_el:.1} deg")
+        } else {
+            format!("for part of the epoch (elevation down to {min_el:.1} deg")
+        };
+        warnings.push(PlanWarning {
+            kind: WarningKind::SunOutOfView,
+            epoch: Some(index),
+            message: format!(
+                "epoch {index}: the sun is out of the animal's view {part}, below the arena's sky view limit of {limit_deg} deg)"
+            ),
+        });
+    }
+    let view = limit_deg.max(0.0);
+    for w in samples.windows(2) {
+        if el(&w[0].1) < view && el(&w[1].1) >= view {
+            let (mut lo, mut hi) = (w[0].0, w[1].0);
+            while hi - lo > 1.0 {
+                let mid = 0.5 * (lo + hi);
+                if sun(at_offset(start, mid))?.elevation_deg >= view {
+                    hi = mid;
+                } else {
+                    lo = mid;
+                }
+            }
+            let t = at_offset(start, hi);
+            warnings.push(PlanWarning {
+                kind: WarningKind::SunEntersView,
+                epoch: Some(index),
+                message: format!(
+                    "epoch {index}: the sun enters the animal's view mid-epoch, at about {} local ({} UTC), when its elevation passes {view} deg",
+                    t.with_timezone(&tz).format("%H:%M"),
+                    t.format("%H:%M")
+                ),
+            });
+            break;
+        }
+    }
+    Ok(())
 }
 
 /// The instant (to the second) between two offsets where the apparent elevation falls below 0,
@@ -571,5 +664,54 @@ mod tests {
         let mut site = PlanSite::demo();
         site.site.latitude_deg = 95.0;
         assert!(make_plan(&p, &site, start(), 15.0).is_err());
+    }
+
+    #[test]
+    fn warns_when_a_shown_sun_is_out_of_view_or_enters_it() {
+        // The sun rises 12 deg per hour from 18 deg; the wall hides the sky below 19 deg.
+        // Epoch 1 (open sky, 10 min) starts out of view and the sun enters the view after
+        // 5 min; epoch 2 (sun blocked) draws no warning about the sun's view.
+        let p = protocol(
+            "name = \"x\"\nsettle_s = 5\n[[epochs]]\nduration_s = 600\n[[epochs]]\nduration_s = 600\n\
+             cues = { sun = \"blocked\", polarization = \"none\" }\n",
+        );
+        let site = PlanSite {
+            sky_view_min_elevation_deg: 19.0,
+            ..PlanSite::demo()
+        };
+        let plan =
+            make_plan_with(&p, &site, start(), 15.0, linear_sun(100.0, 1.0, 18.0, 12.0)).unwrap();
+        let view: Vec<&PlanWarning> = plan
+            .warnings
+            .iter()
+            .filter(|w| w.kind.is_sun_view())
+            .collect();
+        assert_eq!(view.len(), 2, "{view:?}");
+        assert_eq!(view[0].kind, WarningKind::SunOutOfView);
+        assert_eq!(view[0].epoch, Some(1));
+        assert!(
+            view[0].message.contains("for part of the epoch"),
+            "{}",
+            view[0].message
+        );
+        assert_eq!(view[1].kind, WarningKind::SunEntersView);
+        let at = (start() + TimeDelta::minutes(5))
+            .format("%H:%M UTC")
+            .to_string();
+        assert!(view[1].message.contains(&at), "{} / {at}", view[1].message);
+        assert_eq!(
+            plan.epochs[1].cues.sun,
+            crate::protocol::cues::SunCue::Blocked
+        );
+        // An open horizon: nothing to say.
+        let plan = make_plan_with(
+            &p,
+            &PlanSite::demo(),
+            start(),
+            15.0,
+            linear_sun(100.0, 1.0, 18.0, 12.0),
+        )
+        .unwrap();
+        assert!(!plan.warnings.iter().any(|w| w.kind.is_sun_view()));
     }
 }

@@ -33,6 +33,9 @@ pub struct Rig {
     pub arena_mark_bearing_deg: f64,
     /// What the measured bearing refers to.
     pub arena_mark_reference: BearingReference,
+    /// The lowest elevation the animal sees over the arena's wall, degrees (0 when the file
+    /// gives none: the horizon). Below it the sun's disc is out of view.
+    pub sky_view_min_elevation_deg: f64,
     /// Sensor calibration (units, direction, zero offset).
     pub calibration: SensorCalibration,
     /// Where sessions go.
@@ -230,6 +233,7 @@ struct RawSite {
 struct RawArena {
     mark_bearing_deg: Option<S<f64>>,
     mark_reference: Option<S<String>>,
+    sky_view_min_elevation_deg: Option<S<f64>>,
 }
 
 #[derive(Deserialize)]
@@ -559,6 +563,10 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         "magnetic" => BearingReference::Magnetic,
         _ => BearingReference::True,
     };
+    let sky_view_min_elevation_deg = match &arena.sky_view_min_elevation_deg {
+        None => 0.0,
+        Some(v) => c.range(v, "arena.sky_view_min_elevation_deg", 0.0, 90.0)?,
+    };
 
     // [sensor]
     let sensor_s = raw.sensor.as_ref().ok_or_else(|| top("[sensor]"))?;
@@ -784,6 +792,7 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         time_zone: tz.get_ref().clone(),
         arena_mark_bearing_deg: mark,
         arena_mark_reference: reference,
+        sky_view_min_elevation_deg,
         calibration: SensorCalibration {
             unit,
             direction,
@@ -809,6 +818,7 @@ pub fn demo_rig() -> Rig {
         time_zone: "Europe/Paris".to_string(),
         arena_mark_bearing_deg: 0.0,
         arena_mark_reference: BearingReference::True,
+        sky_view_min_elevation_deg: 0.0,
         calibration: SensorCalibration::default(),
         sessions_dir: PathBuf::from("sessions"),
         sensor: SensorConfig {
@@ -964,5 +974,37 @@ mod tests {
         assert_eq!(r.sensor.source, SensorSource::Sim);
         assert_eq!(r.turntable, TurntableConfig::Sim);
         assert_eq!(r.site, crate::sky::demo_site());
+    }
+
+    #[test]
+    fn sky_view_limit_is_read_and_checked() {
+        let rig = parse_rig(&filled_example(), "rig.toml").unwrap();
+        assert_eq!(rig.sky_view_min_elevation_deg, 0.0);
+        let t = filled_example().replace(
+            "sky_view_min_elevation_deg = 0.0",
+            "sky_view_min_elevation_deg = 22.5",
+        );
+        assert_eq!(
+            parse_rig(&t, "rig.toml")
+                .unwrap()
+                .sky_view_min_elevation_deg,
+            22.5
+        );
+        let e = err(&filled_example().replace(
+            "sky_view_min_elevation_deg = 0.0",
+            "sky_view_min_elevation_deg = 95.0",
+        ));
+        assert!(
+            e.starts_with("rig.toml:23: arena.sky_view_min_elevation_deg: "),
+            "{e}"
+        );
+        // Left out: an open horizon.
+        let t = filled_example().replace("sky_view_min_elevation_deg = 0.0", "");
+        assert_eq!(
+            parse_rig(&t, "rig.toml")
+                .unwrap()
+                .sky_view_min_elevation_deg,
+            0.0
+        );
     }
 }

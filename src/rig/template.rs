@@ -28,11 +28,11 @@ elevation_m = "FILL IN"              # REQUIRED: height above sea level, metres
 time_zone = "FILL IN"                # REQUIRED: IANA name such as "Europe/Paris", for display
 
 [arena]
-# Bearing of the arena's 0 mark, measured at set-up (never align anything by looking
-# at the sun). "magnetic" bearings are corrected with the WMM declination for the
-# site and date: true = magnetic + declination (east positive).
+# Bearing of the arena's 0 mark, measured at set-up (never align anything by looking at the
+# sun). "magnetic" is corrected with the site's WMM declination: true = magnetic + declination.
 mark_bearing_deg = "FILL IN"         # REQUIRED
 mark_reference = "FILL IN"           # REQUIRED: "magnetic" or "true"
+sky_view_min_elevation_deg = 0.0     # lowest elevation seen over the wall; below it the sun is out of view
 
 [sensor]
 # Where heading lines come from: "serial", "stdin" or "replay".

@@ -261,6 +261,15 @@ impl SunTrack {
         })
     }
 
+    /// Like [`SunTrack::into_azimuth_fn`], for the apparent elevation.
+    pub fn into_elevation_fn(self) -> Box<dyn Fn(f64) -> f64 + Send> {
+        let track = std::sync::Mutex::new(self);
+        Box::new(move |t_s| {
+            let mut tr = track.lock().unwrap_or_else(|e| e.into_inner());
+            tr.at(t_s).elevation_deg
+        })
+    }
+
     /// A track for one site starting at `start` (t_s = 0), default atmosphere for the height.
     pub fn new(
         latitude_deg: f64,

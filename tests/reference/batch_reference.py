@@ -18,11 +18,16 @@ Sources of each number:
   pairs only inside runs of consecutive scored samples (Bayley & Hammersley 1946), written out
   here with numpy: the same definition the program documents, computed independently;
 - Moore's modified Rayleigh test (Moore 1980; Zar 2010 27.6): R* from ranks (scipy rankdata);
-  its p follows the moment-corrected tail documented in src/circular (no reference library
-  has Moore's test), written out here with numpy;
-- Hotelling's one-sample test (Batschelet 1981 7.2; Zar 2010 eq. 27.40) with numpy, p from
-  scipy.stats.f;
-- Watson-Williams: pycircstat2.hypothesis.watson_williams_test;
+  its p is a randomization p (directions drawn uniformly, ranks kept), drawn here with numpy's
+  own generator (PCG64, 200000 draws), so it agrees with the program's (SplitMix64, 9999
+  draws) only within Monte Carlo error;
+- Hotelling's one-sample test (Batschelet 1981 7.2; Zar 2010 eq. 27.40) with numpy; p the
+  same kind of randomization p (directions uniform, lengths kept); the F tail from
+  scipy.stats.f is kept as hotelling_p_f for comparison;
+- Watson-Williams: pycircstat2.hypothesis.watson_williams_test for F, only between conditions
+  with disjoint sets of animals; its p is a permutation p of that F (numpy);
+- paired tests (Zar 2010 27.13): Hotelling on the differences of unit vectors and Moore's
+  paired R*, both with the exact sign-flip p (all 2^n flips enumerated, n <= 12);
 - V-test: pycircstat2.hypothesis.V_test.
 
 Rule shared with the program (design choices, not statistics): an animal's vector under a
@@ -233,22 +238,93 @@ def moore(means, lengths):
     return r_star, min(max(math.exp(-t + delta * (t / 2 - t * t / 4)), 0.0), 1.0)
 
 
+MC_DRAWS = 200_000
+RNG = np.random.default_rng(20261202)
+
+
+def mc_p(observed, draws):
+    """(1 + k) / (1 + B) with k the draws at least as extreme (rounding allowed)."""
+    k = int((draws >= observed - 1e-9 * abs(observed)).sum())
+    return (1 + k) / (1 + len(draws))
+
+
+def moore_randomization_p(means, lengths):
+    ranks = stats.rankdata(lengths)
+    rad = np.deg2rad(means)
+    obs = (ranks * np.cos(rad)).sum() ** 2 + (ranks * np.sin(rad)).sum() ** 2
+    th = RNG.uniform(0, 2 * np.pi, size=(MC_DRAWS, len(means)))
+    draws = (ranks * np.cos(th)).sum(1) ** 2 + (ranks * np.sin(th)).sum(1) ** 2
+    return mc_p(obs, draws)
+
+
+def hotelling_f_rows(x, y):
+    """Hotelling's one-sample F of each row of x, y (arrays of shape (m, n))."""
+    n = x.shape[1]
+    xm, ym = x.mean(1, keepdims=True), y.mean(1, keepdims=True)
+    sxx = ((x - xm) ** 2).sum(1)
+    syy = ((y - ym) ** 2).sum(1)
+    sxy = ((x - xm) * (y - ym)).sum(1)
+    det = sxx * syy - sxy**2
+    xm, ym = xm[:, 0], ym[:, 0]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        f = n * (n - 2) / 2 * (xm**2 * syy - 2 * xm * ym * sxy + ym**2 * sxx) / det
+    return np.where(det <= 1e-12 * (sxx + syy) ** 2, np.inf, f)
+
+
 def hotelling(means, lengths):
     n = len(means)
     if n < 3:
-        return None, None
+        return None, None, None
     rad = np.deg2rad(means)
-    x = np.asarray(lengths) * np.cos(rad)
-    y = np.asarray(lengths) * np.sin(rad)
-    xm, ym = x.mean(), y.mean()
-    sxx = ((x - xm) ** 2).sum()
-    syy = ((y - ym) ** 2).sum()
-    sxy = ((x - xm) * (y - ym)).sum()
-    det = sxx * syy - sxy**2
-    if det <= 1e-12 * (sxx + syy) ** 2:
-        return None, None
-    f = n * (n - 2) / 2 * (xm**2 * syy - 2 * xm * ym * sxy + ym**2 * sxx) / det
-    return float(f), float(stats.f.sf(f, 2, n - 2))
+    lengths = np.asarray(lengths)
+    x = lengths * np.cos(rad)
+    y = lengths * np.sin(rad)
+    f = hotelling_f_rows(x[None, :], y[None, :])[0]
+    if not np.isfinite(f):
+        return None, None, None
+    th = RNG.uniform(0, 2 * np.pi, size=(MC_DRAWS, n))
+    draws = hotelling_f_rows(lengths * np.cos(th), lengths * np.sin(th))
+    return float(f), mc_p(f, draws), float(stats.f.sf(f, 2, n - 2))
+
+
+def all_signs(n):
+    """Every vector of n signs, shape (2^n, n)."""
+    m = np.arange(2**n)[:, None]
+    return np.where((m >> np.arange(n)) & 1, -1.0, 1.0)
+
+
+def paired_tests(a_deg, b_deg):
+    """Zar 2010 27.13: Hotelling's F and Moore's R* of the unit-vector differences, each with
+    its exact sign-flip p."""
+    n = len(a_deg)
+    if n < 3 or n > 12:
+        return None, None, None, None
+    a, b = np.deg2rad(a_deg), np.deg2rad(b_deg)
+    dx, dy = np.cos(a) - np.cos(b), np.sin(a) - np.sin(b)
+    signs = all_signs(n)
+    fs = hotelling_f_rows(signs * dx, signs * dy)
+    f = float(hotelling_f_rows(dx[None, :], dy[None, :])[0])
+    hp = float((fs >= f - 1e-9 * abs(f)).mean())
+    ln = np.hypot(dx, dy)
+    ranks = stats.rankdata(ln)
+    w = np.where(ln > 1e-12, ranks / np.where(ln > 1e-12, ln, 1.0), 0.0)
+    sx, sy = (signs * w * dx).sum(1), (signs * w * dy).sum(1)
+    rs = np.hypot(sx, sy) / n**1.5
+    r0 = float(rs[0])
+    mp = float((rs >= r0 - 1e-9 * r0).mean())
+    return f, hp, r0, mp
+
+
+def ww_permutation_p(da, db, draws=20_000):
+    """Permutation p of pycircstat2's Watson-Williams F (group labels shuffled)."""
+    pooled = np.deg2rad(np.concatenate([da, db]))
+    obs = float(watson_williams_test([pooled[: len(da)], pooled[len(da) :]]).F)
+    k = 0
+    for _ in range(draws):
+        perm = RNG.permutation(pooled)
+        f = float(watson_williams_test([perm[: len(da)], perm[len(da) :]]).F)
+        k += f >= obs - 1e-9 * abs(obs)
+    return obs, (1 + k) / (1 + draws)
 
 
 def main():
@@ -287,8 +363,9 @@ def main():
         lengths = np.array([v[1] for v in vs.values()])
         n, m, r = circ_desc(means)
         rt = rayleigh_test(alpha=np.deg2rad(means)) if n else None
-        ms, mp = moore(means, lengths)
-        hf, hp = hotelling(means, lengths)
+        ms, _ = moore(means, lengths)
+        mp = moore_randomization_p(means, lengths) if n >= 2 else None
+        hf, hp, hpf = hotelling(means, lengths)
         x = (lengths * np.cos(np.deg2rad(means))).mean() if n else None
         y = (lengths * np.sin(np.deg2rad(means))).mean() if n else None
         pop.append(
@@ -303,6 +380,7 @@ def main():
                 moore_p=mp,
                 hotelling_f=hf,
                 hotelling_p=hp,
+                hotelling_p_f=hpf,
                 mean_vector_deg=wrap360(math.degrees(math.atan2(y, x))) if n else None,
                 mean_vector_length=math.hypot(x, y) if n else None,
             )
@@ -316,27 +394,33 @@ def main():
             da = np.array([v[0] for v in animal_vec[a].values()])
             db = np.array([v[0] for v in animal_vec[b].values()])
             f = p = None
-            if len(da) and len(db) and len(da) + len(db) > 2:
-                ww = watson_williams_test([np.deg2rad(da), np.deg2rad(db)])
-                f, p = float(ww.F), float(ww.pval)
-            comps.append(
-                dict(condition_a=a, condition_b=b, animals_a=len(da), animals_b=len(db),
-                     ww_f=f, ww_p=p)
+            if set(animal_vec[a]) & set(animal_vec[b]):
+                pass  # the same animals: not independent groups (paired.csv instead)
+            else:
+                if len(da) and len(db) and len(da) + len(db) > 2:
+                    f, p = ww_permutation_p(da, db)
+                comps.append(
+                    dict(condition_a=a, condition_b=b, animals_a=len(da), animals_b=len(db),
+                         ww_f=f, ww_p=p)
+                )
+            both = [k for k in animal_vec[a] if k in animal_vec[b]]
+            changes = [signed(animal_vec[b][k][0] - animal_vec[a][k][0]) for k in both]
+            pf, pp, pr, pm = paired_tests(
+                np.array([animal_vec[a][k][0] for k in both]),
+                np.array([animal_vec[b][k][0] for k in both]),
             )
-            changes = [
-                signed(animal_vec[b][k][0] - animal_vec[a][k][0])
-                for k in animal_vec[a]
-                if k in animal_vec[b]
-            ]
             if changes:
                 vt = V_test(angle=0.0, alpha=np.deg2rad(changes))
                 n, m, r = circ_desc(changes)
                 paired.append(
                     dict(condition_a=a, condition_b=b, animals=len(changes),
                          mean_change_deg=signed(m) if m is not None else None, r=r,
-                         v=float(vt.V), v_u=float(vt.u), v_p=float(vt.pval))
+                         v=float(vt.V), v_u=float(vt.u), v_p=float(vt.pval),
+                         hotelling_f=pf, hotelling_p=pp, moore_r_star=pr, moore_p=pm)
                 )
-    pd.DataFrame(comps).to_csv(out / "comparisons.csv", index=False)
+    pd.DataFrame(
+        comps, columns=["condition_a", "condition_b", "animals_a", "animals_b", "ww_f", "ww_p"]
+    ).to_csv(out / "comparisons.csv", index=False)
     pd.DataFrame(paired).to_csv(out / "paired.csv", index=False)
 
     animals = []

@@ -132,6 +132,8 @@ pub fn write_session(
                 sun_relative_heading_deg: (world - sun).rem_euclid(360.0),
                 zenith_evector_deg: (sun + 90.0).rem_euclid(180.0),
                 raw: arena,
+                sun_in_view: true,
+                evector_shown_deg: Some(40.0),
             };
             summary.push(&row);
             w.append_sample(&row).unwrap();

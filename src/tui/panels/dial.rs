@@ -74,8 +74,9 @@ impl Widget for Dial<'_> {
         let col = |c: Color| if theme.is_mono() { Color::Reset } else { c };
 
         let heading_world = snap.world_heading_deg;
-        let flying = snap.flying && !snap.health.sensor_lost;
-        let ev = snap.zenith_evector_deg;
+        let flying = snap.flying && !snap.health.sensor_lost && !snap.watch.heading_stale;
+        // The e-vector the animal is shown (the sky's or a filter's); none under a diffuser.
+        let ev = snap.evector_shown_deg;
         let canvas = Canvas::default()
             .marker(Marker::Braille)
             .background_color(theme.bg)
@@ -96,14 +97,16 @@ impl Widget for Dial<'_> {
                     ctx.draw(&CanvasLine::new(x0, y0, x1, y1, fg));
                 }
                 ctx.layer();
-                // Zenith e-vector axis: dashed, through the centre.
-                let a = screen(ev);
-                let mut r = -0.95;
-                while r < 0.95 {
-                    let (x0, y0) = polar(r, a);
-                    let (x1, y1) = polar((r + 0.09).min(0.95), a);
-                    ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.evector)));
-                    r += 0.17;
+                // E-vector axis shown: dashed, through the centre.
+                if let Some(ev) = ev {
+                    let a = screen(ev);
+                    let mut r = -0.95;
+                    while r < 0.95 {
+                        let (x0, y0) = polar(r, a);
+                        let (x1, y1) = polar((r + 0.09).min(0.95), a);
+                        ctx.draw(&CanvasLine::new(x0, y0, x1, y1, col(theme.evector)));
+                        r += 0.17;
+                    }
                 }
                 if heading_world.is_none() {
                     ctx.print(

@@ -16,10 +16,14 @@
 //! [`SimOperator::flying`]. [`in_process`] drops the operator (stops happen, nobody marks them);
 //! [`in_process_with_operator`] returns it.
 
+mod animal;
+
 use super::config::DecoderConfig;
 use super::decoder::Pipeline;
 use super::{HeadingSource, RigError, SensorEvent, SensorHealth, Turntable, TurntableEvent};
 use crate::frames::{SensorCalibration, SensorUnit, wrap_360_deg, wrap_signed_deg};
+use crate::protocol::Cues;
+pub use animal::{Shown, sky_target_deg};
 use std::collections::VecDeque;
 use std::sync::{Arc, Mutex, MutexGuard};
 
@@ -36,9 +40,13 @@ pub enum OperatorAction {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum, serde::Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum AnimalMode {
-    /// Holds a heading relative to the sun's azimuth (a sky compass: compensates arena turns).
+    /// A sky compass: holds its heading relative to the sun's azimuth while the sun is in view,
+    /// else an axial heading relative to the e-vector shown (compensates arena turns), else
+    /// drifts.
     #[default]
     Sky,
+    /// Steers by the e-vector shown only (never by the sun's disc), else drifts.
+    Polarization,
     /// Holds a heading relative to the arena (follows arena turns after a delay).
     Arena,
     /// Holds nothing: a random walk.
@@ -51,10 +59,15 @@ pub struct SimConfig {
     pub seed: u64,
     /// What the animal steers by.
     pub animal_mode: AnimalMode,
-    /// Sky: the held sun-relative heading; arena: the held arena heading; none: the start heading.
+    /// Sky and polarization: the preferred heading relative to the sun (from the seed);
+    /// arena: the held arena heading; none: the start heading.
     pub goal_deg: f64,
     /// Sun azimuth (clockwise from true north) `t` session seconds after the start.
     pub sun_azimuth_deg: Box<dyn Fn(f64) -> f64 + Send>,
+    /// Apparent sun elevation `t` session seconds after the start.
+    pub sun_elevation_deg: Box<dyn Fn(f64) -> f64 + Send>,
+    /// The rig's sky view limit: below this elevation the sun is out of the animal's view.
+    pub sky_view_min_elevation_deg: f64,
     /// True bearing of the arena's 0 mark at the start.
     pub arena_mark_true_bearing_deg: f64,
     /// Sensor sample rate, Hz.
@@ -102,15 +115,19 @@ pub struct SimConfig {
 }
 
 impl SimConfig {
-    /// Defaults: 100 Hz, 0.1 degree steps, 1 ms jitter, sky mode holding 90 degrees right of
-    /// the sun, sun fixed at azimuth 180, arena mark at true 0 (values are ours, chosen to look
-    /// like a steady flier, not measured).
+    /// Defaults: 100 Hz, 0.1 degree steps, 1 ms jitter, sky mode with a preferred heading
+    /// relative to the sun drawn from the seed (uniform on the circle: each animal its own),
+    /// sun fixed at azimuth 180 and elevation 45, arena mark at true 0, open horizon (values
+    /// are ours, chosen to look like a steady flier, not measured).
     pub fn new(seed: u64) -> Self {
+        let mut goal_rng = SimRng::new(seed.wrapping_mul(0x2545_F491_4F6C_DD1D).wrapping_add(13));
         Self {
             seed,
             animal_mode: AnimalMode::Sky,
-            goal_deg: 90.0,
+            goal_deg: (360.0 * goal_rng.uniform()).round(),
             sun_azimuth_deg: Box::new(|_| 180.0),
+            sun_elevation_deg: Box::new(|_| 45.0),
+            sky_view_min_elevation_deg: 0.0,
             arena_mark_true_bearing_deg: 0.0,
             rate_hz: 100.0,
             quantization: 0.1,
@@ -216,6 +233,8 @@ pub struct SimWorld {
     last_id: u64,
     // operator
     marks: VecDeque<(f64, OperatorAction)>,
+    /// What the operator has put over the arena (open sky until told).
+    cues: Cues,
 }
 
 impl SimWorld {
@@ -225,7 +244,7 @@ impl SimWorld {
         let garbage_rng = SimRng::new(cfg.seed.wrapping_mul(31).wrapping_add(7));
         let bearing0 = cfg.arena_mark_true_bearing_deg;
         let heading_deg = match cfg.animal_mode {
-            AnimalMode::Sky => (cfg.sun_azimuth_deg)(0.0) + cfg.goal_deg,
+            AnimalMode::Sky | AnimalMode::Polarization => (cfg.sun_azimuth_deg)(0.0) + cfg.goal_deg,
             AnimalMode::Arena => bearing0 + cfg.goal_deg,
             AnimalMode::None => cfg.goal_deg,
         };
@@ -253,7 +272,30 @@ impl SimWorld {
             motions: Vec::new(),
             last_id: 0,
             marks: VecDeque::new(),
+            cues: Cues::OPEN_SKY,
         }
+    }
+
+    /// What the animal is shown at `t_s` under the cues in place.
+    pub fn shown(&self, t_s: f64) -> Shown {
+        let az = (self.cfg.sun_azimuth_deg)(t_s);
+        let el = (self.cfg.sun_elevation_deg)(t_s);
+        Shown {
+            sun_azimuth_deg: az,
+            sun_in_view: self
+                .cues
+                .sun_in_view(el, self.cfg.sky_view_min_elevation_deg),
+            evector_deg: self.cues.evector_shown_deg(
+                az,
+                self.arena_bearing_deg(t_s),
+                self.cfg.arena_mark_true_bearing_deg,
+            ),
+        }
+    }
+
+    /// The operator puts `cues` over the arena (a shade, a diffuser, a filter) from now on.
+    pub fn set_cues(&mut self, cues: Cues) {
+        self.cues = cues;
     }
 
     /// The configuration.
@@ -341,11 +383,10 @@ impl SimWorld {
             return;
         }
         let target = match self.cfg.animal_mode {
-            AnimalMode::Sky => Some((self.cfg.sun_azimuth_deg)(t_s) + self.cfg.goal_deg),
             AnimalMode::Arena => {
                 Some(self.arena_bearing_deg(t_s - self.cfg.reorient_delay_s) + self.cfg.goal_deg)
             }
-            AnimalMode::None => None,
+            mode => sky_target_deg(mode, self.cfg.goal_deg, &self.shown(t_s), self.heading_deg),
         };
         let mut d = sigma * dt.sqrt() * noise;
         if let Some(target) = target {
@@ -632,6 +673,11 @@ impl SimOperator {
     pub fn world_heading_deg(&self) -> f64 {
         lock(&self.world).world_heading_deg()
     }
+
+    /// The operator puts what an epoch's cues say over the arena (see [`SimWorld::set_cues`]).
+    pub fn show(&mut self, cues: Cues) {
+        lock(&self.world).set_cues(cues);
+    }
 }
 
 /// A simulated sensor and turntable for accelerated in-process sessions (see the module notes).
@@ -668,227 +714,4 @@ pub fn in_process_with_operator(
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn mean_deg(a: &[f64]) -> f64 {
-        let (s, c) = a.iter().fold((0.0, 0.0), |(s, c), x| {
-            (s + x.to_radians().sin(), c + x.to_radians().cos())
-        });
-        wrap_360_deg(s.atan2(c).to_degrees())
-    }
-
-    fn run(cfg: SimConfig, until_s: f64, step_s: f64) -> (Vec<SensorEvent>, Vec<TurntableEvent>) {
-        let (mut s, mut t) = in_process(cfg);
-        let mut ev = Vec::new();
-        let mut tt = Vec::new();
-        let mut now: f64 = 0.0;
-        while now < until_s {
-            now += step_s;
-            s.drain(now, &mut ev).unwrap();
-            t.poll(now, &mut tt).unwrap();
-        }
-        (ev, tt)
-    }
-
-    fn samples(ev: &[SensorEvent]) -> Vec<(f64, f64)> {
-        ev.iter()
-            .filter_map(|e| match e {
-                SensorEvent::Sample {
-                    t_s,
-                    arena_heading_deg,
-                    ..
-                } => Some((*t_s, *arena_heading_deg)),
-                _ => None,
-            })
-            .collect()
-    }
-
-    #[test]
-    fn deterministic_regardless_of_step() {
-        use crate::rig::source::event_time;
-        let cut = |v: Vec<SensorEvent>| -> Vec<SensorEvent> {
-            v.into_iter().filter(|e| event_time(e) <= 19.9).collect()
-        };
-        let a = cut(run(SimConfig::new(7), 20.0, 0.013).0);
-        let b = cut(run(SimConfig::new(7), 20.0, 0.5).0);
-        assert!(a == b, "{} vs {} events", a.len(), b.len());
-        let c = cut(run(SimConfig::new(8), 20.0, 0.5).0);
-        assert!(a != c);
-        // 100 Hz over 20 s.
-        assert!((1985..=1991).contains(&samples(&a).len()), "{}", a.len());
-    }
-
-    #[test]
-    fn garbage_counted_and_unplug_gives_lost_back_and_gap() {
-        let mut cfg = SimConfig::new(3);
-        cfg.garbage_fraction = 0.05;
-        cfg.unplug_at_s = Some(10.0);
-        cfg.unplug_for_s = 4.0;
-        let (mut s, _t, op) = in_process_with_operator(cfg);
-        let mut ev = Vec::new();
-        let mut now: f64 = 0.0;
-        while now < 30.0 {
-            now += 0.1;
-            s.drain(now, &mut ev).unwrap();
-        }
-        let malformed = ev
-            .iter()
-            .filter(|e| matches!(e, SensorEvent::Malformed { .. }))
-            .count() as u64;
-        assert!(malformed > 50);
-        assert_eq!(malformed, op.garbage_injected());
-        assert_eq!(s.health().malformed, malformed);
-        let lost: Vec<_> = ev
-            .iter()
-            .filter(|e| matches!(e, SensorEvent::Lost { .. } | SensorEvent::Back { .. }))
-            .collect();
-        assert_eq!(lost.len(), 2, "{lost:?}");
-        let (SensorEvent::Lost { t_s: tl }, SensorEvent::Back { t_s: tb }) = (lost[0], lost[1])
-        else {
-            panic!("{lost:?}")
-        };
-        assert!((10.9..11.1).contains(tl), "{tl}");
-        assert!((14.0..14.1).contains(tb), "{tb}");
-        let gap = samples(&ev)
-            .iter()
-            .filter(|(t, _)| (10.0..14.0).contains(t))
-            .count();
-        assert_eq!(gap, 0);
-    }
-
-    #[test]
-    fn sky_animal_compensates_turns_arena_animal_does_not() {
-        for mode in [AnimalMode::Sky, AnimalMode::Arena] {
-            let mut cfg = SimConfig::new(11);
-            cfg.animal_mode = mode;
-            cfg.goal_deg = 90.0;
-            cfg.flight_stops_per_hour = 0.0;
-            cfg.saccades_per_min = 0.0;
-            let (mut s, mut t) = in_process(cfg);
-            let mut ev = Vec::new();
-            let mut tt = Vec::new();
-            let mut now: f64 = 0.0;
-            while now < 60.0 {
-                now += 0.05;
-                if (now - 30.0).abs() < 0.025 {
-                    t.start_turn(now, 90.0).unwrap();
-                }
-                s.drain(now, &mut ev).unwrap();
-                t.poll(now, &mut tt).unwrap();
-            }
-            assert_eq!(tt.len(), 1);
-            let TurntableEvent::Done { t_s, position_deg } = tt[0] else {
-                panic!()
-            };
-            assert!((t_s - 33.05).abs() < 0.06, "{t_s}");
-            assert_eq!(position_deg, Some(90.0));
-            let smp = samples(&ev);
-            let before: Vec<f64> = smp
-                .iter()
-                .filter(|(t, _)| (10.0..30.0).contains(t))
-                .map(|x| x.1)
-                .collect();
-            let after: Vec<f64> = smp
-                .iter()
-                .filter(|(t, _)| (45.0..60.0).contains(t))
-                .map(|x| x.1)
-                .collect();
-            let mb = mean_deg(&before);
-            let ma = mean_deg(&after);
-            let shift = wrap_signed_deg(ma - mb);
-            match mode {
-                // Sun at 180, goal 90 right of the sun: world 270; arena heading 270 then 180.
-                AnimalMode::Sky => assert!((shift + 90.0).abs() < 15.0, "{mode:?} {shift}"),
-                _ => assert!(shift.abs() < 15.0, "{mode:?} {shift}"),
-            }
-        }
-    }
-
-    #[test]
-    fn stalled_turntable_faults_after_two_timeouts() {
-        let mut cfg = SimConfig::new(1);
-        cfg.stall_turntable = true;
-        cfg.turntable_timeout_s = 2.0;
-        let (_s, mut t) = in_process(cfg);
-        t.start_turn(1.0, 90.0).unwrap();
-        let mut tt = Vec::new();
-        t.poll(4.9, &mut tt).unwrap();
-        assert!(tt.is_empty());
-        t.poll(5.0, &mut tt).unwrap();
-        assert!(matches!(tt[..], [TurntableEvent::Fault { t_s, .. }] if t_s == 5.0));
-    }
-
-    #[test]
-    fn operator_marks_stops() {
-        let mut cfg = SimConfig::new(5);
-        cfg.flight_stops_per_hour = 120.0;
-        let (mut s, _t, mut op) = in_process_with_operator(cfg);
-        let mut ev = Vec::new();
-        let mut marks = Vec::new();
-        let mut now: f64 = 0.0;
-        while now < 600.0 {
-            now += 0.5;
-            s.drain(now, &mut ev).unwrap();
-            op.poll(now, &mut marks);
-        }
-        assert!(marks.len() >= 4, "{}", marks.len());
-        for pair in marks.chunks(2) {
-            assert_eq!(pair[0].1, OperatorAction::FlightStop);
-            if pair.len() == 2 {
-                assert_eq!(pair[1].1, OperatorAction::FlightStart);
-                assert!(pair[1].0 - pair[0].0 >= 4.0 - 1e-9);
-            }
-        }
-    }
-
-    #[test]
-    fn a_wrong_mirror_in_the_rig_shows_as_a_mirrored_heading() {
-        // The device is clockwise; the rig file wrongly says counterclockwise.
-        let mut cfg = SimConfig::new(6);
-        cfg.decoder_calibration = Some(SensorCalibration {
-            direction: crate::frames::Direction::Counterclockwise,
-            ..SensorCalibration::default()
-        });
-        cfg.flight_stops_per_hour = 0.0;
-        cfg.quantization = 0.0;
-        let truth_cfg = SimConfig::new(6);
-        let (mut wrong, _) = in_process(cfg);
-        let mut w = SimWorld::new(SimConfig {
-            flight_stops_per_hour: 0.0,
-            quantization: 0.0,
-            ..truth_cfg
-        });
-        w.keep_truth();
-        let mut ev = Vec::new();
-        wrong.drain(2.0, &mut ev).unwrap();
-        let mut lines = Vec::new();
-        w.generate_lines(2.0, &mut lines);
-        let got = samples(&ev);
-        // The truth also holds the one sample generated but not yet arrived.
-        assert!(got.len() >= 199 && w.truth().len() >= got.len());
-        for ((_, read), (_, truth)) in got.iter().zip(w.truth()) {
-            let d = wrap_signed_deg(*read + *truth);
-            assert!(d.abs() < 1e-6, "read {read} truth {truth}");
-        }
-    }
-
-    #[test]
-    fn quantized_counts_mirrored() {
-        let mut cfg = SimConfig::new(2);
-        cfg.sensor_calibration = SensorCalibration {
-            unit: SensorUnit::Counts { per_rev: 4096.0 },
-            direction: crate::frames::Direction::Counterclockwise,
-            zero_offset_deg: 30.0,
-        };
-        cfg.quantization = 1.0;
-        let mut w = SimWorld::new(cfg);
-        let mut lines = Vec::new();
-        w.generate_lines(1.0, &mut lines);
-        for (_, l) in &lines {
-            let raw: f64 = l.split(',').next().unwrap().parse().unwrap();
-            assert_eq!(raw, raw.round());
-            assert!((0.0..4096.0).contains(&raw));
-        }
-    }
-}
+mod tests;
