@@ -478,7 +478,11 @@ impl Engine {
         loop {
             let now = match &clock {
                 EngineClock::Sim(c) => {
-                    let n = c.now_s() + MAX_SPEED_STEP_S;
+                    let mut n = c.now_s() + MAX_SPEED_STEP_S;
+                    // A replay file that ran out: step exactly onto the moment it is noticed.
+                    if let Some(t_end) = sensor.exhausted_at_s() {
+                        n = n.min(t_end.max(c.now_s()));
+                    }
                     c.advance_to(n);
                     n
                 }
@@ -500,12 +504,24 @@ impl Engine {
                 fatal = Some(e);
                 break;
             }
+            if let EngineClock::Sim(_) = clock
+                && let Some(t_end) = sensor.exhausted_at_s()
+                && now >= t_end
+                && self.timeline.end.is_none()
+            {
+                self.end_of_recording(t_end, turntable, &mut bufs)?;
+            }
             if let (Some(after), Phase::Prompt { since_s, .. }) =
                 (auto_confirm_after_s, &self.timeline.phase)
                 && now - since_s >= after
             {
                 let t = since_s + after;
-                self.event(t, "note", "prompt confirmed by the simulated operator")?;
+                let who = if self.setup.mode == "demo" {
+                    "prompt confirmed by the simulated operator"
+                } else {
+                    "prompt confirmed at once (replay at full speed: the recording went on)"
+                };
+                self.event(t, "note", who)?;
                 self.on_command(t, Command::ConfirmPrompt, turntable)?;
                 self.drive_turn(turntable)?;
             }
@@ -667,6 +683,26 @@ impl Engine {
                 }
                 Err(_) => break,
             }
+        }
+        Ok(())
+    }
+
+    /// A replay file ran out at `t` (its last line + `sensor.lost_after_s`): the timeline is
+    /// brought to `t` (the protocol may finish by then), else the session ends there.
+    fn end_of_recording(
+        &mut self,
+        t: f64,
+        turntable: &mut dyn Turntable,
+        bufs: &mut Buffers,
+    ) -> Result<(), EngineError> {
+        let t = t.max(self.timeline.t_s);
+        self.poll_turntable(t, turntable, &mut bufs.turntable)?;
+        self.advance_to(t)?;
+        self.drive_turn(turntable)?;
+        if self.timeline.end.is_none() {
+            self.event(t, "note", "end of the replay file")?;
+            self.timeline.finish_timeline(t, EndReason::EndOfRecording);
+            self.record_timeline()?;
         }
         Ok(())
     }

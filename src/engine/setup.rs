@@ -174,6 +174,9 @@ pub enum EndReason {
     EndedByOperator,
     /// A termination signal (SIGINT, SIGTERM, SIGHUP) ended it before the protocol was done.
     Signal(crate::signals::StopSignal),
+    /// A replay file at full speed ran out before the protocol was done (the end of the file is
+    /// noticed like a lost sensor, `sensor.lost_after_s` after its last line).
+    EndOfRecording,
     /// The loop stopped without the timeline ending the session.
     Stopped,
 }
@@ -205,6 +208,7 @@ impl EndReason {
                 crate::signals::StopSignal::Term => "ended by SIGTERM",
                 crate::signals::StopSignal::Hup => "ended by SIGHUP",
             },
+            EndReason::EndOfRecording => "end of the recording",
             EndReason::Stopped => "stopped",
         }
     }
@@ -215,7 +219,10 @@ impl EndReason {
     pub fn exit_code(self) -> i32 {
         match self {
             EndReason::ProtocolFinished | EndReason::EndedByOperator | EndReason::Signal(_) => 0,
-            EndReason::NoFlight | EndReason::SensorLost | EndReason::Stopped => 1,
+            EndReason::NoFlight
+            | EndReason::SensorLost
+            | EndReason::EndOfRecording
+            | EndReason::Stopped => 1,
         }
     }
 }

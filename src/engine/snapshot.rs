@@ -76,10 +76,24 @@ pub struct EpochRow {
     pub mean_world_deg: Option<f64>,
     /// Mean vector length of world headings.
     pub r: f64,
-    /// Rayleigh p on the effective sample size.
-    pub rayleigh_p_eff: f64,
+    /// `p_oriented` of the epoch so far, the calibrated test that the heading was held (as in
+    /// `summary.json`); None until the epoch holds
+    /// [`crate::circular::MIN_SCORED_S`] of scored flight.
+    pub p_oriented: Option<f64>,
     /// Pending, current, done, skipped.
     pub state: EpochState,
+}
+
+/// `p_oriented` as the screen's `p held` column and the headless progress lines both show it:
+/// "–" while the epoch holds too little flight for the test (None), "≤0.001" at the test's
+/// floor ([`crate::circular::P_FLOOR`]), else three decimals below 0.1 and two above.
+pub fn p_held_text(p: Option<f64>) -> String {
+    match p {
+        Some(p) if p.is_finite() && p <= crate::circular::P_FLOOR => "≤0.001".into(),
+        Some(p) if p.is_finite() && p < 0.1 => format!("{p:.3}"),
+        Some(p) if p.is_finite() => format!("{p:.2}"),
+        _ => "–".into(),
+    }
 }
 
 /// One turn line of the live table.

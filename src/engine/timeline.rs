@@ -582,7 +582,11 @@ impl Timeline {
                     if self.sensor_lost {
                         self.unscore_turn(t_s, next, "made while the sensor was lost");
                     }
+                    // A reply stamped before the loop got to it (the timeline already stands
+                    // later): the epoch began at the reply, so its clock runs from there.
+                    let now = self.t_s;
                     self.start_epoch(next, t_s, true);
+                    self.accrue(t_s, now);
                 } else {
                     self.event(t_s, "turntable_reply", "unexpected done");
                 }

@@ -70,15 +70,17 @@ impl Trace {
 impl Engine {
     /// The read-only picture of the session for screens.
     pub fn snapshot(&self, now: f64) -> Snapshot {
-        let summary = self.scoring.summary();
+        let summary = self.scoring.live();
         let sun_now = self.stamper.sun_at(now.max(0.0));
         let pos = self.timeline.position_deg;
         let epochs: Vec<EpochRow> = self
             .timeline
             .epochs
             .iter()
-            .map(|e| {
-                let s = summary.epochs.iter().find(|x| x.index == e.index);
+            .enumerate()
+            .map(|(at, e)| {
+                // The timeline's epochs and the builder's lines are both in plan order.
+                let s = summary.epochs.get(at).filter(|x| x.index == e.index);
                 EpochRow {
                     index: e.index,
                     condition: e.condition.clone(),
@@ -89,7 +91,7 @@ impl Engine {
                     mean_arena_deg: s.and_then(|x| x.mean_arena_deg),
                     mean_world_deg: s.and_then(|x| x.mean_world_deg),
                     r: s.map(|x| x.r).unwrap_or(0.0),
-                    rayleigh_p_eff: s.map(|x| x.rayleigh_p_eff).unwrap_or(1.0),
+                    p_oriented: s.and_then(|x| x.p_oriented),
                     state: e.state,
                 }
             })
@@ -97,10 +99,10 @@ impl Engine {
         let turns: Vec<TurnRow> = summary
             .turns
             .iter()
-            .map(|t| TurnRow {
-                index: t.index,
-                turn_deg: t.turn_deg,
-                world_shift_deg: t.world_shift_deg,
+            .map(|&(index, turn_deg, world_shift_deg)| TurnRow {
+                index,
+                turn_deg,
+                world_shift_deg,
             })
             .collect();
         let (epoch_left, k_opt) = match &self.timeline.phase {

@@ -67,6 +67,13 @@ kind = "manual"                      # REQUIRED
 # baud = 115200                      # serial only
 # timeout_s = 30.0                   # serial only: wait for a reply, retry once, then fault
 
+# Re-scoring a recording: with source = "replay" and a time_column, the file runs on its
+# own clock as fast as the machine allows, into the epochs it would have filled live:
+#   skybearing run --rig FILE --protocol FILE --animal ID --headless --speed max --start UTC
+# --start is the UTC of the file's first line. The turns are in the recording: the
+# turntable above (and the polarizer below) is not opened, each turn counts as done at once and prompts are
+# confirmed at once. The end of the file ends the session.
+
 # Optional: a polarizer that sets a filter's axis between epochs (protocols whose epochs give
 # different cues.filter_axis_deg). Leave it out when there is none. "serial": a controller
 # speaking the polarizer part of docs/turntable-protocol.md; "manual": you set it when prompted.

@@ -231,11 +231,9 @@ impl SnapshotBuilder {
                 } else {
                     0.0
                 },
-                rayleigh_p_eff: if has {
-                    (1e-4 * (1.0 + e0 as f64)).min(1.0)
-                } else {
-                    f64::NAN
-                },
+                // A p only once the epoch has 30 s of flight, as the engine gives it.
+                p_oriented: (has && flying_s >= crate::circular::MIN_SCORED_S)
+                    .then(|| (1e-4 * (1.0 + e0 as f64)).clamp(crate::circular::P_FLOOR, 1.0)),
                 state,
             });
         }

@@ -104,8 +104,8 @@ impl Widget for Help<'_> {
                 "r over all epochs so far, world and arena frames",
             ),
             (
-                "p eff",
-                "Rayleigh test p on the effective n (autocorrelation allowed for)",
+                "p held",
+                "p of a held heading; – until 30 s of flight: too short to tell",
             ),
             (
                 "state",
