@@ -130,6 +130,7 @@ fn tables_have_the_contract_columns_and_bad_folders_are_skipped_by_name() {
 
     let (h, rows) = read_csv(&out.join("population.csv"));
     for c in [
+        "frame",
         "condition",
         "animals",
         "rayleigh_p",
@@ -138,9 +139,12 @@ fn tables_have_the_contract_columns_and_bad_folders_are_skipped_by_name() {
     ] {
         assert!(h.iter().any(|x| x == c), "population.csv lacks {c}");
     }
-    assert_eq!(rows.len(), 2);
+    assert_eq!(rows.len(), 4, "two conditions in two frames");
+    assert_eq!(col(&h, &rows[0], "frame"), "world");
     assert_eq!(col(&h, &rows[0], "condition"), "diffuser");
     assert_eq!(col(&h, &rows[0], "animals"), "3");
+    assert_eq!(col(&h, &rows[2], "frame"), "sun");
+    assert_eq!(col(&h, &rows[2], "animals"), "3");
 
     let (h, rows) = read_csv(&out.join("skipped.csv"));
     let skipped: Vec<(&str, &str)> = rows
