@@ -377,3 +377,81 @@ fn report_and_batch_reject_the_rows_check_rejects() {
         );
     }
 }
+
+fn copy_dir(from: &std::path::Path, to: &std::path::Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for e in std::fs::read_dir(from).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), to.join(e.file_name())).unwrap();
+    }
+}
+
+#[test]
+fn a_session_found_twice_counts_once_and_a_reused_id_with_other_samples_is_an_error() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("season");
+    let d1 = write_session(&root, "d1", "lm-01", "complete", Mode::Sky, 40.0, 2, 100);
+    write_session(&root, "d2", "lm-02", "complete", Mode::Sky, 60.0, 2, 100);
+    // The same folder copied to a backup disk, which is given too.
+    let backup = tmp.path().join("backup");
+    copy_dir(&d1, &backup.join("d1"));
+    let out = tmp.path().join("out");
+    let o = batch(&[
+        root.to_str().unwrap(),
+        backup.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(0), "{err}");
+    assert!(
+        err.contains("warning:") && err.contains("same session as"),
+        "a warning on stderr: {err}"
+    );
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let ids: Vec<&str> = rows.iter().map(|r| col(&h, r, "session_id")).collect();
+    assert_eq!(ids, ["d1", "d2"], "d1 counted once");
+    assert!(col(&h, &rows[0], "folder").contains("backup"));
+    let (h, rows) = read_csv(&out.join("population.csv"));
+    let world_open = rows
+        .iter()
+        .find(|r| col(&h, r, "frame") == "world" && col(&h, r, "condition") == "open sky")
+        .unwrap();
+    assert_eq!(col(&h, world_open, "animals"), "2");
+    assert_eq!(
+        col(&h, world_open, "sessions"),
+        "2",
+        "not 3: the copy is left out"
+    );
+    let (h, rows) = read_csv(&out.join("skipped.csv"));
+    let dup: Vec<_> = rows
+        .iter()
+        .filter(|r| col(&h, r, "kind") == "duplicate")
+        .collect();
+    assert_eq!(dup.len(), 1);
+    assert_eq!(col(&h, dup[0], "session_id"), "d1");
+    // The first in path order is kept (backup/ before season/), the other listed.
+    assert!(col(&h, dup[0], "folder").contains("season"));
+    assert!(col(&h, dup[0], "reason").contains("same samples"));
+
+    // Another recording that reuses the id d1: batch refuses, naming both folders.
+    let other = tmp.path().join("other");
+    write_session(&other, "d1", "lm-03", "complete", Mode::Sky, 200.0, 2, 100);
+    let o = batch(&[
+        root.to_str().unwrap(),
+        other.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_ne!(o.status.code(), Some(0), "{err}");
+    assert!(
+        err.contains("'d1'") && err.contains("different samples"),
+        "{err}"
+    );
+    assert!(
+        err.contains(&*root.join("d1").to_string_lossy())
+            && err.contains(&*other.join("d1").to_string_lossy()),
+        "names both folders: {err}"
+    );
+}

@@ -40,7 +40,7 @@ pub struct Skipped {
     pub folder: PathBuf,
     /// Session id if known.
     pub session_id: String,
-    /// `error` (unreadable) or `filtered`.
+    /// `error` (unreadable), `filtered` or `duplicate` (the same session found again).
     pub kind: &'static str,
     /// One-line reason.
     pub reason: String,
@@ -156,14 +156,78 @@ fn filter_reason(s: &SessionStats, f: &Filters) -> Option<String> {
     None
 }
 
-/// Reads every session under `roots` (in parallel), applies the filters.
+/// (length of `samples.csv`, rows, bits of the sample statistics).
+type Fingerprint = (u64, u64, [u64; 6]);
+
+/// What makes two readings of a session the same session: its id, the length of its
+/// `samples.csv`, and the statistics of its samples to the last bit (rows, scored world and
+/// arena resultants, duration, flying time). Two folders that agree in all of these hold the
+/// same samples (a copy); the same id with any difference is a different recording.
+fn fingerprint(s: &SessionStats) -> Fingerprint {
+    let len = std::fs::metadata(s.info.dir.join("samples.csv")).map_or(0, |m| m.len());
+    let (wc, ws) = s.world.resultant();
+    let (ac, asn) = s.arena.resultant();
+    (
+        len,
+        s.rows,
+        [
+            wc.to_bits(),
+            ws.to_bits(),
+            ac.to_bits(),
+            asn.to_bits(),
+            s.duration_s.to_bits(),
+            s.flying_s.to_bits(),
+        ],
+    )
+}
+
+/// Keeps the first reading (in folder path order) of a session found more than once with the
+/// same samples, and lists the others in `skipped` as `duplicate`. The same session id with
+/// different samples is an error naming both folders.
+fn drop_duplicates(
+    read: Vec<(PathBuf, SessionStats)>,
+    skipped: &mut Vec<Skipped>,
+) -> Result<Vec<(PathBuf, SessionStats)>, AnalysisError> {
+    use std::collections::BTreeMap;
+    let mut first: BTreeMap<String, (PathBuf, Fingerprint)> = BTreeMap::new();
+    let mut out = Vec::with_capacity(read.len());
+    for (dir, s) in read {
+        let fp = fingerprint(&s);
+        match first.get(&s.info.id) {
+            Some((kept, kept_fp)) if *kept_fp == fp => skipped.push(Skipped {
+                folder: dir,
+                session_id: s.info.id.clone(),
+                kind: "duplicate",
+                reason: format!(
+                    "the same session as {} (same samples); counted once",
+                    kept.display()
+                ),
+            }),
+            Some((kept, _)) => {
+                return Err(AnalysisError::DuplicateId {
+                    id: s.info.id.clone(),
+                    first: kept.clone(),
+                    second: dir,
+                });
+            }
+            None => {
+                first.insert(s.info.id.clone(), (dir.clone(), fp));
+                out.push((dir, s));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Reads every session under `roots` (in parallel), drops sessions found twice (see
+/// [`drop_duplicates`]), applies the filters.
 /// `progress` is called once per session folder finished (from worker threads).
 pub fn run_batch(
     roots: &[PathBuf],
     filters: &Filters,
     progress: &(dyn Fn() + Sync),
     found: &dyn Fn(usize),
-) -> BatchResult {
+) -> Result<BatchResult, AnalysisError> {
     let mut skipped = Vec::new();
     let dirs = find_sessions(roots, &mut skipped);
     found(dirs.len());
@@ -179,6 +243,7 @@ pub fn run_batch(
         skipped,
         ..Default::default()
     };
+    let mut read = Vec::new();
     for (dir, r) in results {
         match r {
             Err(e) => out.skipped.push(Skipped {
@@ -190,28 +255,29 @@ pub fn run_batch(
                 kind: "error",
                 reason: e.to_string(),
             }),
-            Ok(mut s) => {
-                out.read_ok += 1;
-                if let Some(reason) = filter_reason(&s, filters) {
-                    out.skipped.push(Skipped {
-                        folder: dir,
-                        session_id: s.info.id.clone(),
-                        kind: "filtered",
-                        reason,
-                    });
-                    continue;
-                }
-                if !filters.conditions.is_empty() {
-                    s.epochs
-                        .retain(|e| filters.conditions.contains(&e.condition));
-                }
-                out.sessions.push(s);
-            }
+            Ok(s) => read.push((dir, s)),
         }
+    }
+    out.read_ok = read.len();
+    for (dir, mut s) in drop_duplicates(read, &mut out.skipped)? {
+        if let Some(reason) = filter_reason(&s, filters) {
+            out.skipped.push(Skipped {
+                folder: dir,
+                session_id: s.info.id.clone(),
+                kind: "filtered",
+                reason,
+            });
+            continue;
+        }
+        if !filters.conditions.is_empty() {
+            s.epochs
+                .retain(|e| filters.conditions.contains(&e.condition));
+        }
+        out.sessions.push(s);
     }
     out.sessions
         .sort_by(|a, b| (&a.info.id, &a.info.dir).cmp(&(&b.info.id, &b.info.dir)));
-    out
+    Ok(out)
 }
 
 /// Columns of `sessions.csv`.

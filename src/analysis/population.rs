@@ -116,10 +116,7 @@ pub fn animal_vectors(sessions: &[&SessionStats]) -> AnimalVectors {
                 if acc.n() == 0 {
                     continue;
                 }
-                by_cond
-                    .entry(e.condition.as_str())
-                    .or_insert_with(HeadingAccumulator::new)
-                    .merge(acc);
+                by_cond.entry(e.condition.as_str()).or_default().merge(acc);
             }
             for (cond, acc) in by_cond {
                 let Some(m) = acc.mean_deg() else { continue };
