@@ -272,6 +272,10 @@ pub fn run_batch(
         if !filters.conditions.is_empty() {
             s.epochs
                 .retain(|e| filters.conditions.contains(&e.condition));
+            // Planned epochs of other conditions are not "never ran": leave them out too.
+            s.info
+                .conditions
+                .retain(|_, c| filters.conditions.contains(c));
         }
         out.sessions.push(s);
     }
@@ -305,6 +309,11 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "heading_slope_deg_per_h",
     "heading_trend_r",
     "sun_azimuth_rate_deg_per_h",
+    "site",
+    "site_latitude_deg",
+    "site_longitude_deg",
+    "site_elevation_m",
+    "time_zone",
 ];
 
 /// Columns of `epochs.csv`.
@@ -331,6 +340,7 @@ pub const EPOCH_COLUMNS: &[&str] = &[
     "cue",
     "axial_r",
     "mean_evector_rel_deg",
+    "skipped",
 ];
 
 /// Columns of `turns.csv`.
@@ -385,17 +395,43 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
             s.heading_trend.map(|h| h.slope_deg_per_h).into(),
             s.heading_trend.map(|h| h.r).into(),
             s.sun_azimuth_rate_deg_per_h.into(),
+            s.info.site.as_str().into(),
+            s.info.meta.as_ref().map(|m| m.site.latitude_deg).into(),
+            s.info.meta.as_ref().map(|m| m.site.longitude_deg).into(),
+            s.info.meta.as_ref().map(|m| m.site.elevation_m).into(),
+            s.info
+                .meta
+                .as_ref()
+                .map_or(Cell::Empty, |m| m.time_zone.as_str().into()),
         ]);
     }
     t
 }
 
-/// `epochs.csv`.
+/// `epochs.csv`: one row per epoch of each session, planned epochs that never ran included
+/// (every statistic empty). `skipped` is 1 when the operator skipped the epoch
+/// (`epoch_skipped` in `events.csv`; its samples up to then, if any, are still scored) or it
+/// never ran (planned in `session.json`, no sample in `samples.csv`).
 pub fn epochs_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(EPOCH_COLUMNS);
     for s in sessions {
         let animal = animal_key(s);
-        for e in &s.epochs {
+        let mut indices: Vec<usize> = s.info.conditions.keys().copied().collect();
+        indices.extend(s.epochs.iter().map(|e| e.index));
+        indices.sort_unstable();
+        indices.dedup();
+        for index in indices {
+            let Some(e) = s.epochs.iter().find(|e| e.index == index) else {
+                // Planned, never ran: no statistic at all, not 0 or 1.
+                let mut row = vec![Cell::Empty; EPOCH_COLUMNS.len()];
+                row[0] = s.info.id.as_str().into();
+                row[1] = animal.as_str().into();
+                row[2] = index.into();
+                row[3] = s.info.condition(index).into();
+                row[EPOCH_COLUMNS.len() - 1] = true.into();
+                t.push(row);
+                continue;
+            };
             let n = e.world.n();
             let has = n > 0;
             let (z, _) = crate::circular::rayleigh_test(n as f64, e.world.r());
@@ -437,6 +473,7 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
             row.push(cue.cue.map_or(Cell::Empty, Cell::from));
             row.push(cue.axial_r.into());
             row.push(cue.mean_evector_rel_deg.into());
+            row.push(s.info.skipped_epochs.contains(&e.index).into());
             t.push(row);
         }
     }
@@ -497,6 +534,27 @@ pub fn turns_table(sessions: &[SessionStats]) -> Table {
     t
 }
 
+/// Columns of `notes.csv`.
+pub const NOTE_COLUMNS: &[&str] = &["session_id", "t_utc", "t_s", "kind", "detail"];
+
+/// `notes.csv`: the operator's notes, flight stops and starts and skipped epochs of each
+/// session, from its `events.csv` ([`super::meta::NOTE_KINDS`]), in time order per session.
+pub fn notes_table(sessions: &[SessionStats]) -> Table {
+    let mut t = Table::new(NOTE_COLUMNS);
+    for s in sessions {
+        for n in &s.info.notes {
+            t.push(vec![
+                s.info.id.as_str().into(),
+                n.t_utc.as_str().into(),
+                n.t_s.into(),
+                n.kind.as_str().into(),
+                n.detail.as_str().into(),
+            ]);
+        }
+    }
+    t
+}
+
 /// Columns of `skipped.csv`.
 pub const SKIPPED_COLUMNS: &[&str] = &["folder", "session_id", "kind", "reason"];
 
@@ -524,6 +582,7 @@ pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, Ana
         ("sessions.csv", sessions_table(&result.sessions)),
         ("epochs.csv", epochs_table(&result.sessions)),
         ("turns.csv", turns_table(&result.sessions)),
+        ("notes.csv", notes_table(&result.sessions)),
         ("population.csv", population_table(&vectors)),
         ("comparisons.csv", comparisons_table(&vectors)),
         ("paired.csv", paired),
