@@ -6,6 +6,7 @@
 use super::AnalysisError;
 use super::population::{
     animal_key, animal_vectors, animals_table, comparisons_table, paired_tables, population_table,
+    protocol_order,
 };
 use super::session::{SessionStats, analyse_session};
 use super::table::{Cell, Table};
@@ -577,7 +578,7 @@ pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, Ana
     std::fs::create_dir_all(out).map_err(|e| AnalysisError::io(out, e))?;
     let refs: Vec<&SessionStats> = result.sessions.iter().collect();
     let vectors = animal_vectors(&refs);
-    let (paired, changes) = paired_tables(&vectors);
+    let (paired, changes) = paired_tables(&vectors, &protocol_order(&refs));
     let tables: Vec<(&str, Table)> = vec![
         ("sessions.csv", sessions_table(&result.sessions)),
         ("epochs.csv", epochs_table(&result.sessions)),

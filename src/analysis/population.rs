@@ -350,7 +350,25 @@ pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
     "change_deg",
 ];
 
-/// `paired.csv` (one row per pair of conditions: the change of preferred heading of each
+/// The conditions in protocol order: by the first epoch index at which any session planned
+/// (or, without a plan, ran) them, ties by name.
+pub fn protocol_order(sessions: &[&SessionStats]) -> Vec<String> {
+    let mut first: BTreeMap<String, usize> = BTreeMap::new();
+    for s in sessions {
+        let planned = s.info.conditions.iter().map(|(i, c)| (*i, c));
+        let ran = s.epochs.iter().map(|e| (e.index, &e.condition));
+        for (i, c) in planned.chain(ran) {
+            let slot = first.entry(c.clone()).or_insert(i);
+            *slot = (*slot).min(i);
+        }
+    }
+    let mut v: Vec<(usize, String)> = first.into_iter().map(|(c, i)| (i, c)).collect();
+    v.sort();
+    v.into_iter().map(|(_, c)| c).collect()
+}
+
+/// `paired.csv` (one row per pair of conditions, a before b in protocol order
+/// ([`protocol_order`]): the change of preferred heading of each
 /// animal seen under both, b − a in (-180, 180], with a V-test toward 0, i.e. "the heading
 /// did not change") and `paired_changes.csv` (one row per animal and pair).
 ///
@@ -361,11 +379,13 @@ pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
 /// both p are sign-flip p (exact up to 12 animals; see [`crate::circular::hotelling_paired_test`]),
 /// calibrated in `circular::calibration`; with 4 or 5 animals they cannot go below 0.125 and
 /// 0.0625.
-pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
+pub fn paired_tables(vectors: &AnimalVectors, order: &[String]) -> (Table, Table) {
     let mut t = Table::new(PAIRED_COLUMNS);
     let mut detail = Table::new(PAIRED_CHANGE_COLUMNS);
     for (frame, by_cond) in vectors {
-        let conds: Vec<&String> = by_cond.keys().collect();
+        let mut conds: Vec<&String> = by_cond.keys().collect();
+        let rank = |c: &String| order.iter().position(|o| o == c).unwrap_or(usize::MAX);
+        conds.sort_by_key(|c| (rank(c), c.to_string()));
         for (i, a) in conds.iter().enumerate() {
             for b in &conds[i + 1..] {
                 let mut changes = Vec::new();
@@ -564,11 +584,14 @@ mod tests {
             "the same animals under both conditions are not independent groups"
         );
 
-        let (paired, changes) = paired_tables(&v);
+        let (paired, changes) = paired_tables(&v, &protocol_order(&refs));
         assert_eq!(cell(&paired, 0, "animals"), "3");
+        // Protocol order: open sky (epoch 1) before diffuser (epoch 2), not name order.
+        assert_eq!(cell(&paired, 0, "condition_a"), "open sky");
+        assert_eq!(cell(&paired, 0, "condition_b"), "diffuser");
         let change: f64 = cell(&paired, 0, "mean_change_deg").parse().unwrap();
-        // b − a with a = diffuser, b = open sky: about −90.
-        assert!((change + 90.0).abs() < 5.0, "{change}");
+        // b − a with a = open sky, b = diffuser: about +90.
+        assert!((change - 90.0).abs() < 5.0, "{change}");
         let vp: f64 = cell(&paired, 0, "v_p").parse().unwrap();
         assert!(
             vp > 0.3,
@@ -624,7 +647,7 @@ mod tests {
         // 924 ways to split 12 animals 6/6; only the observed split and its mirror are as
         // extreme, so the permutation p is about 2/924 (Monte Carlo, B = 9999).
         assert!(p > 0.0005 && p < 0.006, "90° apart: {p}");
-        let (paired, _) = paired_tables(&v);
+        let (paired, _) = paired_tables(&v, &protocol_order(&refs));
         assert!(paired.rows.is_empty(), "no animal under both conditions");
     }
 

@@ -34,7 +34,8 @@ Rule shared with the program (design choices, not statistics): an animal's vecto
 condition, per frame (world headings; sun-relative = samples.csv's sun_relative_heading_deg),
 is the mean of its sessions' mean vectors (each session pooling its scored headings in epochs
 of that condition), so each session weighs equally; only sessions with status "complete" are
-used; conditions are compared in name order, within each frame.
+used; paired conditions are taken in protocol order (a condition's first planned epoch index
+over all sessions, ties by name), within each frame.
 """
 
 import json
@@ -343,11 +344,14 @@ def main():
         p for p in data.rglob("session.json") if (p.parent / "samples.csv").is_file()
     )
     sessions, epochs, turns = [], [], []
+    first_index = {}  # condition -> its first planned epoch index over all sessions
     vectors = {}  # (frame, condition) -> animal -> list of session (mean, r)
     for sj in folders:
         meta = json.loads(sj.read_text())
         if meta.get("status") != "complete" or meta.get("format_version", 1) > 1:
             continue
+        for c, i in ((v[0], k) for k, v in planned_of(meta).items()):
+            first_index[c] = min(first_index.get(c, i), i)
         s, e, t, pooled = session_tables(sj.parent)
         sessions.append(s)
         epochs.extend(e)
@@ -406,7 +410,10 @@ def main():
 
     comps, paired = [], []
     for frame, _ in FRAMES:
-      conds = sorted(k for k in animal_vec if k[0] == frame)
+      conds = sorted(
+          (k for k in animal_vec if k[0] == frame),
+          key=lambda k: (first_index.get(k[1], 10**9), k[1]),
+      )
       for i, a in enumerate(conds):
         for b in conds[i + 1 :]:
             da = np.array([v[0] for v in animal_vec[a].values()])
@@ -417,8 +424,10 @@ def main():
             else:
                 if len(da) and len(db) and len(da) + len(db) > 2:
                     f, p = ww_permutation_p(da, db)
+                # comparisons.csv keeps name order (a < b); F is symmetric in the groups.
+                (ca, na), (cb, nb) = sorted([(a[1], len(da)), (b[1], len(db))])
                 comps.append(
-                    dict(condition_a=a[1], condition_b=b[1], animals_a=len(da), animals_b=len(db),
+                    dict(condition_a=ca, condition_b=cb, animals_a=na, animals_b=nb,
                          ww_f=f, ww_p=p)
                 )
             both = [k for k in animal_vec[a] if k in animal_vec[b]]
