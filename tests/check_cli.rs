@@ -385,3 +385,50 @@ fn check_validates_the_sun_evector_and_raw_columns() {
         );
     }
 }
+
+fn edit_summary(dir: &Path, edit: impl FnOnce(&mut serde_json::Value)) {
+    let path = dir.join("summary.json");
+    let mut v: serde_json::Value = serde_json::from_slice(&std::fs::read(&path).unwrap()).unwrap();
+    edit(&mut v);
+    std::fs::write(&path, serde_json::to_vec_pretty(&v).unwrap()).unwrap();
+}
+
+/// Issue 11: check compares `p_oriented` and `turn_test` with what the samples give; an older
+/// archive written before those keys existed is not faulted for lacking them.
+#[test]
+fn check_compares_p_oriented_and_turn_test_unless_the_archive_predates_them() {
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = session(tmp.path(), "c_inf", 500, true);
+    edit_summary(&dir, |v| {
+        v["epochs"][0]["p_oriented"] = serde_json::json!(0.5)
+    });
+    let (code, out, err) = run(&["check", dir.to_str().unwrap()]);
+    assert_ne!(code, 0, "{out}{err}");
+    assert!(
+        out.contains("epochs[1].p_oriented is 0.5 but the samples give null"),
+        "{out}"
+    );
+    edit_summary(&dir, |v| {
+        v["epochs"][0]["p_oriented"] = serde_json::Value::Null;
+        v["turn_test"]["turns"] = serde_json::json!(4);
+    });
+    let (code, out, _) = run(&["check", dir.to_str().unwrap()]);
+    assert_ne!(code, 0, "{out}");
+    assert!(
+        out.contains("turn_test.turns is 4 but the samples give"),
+        "{out}"
+    );
+    // The same archive as written before p_oriented, window_shift_deg and turn_test.
+    edit_summary(&dir, |v| {
+        for e in v["epochs"].as_array_mut().unwrap() {
+            e.as_object_mut().unwrap().remove("p_oriented");
+        }
+        for t in v["turns"].as_array_mut().unwrap() {
+            t.as_object_mut().unwrap().remove("window_shift_deg");
+        }
+        v.as_object_mut().unwrap().remove("turn_test");
+    });
+    let (code, out, err) = run(&["check", dir.to_str().unwrap()]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.starts_with("ok "), "{out}");
+}

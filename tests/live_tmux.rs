@@ -158,6 +158,10 @@ fn live_demo_in_tmux_ends_with_q_then_y() {
     tmux.keys("q");
     std::thread::sleep(Duration::from_millis(500));
     tmux.keys("y");
+    // The end screen with the summary stays until a key.
+    tmux.wait_for("SESSION ENDED", 30);
+    assert!(!done.exists(), "the end screen closed by itself");
+    tmux.keys("x");
     let code = wait_file(&done, 30);
     assert_eq!(
         code.trim(),

@@ -610,7 +610,7 @@ fn prompt_is_not_late_the_moment_it_appears() {
 
 #[test]
 fn help_explains_every_column_and_abbreviation() {
-    // The operator meets `p eff`, `bearing`, `hold r`... on the main screen: the help names each.
+    // The operator meets `p held`, `bearing`, `hold r`... on the main screen: the help names each.
     let snap = SnapshotBuilder::new().build();
     let ui = UiState {
         mode: Mode::Help,
@@ -627,7 +627,10 @@ fn help_explains_every_column_and_abbreviation() {
             ("world°", "mean heading of the epoch from true north"),
             ("r", "mean vector length"),
             ("session r", "r over all epochs"),
-            ("p eff", "Rayleigh test p on the effective n"),
+            (
+                "p held",
+                "p of a held heading; – until 30 s of flight: too short",
+            ),
             ("state", "wait · ► now · done · skip"),
             ("turn", "commanded arena turn"),
             ("health", "saved = last write to disk"),
@@ -793,4 +796,41 @@ fn the_dial_draws_the_evector_shown_and_none_under_a_diffuser() {
     assert_ne!(screen(&snap, &ui, 120, 40), along_north);
     snap.evector_shown_deg = None;
     assert!(shown > 0 && count(&snap) == 0, "{shown}");
+}
+
+#[test]
+fn epoch_table_shows_p_held_from_the_snapshot() {
+    // The screen renders the engine's p_oriented as it is: a p, the floor as "≤0.001", and
+    // "–" while the epoch holds too little flight for the test (None).
+    let mut snap = SnapshotBuilder::new().epochs(4).build();
+    for (e, p) in snap
+        .epochs
+        .iter_mut()
+        .zip([Some(0.0123), Some(0.001), None, Some(0.47)])
+    {
+        e.n = 5_000;
+        e.mean_world_deg = Some(100.0);
+        e.mean_arena_deg = Some(10.0);
+        e.r = 0.5;
+        e.p_oriented = p;
+    }
+    let lines = screen(&snap, &UiState::default(), 160, 48);
+    let header = must_find(&lines, "p held");
+    let col = lines[header].find("p held").expect("header");
+    let cells: Vec<String> = lines[header + 1..]
+        .iter()
+        .take(4)
+        .map(|l| {
+            l.chars()
+                .skip(lines[header][..col].chars().count())
+                .take(6)
+                .collect()
+        })
+        .collect();
+    assert_eq!(
+        cells.iter().map(|c| c.trim()).collect::<Vec<_>>(),
+        ["0.012", "≤0.001", "–", "0.47"],
+        "{}",
+        dump(&lines)
+    );
 }

@@ -7,6 +7,9 @@ use std::path::{Path, PathBuf};
 use serde::Serialize;
 
 use super::atomic::{sync_dir, write_atomic, write_json_atomic};
+pub use super::compare::{
+    SUMMARY_TOLERANCE, StoredKeys, compare_stored_summary, compare_summaries, read_stored_summary,
+};
 use super::fmt::push_fixed;
 use super::lock::{LockState, lock_state};
 use super::read::{self, ReadStats};
@@ -59,117 +62,6 @@ impl CheckReport {
     pub fn ok(&self) -> bool {
         self.problems.is_empty()
     }
-}
-
-/// Absolute tolerance (scaled up for values above 1) when comparing `summary.json` with the
-/// summary recomputed from `samples.csv`.
-pub const SUMMARY_TOLERANCE: f64 = 1e-6;
-
-fn close(a: f64, b: f64) -> bool {
-    (a.is_nan() && b.is_nan()) || (a - b).abs() <= SUMMARY_TOLERANCE * b.abs().max(1.0)
-}
-
-fn close_angle(a: f64, b: f64) -> bool {
-    (a.is_nan() && b.is_nan()) || crate::frames::wrap_signed_deg(a - b).abs() <= SUMMARY_TOLERANCE
-}
-
-fn close_opt_angle(a: Option<f64>, b: Option<f64>) -> bool {
-    match (a, b) {
-        (None, None) => true,
-        (Some(a), Some(b)) => close_angle(a, b),
-        _ => false,
-    }
-}
-
-fn show_opt(v: Option<f64>) -> String {
-    v.map_or("null".into(), |v| v.to_string())
-}
-
-/// Differences between a stored summary and a recomputed one, one line each (empty: they
-/// agree within [`SUMMARY_TOLERANCE`]).
-pub fn compare_summaries(stored: &Summary, computed: &Summary) -> Vec<String> {
-    let mut out = Vec::new();
-    let mut num = |what: String, a: f64, b: f64, angle: bool| {
-        let same = if angle {
-            close_angle(a, b)
-        } else {
-            close(a, b)
-        };
-        if !same {
-            out.push(format!("{what} is {a} but the samples give {b}"));
-        }
-    };
-    num("r_world".into(), stored.r_world, computed.r_world, false);
-    num("r_arena".into(), stored.r_arena, computed.r_arena, false);
-    let mut lines = Vec::new();
-    if stored.epochs.len() != computed.epochs.len() {
-        lines.push(format!(
-            "{} epochs but the plan has {}",
-            stored.epochs.len(),
-            computed.epochs.len()
-        ));
-    }
-    for (a, b) in stored.epochs.iter().zip(&computed.epochs) {
-        let p = format!("epochs[{}]", a.index);
-        if a.index != b.index || a.condition != b.condition {
-            lines.push(format!(
-                "{p}: index/condition {}/{:?} but the plan has {}/{:?}",
-                a.index, a.condition, b.index, b.condition
-            ));
-        }
-        if a.n != b.n {
-            lines.push(format!("{p}.n is {} but the samples give {}", a.n, b.n));
-        }
-        num(
-            format!("{p}.arena_bearing_deg"),
-            a.arena_bearing_deg,
-            b.arena_bearing_deg,
-            true,
-        );
-        if !close_opt_angle(a.mean_arena_deg, b.mean_arena_deg) {
-            lines.push(format!(
-                "{p}.mean_arena_deg is {} but the samples give {}",
-                show_opt(a.mean_arena_deg),
-                show_opt(b.mean_arena_deg)
-            ));
-        }
-        if !close_opt_angle(a.mean_world_deg, b.mean_world_deg) {
-            lines.push(format!(
-                "{p}.mean_world_deg is {} but the samples give {}",
-                show_opt(a.mean_world_deg),
-                show_opt(b.mean_world_deg)
-            ));
-        }
-        num(format!("{p}.r"), a.r, b.r, false);
-        num(format!("{p}.rayleigh_p"), a.rayleigh_p, b.rayleigh_p, false);
-        num(format!("{p}.n_eff"), a.n_eff, b.n_eff, false);
-        num(
-            format!("{p}.rayleigh_p_eff"),
-            a.rayleigh_p_eff,
-            b.rayleigh_p_eff,
-            false,
-        );
-    }
-    if stored.turns.len() != computed.turns.len() {
-        lines.push(format!(
-            "{} turns but the plan has {}",
-            stored.turns.len(),
-            computed.turns.len()
-        ));
-    }
-    for (a, b) in stored.turns.iter().zip(&computed.turns) {
-        let p = format!("turns[{}]", a.index);
-        num(format!("{p}.turn_deg"), a.turn_deg, b.turn_deg, false);
-        if !close_opt_angle(a.world_shift_deg, b.world_shift_deg) {
-            lines.push(format!(
-                "{p}.world_shift_deg is {} but the samples give {}",
-                show_opt(a.world_shift_deg),
-                show_opt(b.world_shift_deg)
-            ));
-        }
-    }
-    out.extend(lines);
-    out
 }
 
 /// The contract's fields of `session.json` (nested `site.*` included).
@@ -533,10 +425,14 @@ pub fn check_session(dir: &Path) -> CheckReport {
         }
     }
     // events.csv
+    let mut unscored = Vec::new();
     match read::read_events(&dir.join(EVENTS_FILE)) {
         Err(e) => r.problems.push(e.to_string()),
         Ok((ev, st)) => {
             r.events = st.rows;
+            unscored = super::summary::unscored_turns(
+                ev.iter().map(|e| (e.kind.as_str(), e.detail.as_str())),
+            );
             for b in &st.set_aside {
                 r.problems.push(format!(
                     "events.csv:{}: malformed line ({}); 'skybearing check --repair' sets it aside in events.csv.torn and keeps the lines after it",
@@ -569,14 +465,16 @@ pub fn check_session(dir: &Path) -> CheckReport {
     let summary_path = dir.join(SUMMARY_FILE);
     if let Some(m) = &meta {
         if m.status.is_closed() {
-            match read_json::<Summary>(&summary_path) {
+            match read_stored_summary(&summary_path) {
                 Err(e) => r.problems.push(e.to_string()),
-                Ok(stored) => {
+                Ok((stored, keys)) => {
                     if let Some(computed) = pass.as_ref().and_then(|p| p.summary.as_ref()) {
-                        if let Some(loss) = lost_samples(&stored, computed) {
+                        let mut computed = computed.clone();
+                        super::summary::drop_unscored_turns(&mut computed, &unscored);
+                        if let Some(loss) = lost_samples(&stored, &computed) {
                             r.problems.push(format!("samples.csv: {loss}"));
                         }
-                        for d in compare_summaries(&stored, computed) {
+                        for d in compare_stored_summary(&stored, &keys, &computed) {
                             r.problems.push(format!("summary.json: {d}"));
                         }
                     }
@@ -758,13 +656,16 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
             .push("events.csv was missing: created it with its header".into());
     }
     let (events, ev_stats) = read::read_events(&events_path)?;
-    let computed = pass
+    let mut computed = pass
         .summary
         .clone()
         .unwrap_or_else(|| SummaryBuilder::new(&meta.epochs).summary());
-    let stored = read_json::<Summary>(&dir.join(SUMMARY_FILE));
+    let unscored =
+        super::summary::unscored_turns(events.iter().map(|e| (e.kind.as_str(), e.detail.as_str())));
+    super::summary::drop_unscored_turns(&mut computed, &unscored);
+    let stored = read_stored_summary(&dir.join(SUMMARY_FILE));
     if closed
-        && let Ok(stored) = &stored
+        && let Ok((stored, _)) = &stored
         && let Some(loss) = lost_samples(stored, &computed)
     {
         return Err(ArchiveError::Lost {
@@ -809,7 +710,7 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
     let write_summary = match (meta.status, stored) {
         (SessionStatus::Running, _) => true,
         (_, Err(_)) => true,
-        (_, Ok(stored)) => !compare_summaries(&stored, &computed).is_empty(),
+        (_, Ok((stored, keys))) => !compare_stored_summary(&stored, &keys, &computed).is_empty(),
     };
 
     if meta.status == SessionStatus::Running {

@@ -27,6 +27,7 @@
 
 pub mod atomic;
 pub mod check;
+mod compare;
 pub mod cue_scores;
 pub mod fmt;
 pub mod lock;
@@ -41,7 +42,7 @@ use std::path::{Path, PathBuf};
 use chrono::{DateTime, NaiveDate, Utc};
 use serde::{Deserialize, Serialize};
 
-pub use summary::{PlannedEpoch, SummaryBuilder};
+pub use summary::{EpochCache, PlannedEpoch, SummaryBuilder};
 pub use windows::{MIN_TURN_WINDOW_S, TURN_WINDOW_S};
 pub use writer::SessionWriter;
 
@@ -164,15 +165,6 @@ pub struct EpochSummary {
     /// The calibrated orientation test of the world headings
     /// ([`crate::circular::OrientationTracker`]); None with too little flight to say.
     pub p_oriented: Option<f64>,
-    /// Not in summary.json (the lag-1 effective sample size is not calibrated, see
-    /// `tests/calibration_oriented.rs`); always NaN. Kept only so that code that still reads
-    /// it compiles; remove with it.
-    #[serde(skip)]
-    pub n_eff: f64,
-    /// Not in summary.json (not calibrated either); always NaN, so the live table that still
-    /// reads it shows "–" until it shows `p_oriented`. Remove with its readers.
-    #[serde(skip)]
-    pub rayleigh_p_eff: f64,
     /// What the animal was shown, and the axial scores under polarization only.
     #[serde(flatten)]
     pub cue: cue_scores::EpochCueScore,
@@ -211,8 +203,6 @@ impl From<EpochSummaryFile> for EpochSummary {
             r: f.r,
             rayleigh_p: f.rayleigh_p,
             p_oriented: f.p_oriented,
-            n_eff: f64::NAN,
-            rayleigh_p_eff: f64::NAN,
             cue: f.cue,
         }
     }
@@ -776,8 +766,6 @@ mod tests {
                 r: f64::NAN,
                 rayleigh_p: f64::NAN,
                 p_oriented: None,
-                n_eff: f64::NAN,
-                rayleigh_p_eff: f64::NAN,
                 cue: Default::default(),
             }],
             turns: vec![],

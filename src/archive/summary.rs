@@ -79,6 +79,9 @@ impl Chain {
 
 #[derive(Debug, Clone)]
 struct EpochAcc {
+    /// [`SummaryBuilder`]'s change count when a sample last changed this epoch's figures
+    /// (0: none yet).
+    changed_seq: u64,
     planned: PlannedEpoch,
     world: Chain,
     arena: Chain,
@@ -89,6 +92,26 @@ struct EpochAcc {
     oriented: OrientationTracker,
     /// First and last windows of scored world headings (the turn test).
     edges: EdgeWindows,
+}
+
+impl EpochAcc {
+    fn own_bearing_deg(&self) -> Option<f64> {
+        self.bearing_scored_deg.or(self.bearing_any_deg)
+    }
+}
+
+/// The epoch lines of a [`Summary`] kept up to date between snapshots by
+/// [`SummaryBuilder::refresh_epochs`]: only the epochs that received a sample since the last
+/// refresh are recomputed, so a live screen of a 10,000-epoch protocol costs O(epochs)
+/// comparisons per snapshot, not O(epochs) orientation tests.
+#[derive(Debug, Clone, Default)]
+pub struct EpochCache {
+    /// `changed_seq` of each epoch when its line was last computed.
+    seen: Vec<u64>,
+    /// One line per planned epoch, in plan order: what [`SummaryBuilder::summary`] would give.
+    pub epochs: Vec<EpochSummary>,
+    /// Lines recomputed by all refreshes so far (to pin the cost in tests).
+    pub recomputed: u64,
 }
 
 /// Builds a [`Summary`] from sample rows, O(1) per sample.
@@ -113,6 +136,8 @@ pub struct SummaryBuilder {
     other_world: Chain,
     other_arena: Chain,
     seq: u64,
+    /// Changes made to epochs' figures so far (marks which lines [`EpochCache`] must redo).
+    changes: u64,
 }
 
 impl SummaryBuilder {
@@ -127,6 +152,7 @@ impl SummaryBuilder {
             epochs: epochs
                 .iter()
                 .map(|e| EpochAcc {
+                    changed_seq: 0,
                     planned: e.clone(),
                     world: Chain::default(),
                     arena: Chain::default(),
@@ -141,6 +167,7 @@ impl SummaryBuilder {
             other_world: Chain::default(),
             other_arena: Chain::default(),
             seq: 0,
+            changes: 0,
         }
     }
 
@@ -208,8 +235,10 @@ impl SummaryBuilder {
             return;
         }
         if let Some(pos) = self.lookup.get(epoch).copied().flatten() {
-            self.epochs[pos]
-                .cues
+            self.changes += 1;
+            let e = &mut self.epochs[pos];
+            e.changed_seq = self.changes;
+            e.cues
                 .push(world, sun_in_view, evector_shown_deg, sun_azimuth_deg);
         }
     }
@@ -236,6 +265,8 @@ impl SummaryBuilder {
         if let Some(pos) = pos {
             let e = &mut self.epochs[pos];
             if e.bearing_any_deg.is_none() || (counts && e.bearing_scored_deg.is_none()) {
+                self.changes += 1;
+                e.changed_seq = self.changes;
                 let bearing = quantize_angle_deg(arena_bearing_deg, ANGLE_DECIMALS);
                 if bearing.is_finite() {
                     if e.bearing_any_deg.is_none() {
@@ -247,6 +278,8 @@ impl SummaryBuilder {
                 }
             }
             if counts {
+                self.changes += 1;
+                e.changed_seq = self.changes;
                 if e.world.last_seq.is_some_and(|last| last + 1 != seq) {
                     e.oriented.mark_gap();
                 }
@@ -337,13 +370,15 @@ impl SummaryBuilder {
         self.seq
     }
 
+    /// The bearing of the epoch at `pos`: its own (first scored sample, else first sample),
+    /// else the last known bearing before it plus the planned turns since, else NaN. Walks
+    /// back only over the epochs without a bearing just before `pos`.
     fn bearing_at(&self, pos: usize) -> f64 {
-        // Walk back to the last epoch with a known bearing, adding planned turns forward.
         let mut k = pos;
         let mut turns = 0.0;
         loop {
             let e = &self.epochs[k];
-            if let Some(b) = e.bearing_scored_deg.or(e.bearing_any_deg) {
+            if let Some(b) = e.own_bearing_deg() {
                 return wrap_360_deg(b + turns);
             }
             if k == 0 {
@@ -352,6 +387,24 @@ impl SummaryBuilder {
             turns += e.planned.turn_before_deg;
             k -= 1;
         }
+    }
+
+    /// [`SummaryBuilder::bearing_at`] of every epoch in one forward pass, O(epochs).
+    fn bearings(&self) -> Vec<f64> {
+        let mut out = Vec::with_capacity(self.epochs.len());
+        let mut known: Option<f64> = None;
+        let mut turns = 0.0;
+        for e in &self.epochs {
+            if let Some(b) = e.own_bearing_deg() {
+                known = Some(b);
+                turns = 0.0;
+                out.push(wrap_360_deg(b));
+            } else {
+                turns += e.planned.turn_before_deg;
+                out.push(known.map_or(f64::NAN, |b| wrap_360_deg(b + turns)));
+            }
+        }
+        out
     }
 
     fn epoch_summary_at(&self, pos: usize, bearing: f64) -> EpochSummary {
@@ -369,16 +422,40 @@ impl SummaryBuilder {
             r: if empty { f64::NAN } else { w.r() },
             rayleigh_p: if empty { f64::NAN } else { w.rayleigh_p() },
             p_oriented,
-            n_eff: f64::NAN,
-            rayleigh_p_eff: f64::NAN,
             cue: e.cues.score(),
+        }
+    }
+
+    /// Brings `cache` up to date with the samples pushed so far: every line's bearing (one
+    /// forward pass) and the figures of the epochs that changed since the last refresh.
+    /// Afterwards `cache.epochs` equals `self.summary().epochs`.
+    pub fn refresh_epochs(&self, cache: &mut EpochCache) {
+        if cache.epochs.len() != self.epochs.len() {
+            cache.seen = vec![0; self.epochs.len()];
+            cache.epochs = (0..self.epochs.len())
+                .map(|pos| self.epoch_summary_at(pos, f64::NAN))
+                .collect();
+            cache.recomputed += self.epochs.len() as u64;
+        }
+        for (pos, bearing) in self.bearings().into_iter().enumerate() {
+            let changed = self.epochs[pos].changed_seq;
+            if cache.seen[pos] != changed {
+                cache.seen[pos] = changed;
+                cache.epochs[pos] = self.epoch_summary_at(pos, bearing);
+                cache.recomputed += 1;
+            } else {
+                cache.epochs[pos].arena_bearing_deg = bearing;
+            }
         }
     }
 
     /// The summary as it stands now.
     pub fn summary(&self) -> Summary {
-        let epochs: Vec<EpochSummary> = (0..self.epochs.len())
-            .map(|pos| self.epoch_summary_at(pos, self.bearing_at(pos)))
+        let epochs: Vec<EpochSummary> = self
+            .bearings()
+            .into_iter()
+            .enumerate()
+            .map(|(pos, bearing)| self.epoch_summary_at(pos, bearing))
             .collect();
         let turns: Vec<TurnSummary> = (1..self.epochs.len())
             .map(|k| {
@@ -403,6 +480,42 @@ impl SummaryBuilder {
             turns,
             r_world: self.r_world(),
             r_arena: self.r_arena(),
+        }
+    }
+}
+
+/// Kind of the event that marks a turn whose world shift is not scored (the arena could not be
+/// turned, or it was turned while the heading sensor was lost); its detail begins "turn K:".
+pub const TURN_NOT_SCORED_EVENT: &str = "turn_not_scored";
+
+/// The turns (1-based) that [`TURN_NOT_SCORED_EVENT`] events mark, in the order recorded
+/// (from each event's kind and detail).
+pub fn unscored_turns<'a>(events: impl IntoIterator<Item = (&'a str, &'a str)>) -> Vec<usize> {
+    let mut out: Vec<usize> = Vec::new();
+    for (_, detail) in events
+        .into_iter()
+        .filter(|(kind, _)| *kind == TURN_NOT_SCORED_EVENT)
+    {
+        let k = detail
+            .strip_prefix("turn ")
+            .and_then(|rest| rest.split(':').next())
+            .and_then(|k| k.trim().parse().ok());
+        if let Some(k) = k
+            && !out.contains(&k)
+        {
+            out.push(k);
+        }
+    }
+    out
+}
+
+/// Removes the world shifts (epoch means and windows) of `turns` from `summary`: they are not
+/// scored whatever the headings say, and the turn test leaves them out. The engine and `check` both apply it, so they agree.
+pub fn drop_unscored_turns(summary: &mut Summary, turns: &[usize]) {
+    for t in &mut summary.turns {
+        if turns.contains(&t.index) {
+            t.world_shift_deg = None;
+            t.window_shift_deg = None;
         }
     }
 }
@@ -558,5 +671,70 @@ mod tests {
         assert_eq!(planned.len(), p.epochs.len());
         assert_eq!(planned[0].turn_before_deg, 0.0);
         assert!(planned.iter().skip(1).any(|e| e.turn_before_deg != 0.0));
+    }
+
+    fn long_plan(epochs: usize) -> Vec<PlannedEpoch> {
+        (1..=epochs)
+            .map(|index| PlannedEpoch {
+                index,
+                condition: "open sky".into(),
+                turn_before_deg: if index % 3 == 0 { 45.0 } else { 0.0 },
+                duration_s: 1.0,
+            })
+            .collect()
+    }
+
+    #[test]
+    fn forward_bearings_equal_the_walk_back_for_every_epoch() {
+        // Only epochs 1 and 5,000 have samples: every other bearing comes from the plan (the
+        // case that made summary() quadratic when each epoch walked back on its own).
+        let mut b = SummaryBuilder::new(&long_plan(10_000));
+        b.push_values(1, 0.0, 0.0, 350.0, 350.0, false);
+        b.push_values(5_000, 1.0, 0.0, 12.5, 12.5, true);
+        let fwd = b.bearings();
+        assert_eq!(fwd.len(), 10_000);
+        for (pos, got) in fwd.iter().enumerate() {
+            let want = b.bearing_at(pos);
+            assert!(
+                crate::frames::wrap_signed_deg(got - want).abs() < 1e-9,
+                "epoch {}: {got} vs {want}",
+                pos + 1
+            );
+        }
+        assert_eq!(fwd[4_999], 12.5);
+        assert_eq!(fwd[2], wrap_360_deg(350.0 + 45.0));
+        assert!(SummaryBuilder::new(&long_plan(3)).bearings()[2].is_nan());
+    }
+
+    #[test]
+    fn refreshed_epoch_lines_equal_the_summary_and_cost_one_line_per_change() {
+        // 10,000 one-second epochs at 50 Hz, refreshed every 33 samples like a live screen:
+        // the cache always equals summary().epochs, and the lines recomputed grow with the
+        // refreshes (each touches one or two epochs), not with refreshes × epochs.
+        let epochs = 10_000usize;
+        let mut b = SummaryBuilder::new(&long_plan(epochs));
+        let mut cache = EpochCache::default();
+        let mut refreshes = 0u64;
+        let json = |v: &[EpochSummary]| serde_json::to_string(v).unwrap();
+        for i in 0..(epochs * 50) {
+            let t = i as f64 * 0.02;
+            let world = (t * 7.0) % 360.0;
+            b.push_values(1 + i / 50, t, world, 0.0, world, i % 50 >= 5);
+            if i % 33 == 0 {
+                b.refresh_epochs(&mut cache);
+                refreshes += 1;
+                if refreshes.is_multiple_of(3_001) {
+                    assert_eq!(json(&cache.epochs), json(&b.summary().epochs), "after {i}");
+                }
+            }
+        }
+        b.refresh_epochs(&mut cache);
+        refreshes += 1;
+        assert_eq!(json(&cache.epochs), json(&b.summary().epochs));
+        assert!(
+            cache.recomputed <= epochs as u64 + 2 * refreshes,
+            "{} lines recomputed over {refreshes} refreshes",
+            cache.recomputed
+        );
     }
 }

@@ -69,6 +69,10 @@ pub struct DemoArgs {
     /// Monochrome screen (also when NO_COLOR is set).
     #[arg(long)]
     pub mono: bool,
+    /// Start although the sun is below the horizon during the session (the warnings are still
+    /// printed). Without it the live screen asks first and a headless run refuses.
+    #[arg(long)]
+    pub allow_no_sun: bool,
 }
 
 /// Parses `--speed`: a positive factor or `max`.
@@ -199,6 +203,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
     for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
         eprintln!("skybearing: warning: {w}");
     }
+    let no_sun = crate::cli::launch::no_sun_warnings(&setup.protocol, &setup.rig, start_utc)?;
     let engine = Engine::new(setup)?;
     let clock = match args.speed {
         Speed::Max => EngineClock::Sim(SimClock::new()),
@@ -214,6 +219,8 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
             mono: args.mono,
             auto_confirm_after_s: Some(5.0),
             stdin_commands: true,
+            no_sun,
+            allow_no_sun: args.allow_no_sun,
         },
         Some(operator),
     )?;

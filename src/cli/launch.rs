@@ -9,6 +9,43 @@ use std::io::{BufRead, IsTerminal, Write};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc;
 
+/// The plan's warnings that the sun is below the horizon during the session, in `plan`'s own
+/// words. Every epoch counts as open sky (the sun's disc meant to be seen) until protocols say
+/// otherwise.
+pub fn no_sun_warnings(
+    protocol: &crate::protocol::Protocol,
+    rig: &crate::rig::config::Rig,
+    start: chrono::DateTime<chrono::Utc>,
+) -> anyhow::Result<Vec<String>> {
+    let (site, _) = crate::cli::plan::plan_site_from_rig(rig, start)?;
+    let plan = crate::protocol::plan::make_plan(
+        protocol,
+        &site,
+        start,
+        crate::protocol::plan::DEFAULT_MAX_DRIFT_DEG,
+    )
+    .context("computing the sun for the session")?;
+    Ok(plan
+        .warnings
+        .into_iter()
+        .filter(|w| {
+            w.kind == crate::protocol::plan::WarningKind::SunBelowHorizon
+                && shows_sun(protocol, w.epoch)
+        })
+        .map(|w| w.message)
+        .collect())
+}
+
+/// Whether the warning's epoch (or, for a session-wide warning, any epoch) shows the sun.
+fn shows_sun(protocol: &crate::protocol::Protocol, epoch: Option<usize>) -> bool {
+    let visible =
+        |e: &crate::protocol::EpochPlan| e.cues.sun == crate::protocol::cues::SunCue::Visible;
+    match epoch {
+        Some(k) => protocol.epoch(k).is_some_and(visible),
+        None => protocol.epochs.iter().any(visible),
+    }
+}
+
 /// How to show the session.
 pub struct Display {
     /// No screen: progress lines on stdout, the session folder as the last line.
@@ -20,6 +57,41 @@ pub struct Display {
     /// Standard input carries operator words in headless runs (false when the heading sensor
     /// itself reads standard input).
     pub stdin_commands: bool,
+    /// Warnings that the sun is below the horizon during the session ([`no_sun_warnings`]):
+    /// printed at the start; the session starts only after a confirmation on the live screen,
+    /// or with `allow_no_sun`.
+    pub no_sun: Vec<String>,
+    /// `--allow-no-sun`: start without asking although the sun is below the horizon.
+    pub allow_no_sun: bool,
+}
+
+/// Says that the sun is below the horizon and asks before anything is written: refuses a
+/// headless run (one line) unless `--allow-no-sun`; asks on the live screen.
+fn confirm_no_sun(display: &Display) -> anyhow::Result<()> {
+    if display.no_sun.is_empty() {
+        return Ok(());
+    }
+    for w in &display.no_sun {
+        eprintln!("skybearing: warning: {w}");
+    }
+    if display.allow_no_sun {
+        return Ok(());
+    }
+    if display.headless {
+        anyhow::bail!(
+            "the sun is below the horizon during this open-sky session (warnings above): pass --allow-no-sun to start it anyway"
+        );
+    }
+    let options = crate::tui::ScreenOptions {
+        mono: display.mono,
+        ..Default::default()
+    };
+    if !crate::tui::live::confirm_no_sun(&display.no_sun, &options)? {
+        anyhow::bail!(
+            "not started: the sun is below the horizon (pass --allow-no-sun to start without asking)"
+        );
+    }
+    Ok(())
 }
 
 /// The plan's warnings about a sun the protocol shows but the animal may not see (below the
@@ -43,11 +115,11 @@ pub fn sun_view_warnings(
     };
     plan.warnings
         .into_iter()
+        // Below the horizon is said (and confirmed) by `no_sun_warnings`.
         .filter(|w| {
             w.kind.is_sun_view()
-                && w.epoch
-                    .and_then(|k| protocol.epoch(k))
-                    .is_some_and(|e| e.cues.sun == crate::protocol::cues::SunCue::Visible)
+                && w.kind != crate::protocol::plan::WarningKind::SunBelowHorizon
+                && shows_sun(protocol, w.epoch)
         })
         .map(|w| w.message)
         .collect()
@@ -66,6 +138,8 @@ pub fn command_from_line(line: &str) -> Option<Command> {
         "resume" => Some(Command::Resume),
         "skip" => Some(Command::SkipEpoch),
         "end" | "quit" => Some(Command::EndSession),
+        "cannot" => Some(Command::CouldNotTurn),
+        "hand" => Some(Command::TurnsByHand),
         _ => None,
     }
 }
@@ -79,6 +153,12 @@ pub fn launch(
     display: Display,
     sim_operator: Option<crate::rig::sim::SimOperator>,
 ) -> anyhow::Result<Outcome> {
+    if !display.headless && (!std::io::stdout().is_terminal() || !std::io::stdin().is_terminal()) {
+        anyhow::bail!(
+            "the live screen needs a terminal (standard input and output); use --headless to run without one"
+        );
+    }
+    confirm_no_sun(&display)?;
     let cell = SnapshotCell::new();
     let (tx, rx) = mpsc::channel::<Command>();
     // A file-size limit must come back as an error (EFBIG), not kill the process.
@@ -104,7 +184,7 @@ pub fn launch(
                         }
                     }
                     None => eprintln!(
-                        "skybearing: unknown operator word '{}': use ok, stop, fly, note TEXT, pause, resume, skip, end",
+                        "skybearing: unknown operator word '{}': use ok, stop, fly, note TEXT, pause, resume, skip, cannot, hand, end",
                         line.trim()
                     ),
                 }
@@ -133,13 +213,8 @@ pub fn launch(
         return Ok(outcome);
     }
 
-    // Live screen: the engine runs on its own thread; the screen renders snapshots. Without a
-    // terminal there is nothing to draw on: say so before a session folder is made.
-    if !std::io::stdout().is_terminal() || !std::io::stdin().is_terminal() {
-        anyhow::bail!(
-            "the live screen needs a terminal (standard input and output); use --headless to run without one"
-        );
-    }
+    // Live screen: the engine runs on its own thread; the screen renders snapshots. (Without a
+    // terminal there is nothing to draw on: that was said above, before a folder was made.)
     let engine_cell = cell.clone();
     // If the engine fails before publishing an ended snapshot, this flag closes the screen.
     let screen_stop = std::sync::Arc::new(AtomicBool::new(false));

@@ -1,10 +1,12 @@
 //! `skybearing run`: a live session on real devices (or a rig served by `skybearing sim`).
 
+use crate::cli::demo::{parse_speed, parse_start};
 use crate::cli::launch::{Display, launch};
-use crate::clock::{Clock, RealClock};
+use crate::clock::{Clock, RealClock, SimClock};
 use crate::engine::session::{Engine, EngineClock, SessionSetup, Speed};
+use crate::rig::config::{ReplayPace, Rig, SensorSource};
 use anyhow::Context;
-use chrono::{SubsecRound, Utc};
+use chrono::{DateTime, SubsecRound, Utc};
 use clap::Args;
 use std::path::PathBuf;
 use std::sync::Arc;
@@ -26,18 +28,72 @@ pub struct RunArgs {
     #[arg(long)]
     pub sessions: Option<PathBuf>,
     /// No screen: progress lines on stdout; operator words on stdin (ok, stop, fly, note TEXT,
-    /// pause, resume, skip, end).
+    /// pause, resume, skip, end; at a turn prompt `cannot` = could not turn; `hand` = every
+    /// later turn by hand).
     #[arg(long)]
     pub headless: bool,
     /// Monochrome screen (also when NO_COLOR is set).
     #[arg(long)]
     pub mono: bool,
+    /// Start although the sun is below the horizon during the session (the warnings are still
+    /// printed). Without it the live screen asks first and a headless run refuses.
+    #[arg(long)]
+    pub allow_no_sun: bool,
+    /// `1` (live, the default) or `max`: a replay sensor with a time column runs on the file's
+    /// own clock as fast as the machine allows (needs --start).
+    #[arg(long, default_value = "1", value_parser = parse_speed)]
+    pub speed: Speed,
+    /// With --speed max: the UTC (RFC 3339) of the replay file's first line.
+    #[arg(long, value_parser = parse_start)]
+    pub start: Option<DateTime<Utc>>,
+}
+
+/// Checks the flags of a replay at full speed against the rig; returns the UTC anchor and the
+/// rig with its replay paced by the file's own clock. `Ok(None)` for a live run.
+fn full_speed_replay(args: &RunArgs, rig: &Rig) -> anyhow::Result<Option<(DateTime<Utc>, Rig)>> {
+    let file = args.rig.display();
+    match args.speed {
+        Speed::Times(1.0) => {
+            if args.start.is_some() {
+                anyhow::bail!(
+                    "--start is only for --speed max (a live run starts at the present moment)"
+                );
+            }
+            return Ok(None);
+        }
+        Speed::Times(x) => {
+            anyhow::bail!("--speed {x}: run takes 1 (live) or max (a replay file on its own clock)")
+        }
+        Speed::Max => {}
+    }
+    let SensorSource::Replay { path, .. } = &rig.sensor.source else {
+        anyhow::bail!(
+            "--speed max: {file}: the sensor is not a replay file; only a recording can run faster than live"
+        );
+    };
+    if rig.sensor.decoder.time_column.is_none() {
+        anyhow::bail!(
+            "--speed max: {file}: the replay sensor has no sensor.time_column, so the file has no clock of its own to run on"
+        );
+    }
+    let Some(start) = args.start else {
+        anyhow::bail!(
+            "--speed max needs --start RFC3339: the UTC of the first line of {}",
+            path.display()
+        );
+    };
+    let mut rig = rig.clone();
+    rig.sensor.source = SensorSource::Replay {
+        path: path.clone(),
+        pace: ReplayPace::Recorded,
+    };
+    Ok(Some((start, rig)))
 }
 
 /// Runs the command; returns the exit status.
 pub fn run(args: RunArgs) -> anyhow::Result<i32> {
-    let rig = crate::rig::config::load_rig(&args.rig)?;
-    if args.headless && matches!(rig.sensor.source, crate::rig::config::SensorSource::Stdin) {
+    let mut rig = crate::rig::config::load_rig(&args.rig)?;
+    if args.headless && matches!(rig.sensor.source, SensorSource::Stdin) {
         eprintln!(
             "skybearing: the sensor reads standard input, so operator words are not read from it; end with Ctrl-C"
         );
@@ -50,11 +106,36 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         .sessions
         .clone()
         .unwrap_or_else(|| rig.sessions_dir.clone());
-    let clock = RealClock::start();
-    // The UTC anchor is read once, at session second 0; after that only the monotonic clock
-    // stamps samples, so a wall-clock step cannot bend t_s.
-    let start_utc = Utc::now().trunc_subsecs(3);
-    let shared: Arc<dyn Clock> = Arc::new(clock.clone());
+    let replay = full_speed_replay(&args, &rig)?;
+    if let Some((_, r)) = &replay {
+        rig = r.clone();
+    }
+    // Live: the UTC anchor is read once, at session second 0; after that only the monotonic
+    // clock stamps samples, so a wall-clock step cannot bend t_s. Replay at full speed: the
+    // anchor is --start and the engine's simulated clock follows the file's time column.
+    let (start_utc, clock, shared): (_, EngineClock, Arc<dyn Clock>) = match &replay {
+        Some((start, _)) => {
+            let c = SimClock::new();
+            (*start, EngineClock::Sim(c.clone()), Arc::new(c))
+        }
+        None => {
+            let c = RealClock::start();
+            let shared: Arc<dyn Clock> = Arc::new(c.clone());
+            (
+                Utc::now().trunc_subsecs(3),
+                EngineClock::Real(Box::new(c)),
+                shared,
+            )
+        }
+    };
+    let mut extra = serde_json::json!({ "rig_file": args.rig.display().to_string() });
+    if replay.is_some() {
+        extra["replay"] = serde_json::json!({
+            "speed": "max",
+            "clock": "the replay file's time column, from --start",
+            "turntable": "replay: each turn reported done at once; prompts confirmed at once",
+        });
+    }
     let setup = SessionSetup {
         mode: "run".into(),
         animal: args.animal.clone(),
@@ -62,28 +143,35 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         protocol,
         rig: rig.clone(),
         start_utc,
-        speed: Speed::Times(1.0),
+        speed: args.speed,
         seed: None,
-        extra: serde_json::json!({ "rig_file": args.rig.display().to_string() }),
+        extra,
     };
     for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
         eprintln!("skybearing: warning: {w}");
     }
+    let no_sun = crate::cli::launch::no_sun_warnings(&setup.protocol, &setup.rig, start_utc)?;
     let engine = Engine::new(setup)?;
     let sensor = crate::rig::open_sensor(&rig, shared.clone())
         .with_context(|| format!("{}: sensor", args.rig.display()))?;
-    let turntable = crate::rig::open_turntable(&rig, shared)
-        .with_context(|| format!("{}: turntable", args.rig.display()))?;
+    let turntable: Box<dyn crate::rig::Turntable> = if replay.is_some() {
+        Box::new(crate::rig::turntable::ReplayTurntable::default())
+    } else {
+        crate::rig::open_turntable(&rig, shared)
+            .with_context(|| format!("{}: turntable", args.rig.display()))?
+    };
     let outcome = launch(
         engine,
         sensor,
         turntable,
-        EngineClock::Real(Box::new(clock)),
+        clock,
         Display {
             headless: args.headless,
             mono: args.mono,
-            auto_confirm_after_s: None,
-            stdin_commands: !matches!(rig.sensor.source, crate::rig::config::SensorSource::Stdin),
+            auto_confirm_after_s: replay.as_ref().map(|_| 0.0),
+            stdin_commands: !matches!(rig.sensor.source, SensorSource::Stdin),
+            no_sun,
+            allow_no_sun: args.allow_no_sun,
         },
         None,
     )?;

@@ -3,7 +3,8 @@
 pub mod snapshot;
 
 pub use snapshot::{
-    Command, EpochRow, EpochState, Health, Prompt, Snapshot, SnapshotCell, TracePoint, TurnRow,
+    AutoAbort, Command, EpochRow, EpochState, Health, NextTurn, Prompt, Snapshot, SnapshotCell,
+    TracePoint, TurnRow, TurnState, VERDICT_MIN_TURN_DEG, Watch, summary_lines, turn_kept,
 };
 mod scoring;
 pub mod session;

@@ -54,7 +54,6 @@ pub struct Engine {
     pub(super) local_offset: FixedOffset,
     /// Epoch clock, turns, prompts and flight rules.
     pub(super) timeline: Timeline,
-    pub(super) sensor_lost: bool,
     /// Samples a burst could not stamp at or before the clock, counted per second.
     pub(super) dropped: SecondTally,
     /// Malformed sensor lines, counted per second (the lines go to `malformed.csv`).
@@ -115,7 +114,6 @@ impl Engine {
             ),
             local_offset,
             timeline,
-            sensor_lost: false,
             dropped: SecondTally::default(),
             malformed: SecondTally::default(),
             suspended_seen_s: 0.0,
@@ -229,6 +227,9 @@ impl Engine {
                 self.trace.mark_turn(e.t_s);
             }
             self.event(e.t_s, e.kind, e.detail)?;
+        }
+        for &k in &self.timeline.unscored_turns {
+            self.scoring.unscore_turn(k);
         }
         Ok(())
     }
@@ -360,6 +361,10 @@ const PROGRESS_KINDS: &[&str] = &[
     "epoch_start",
     "turn_done",
     "turn_fault",
+    "turn_held",
+    "turn_not_made",
+    "turn_not_scored",
+    "turns_by_hand",
     "prompt",
     "prompt_confirmed",
     "sensor_lost",
@@ -440,7 +445,11 @@ impl Engine {
         loop {
             let now = match &clock {
                 EngineClock::Sim(c) => {
-                    let n = c.now_s() + MAX_SPEED_STEP_S;
+                    let mut n = c.now_s() + MAX_SPEED_STEP_S;
+                    // A replay file that ran out: step exactly onto the moment it is noticed.
+                    if let Some(t_end) = sensor.exhausted_at_s() {
+                        n = n.min(t_end.max(c.now_s()));
+                    }
                     c.advance_to(n);
                     n
                 }
@@ -462,12 +471,24 @@ impl Engine {
                 fatal = Some(e);
                 break;
             }
+            if let EngineClock::Sim(_) = clock
+                && let Some(t_end) = sensor.exhausted_at_s()
+                && now >= t_end
+                && self.timeline.end.is_none()
+            {
+                self.end_of_recording(t_end, turntable, &mut bufs)?;
+            }
             if let (Some(after), Phase::Prompt { since_s, .. }) =
                 (auto_confirm_after_s, &self.timeline.phase)
                 && now - since_s >= after
             {
                 let t = since_s + after;
-                self.event(t, "note", "prompt confirmed by the simulated operator")?;
+                let who = if self.setup.mode == "demo" {
+                    "prompt confirmed by the simulated operator"
+                } else {
+                    "prompt confirmed at once (replay at full speed: the recording went on)"
+                };
+                self.event(t, "note", who)?;
                 self.on_command(t, Command::ConfirmPrompt, turntable)?;
                 self.drive_turn(turntable)?;
             }
@@ -602,11 +623,13 @@ impl Engine {
                     }
                 }
                 SensorEvent::Lost { .. } => {
-                    self.sensor_lost = true;
+                    self.timeline.set_sensor_lost(t, true);
+                    self.record_timeline()?;
                     self.event(t, "sensor_lost", "no data")?
                 }
                 SensorEvent::Back { .. } => {
-                    self.sensor_lost = false;
+                    self.timeline.set_sensor_lost(t, false);
+                    self.record_timeline()?;
                     self.event(t, "sensor_back", "")?
                 }
             }
@@ -627,6 +650,26 @@ impl Engine {
                 }
                 Err(_) => break,
             }
+        }
+        Ok(())
+    }
+
+    /// A replay file ran out at `t` (its last line + `sensor.lost_after_s`): the timeline is
+    /// brought to `t` (the protocol may finish by then), else the session ends there.
+    fn end_of_recording(
+        &mut self,
+        t: f64,
+        turntable: &mut dyn Turntable,
+        bufs: &mut Buffers,
+    ) -> Result<(), EngineError> {
+        let t = t.max(self.timeline.t_s);
+        self.poll_turntable(t, turntable, &mut bufs.turntable)?;
+        self.advance_to(t)?;
+        self.drive_turn(turntable)?;
+        if self.timeline.end.is_none() {
+            self.event(t, "note", "end of the replay file")?;
+            self.timeline.finish_timeline(t, EndReason::EndOfRecording);
+            self.record_timeline()?;
         }
         Ok(())
     }
@@ -667,9 +710,14 @@ impl Engine {
             "session {status} ({reason}): {} samples, r world {:.3}, r arena {:.3}",
             self.samples, summary.r_world, summary.r_arena
         ));
+        let lines = crate::engine::snapshot::summary_lines(&summary);
+        for l in &lines {
+            progress(l);
+        }
         let mut snap = self.snapshot(t_end);
         snap.ended = true;
         snap.end_reason = Some(format!("{status}: {reason}"));
+        snap.watch.end_summary = lines;
         cell.publish(snap);
         Ok(Outcome {
             dir,

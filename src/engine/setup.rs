@@ -168,10 +168,15 @@ pub enum EndReason {
     ProtocolFinished,
     /// The flight rules' abort: too long without flight.
     NoFlight,
+    /// The sensor-loss rules' abort: too long without data from the heading sensor.
+    SensorLost,
     /// The operator ended the session before the protocol was done.
     EndedByOperator,
     /// A termination signal (SIGINT, SIGTERM, SIGHUP) ended it before the protocol was done.
     Signal(crate::signals::StopSignal),
+    /// A replay file at full speed ran out before the protocol was done (the end of the file is
+    /// noticed like a lost sensor, `sensor.lost_after_s` after its last line).
+    EndOfRecording,
     /// The loop stopped without the timeline ending the session.
     Stopped,
 }
@@ -196,12 +201,14 @@ impl EndReason {
         match self {
             EndReason::ProtocolFinished => "protocol finished",
             EndReason::NoFlight => "no flight",
+            EndReason::SensorLost => "sensor lost",
             EndReason::EndedByOperator => "ended by the operator",
             EndReason::Signal(s) => match s {
                 crate::signals::StopSignal::Int => "ended by SIGINT",
                 crate::signals::StopSignal::Term => "ended by SIGTERM",
                 crate::signals::StopSignal::Hup => "ended by SIGHUP",
             },
+            EndReason::EndOfRecording => "end of the recording",
             EndReason::Stopped => "stopped",
         }
     }
@@ -212,7 +219,10 @@ impl EndReason {
     pub fn exit_code(self) -> i32 {
         match self {
             EndReason::ProtocolFinished | EndReason::EndedByOperator | EndReason::Signal(_) => 0,
-            EndReason::NoFlight | EndReason::Stopped => 1,
+            EndReason::NoFlight
+            | EndReason::SensorLost
+            | EndReason::EndOfRecording
+            | EndReason::Stopped => 1,
         }
     }
 }

@@ -24,6 +24,11 @@ pub enum Command {
     ConfirmPrompt,
     /// End the session (after the operator confirmed).
     EndSession,
+    /// Answer to a prompt to turn the arena: it could not be turned (the turn is recorded as
+    /// not made and its world shift is not scored).
+    CouldNotTurn,
+    /// Make every later turn a prompt to turn by hand (after a turntable fault).
+    TurnsByHand,
 }
 
 impl From<crate::rig::sim::OperatorAction> for Command {
@@ -71,10 +76,24 @@ pub struct EpochRow {
     pub mean_world_deg: Option<f64>,
     /// Mean vector length of world headings.
     pub r: f64,
-    /// Rayleigh p on the effective sample size.
-    pub rayleigh_p_eff: f64,
+    /// `p_oriented` of the epoch so far, the calibrated test that the heading was held (as in
+    /// `summary.json`); None until the epoch holds
+    /// [`crate::circular::MIN_SCORED_S`] of scored flight.
+    pub p_oriented: Option<f64>,
     /// Pending, current, done, skipped.
     pub state: EpochState,
+}
+
+/// `p_oriented` as the screen's `p held` column and the headless progress lines both show it:
+/// "–" while the epoch holds too little flight for the test (None), "≤0.001" at the test's
+/// floor ([`crate::circular::P_FLOOR`]), else three decimals below 0.1 and two above.
+pub fn p_held_text(p: Option<f64>) -> String {
+    match p {
+        Some(p) if p.is_finite() && p <= crate::circular::P_FLOOR => "≤0.001".into(),
+        Some(p) if p.is_finite() && p < 0.1 => format!("{p:.3}"),
+        Some(p) if p.is_finite() => format!("{p:.2}"),
+        _ => "–".into(),
+    }
 }
 
 /// One turn line of the live table.
@@ -138,6 +157,148 @@ pub struct Prompt {
     pub waiting_s: f64,
     /// Seconds until the protocol expected the next epoch to start (negative: late).
     pub countdown_s: f64,
+    /// The prompt asks for a turn by hand (a manual turntable, turns by hand after a fault,
+    /// or a fault): it may be answered "could not turn".
+    pub turn_by_hand: bool,
+}
+
+/// A turn counts as "kept" (compensated) on screen and in the end summary when its world shift
+/// lies nearer 0 than the turn itself, for turns of at least this size (a display rule of our
+/// own, not a statistical test).
+pub const VERDICT_MIN_TURN_DEG: f64 = 30.0;
+
+/// "kept" (true) when the world heading stayed nearer its old value than the turn, "moved"
+/// (false) otherwise; None for small turns or an unknown shift (the display rule above).
+pub fn turn_kept(turn_deg: f64, shift_deg: f64) -> Option<bool> {
+    if turn_deg.abs() < VERDICT_MIN_TURN_DEG || !shift_deg.is_finite() {
+        return None;
+    }
+    Some(shift_deg.abs() <= crate::frames::signed_difference_deg(turn_deg, shift_deg).abs())
+}
+
+/// The session's summary in a few lines for people: hold, turns kept, and the turn test when
+/// the summary carries one (`turn_test` in `summary.json`). The end screen shows them and a
+/// headless run prints them before the folder path.
+pub fn summary_lines(summary: &crate::archive::Summary) -> Vec<String> {
+    let mut lines = vec![format!(
+        "hold r world {:.3}, arena {:.3} (all scored samples)",
+        summary.r_world, summary.r_arena
+    )];
+    let planned: Vec<_> = summary
+        .turns
+        .iter()
+        .filter(|t| t.turn_deg.abs() > 1e-9)
+        .collect();
+    if !planned.is_empty() {
+        let scored: Vec<_> = planned
+            .iter()
+            .filter_map(|t| t.world_shift_deg.map(|s| (t.turn_deg, s)))
+            .collect();
+        let kept = scored
+            .iter()
+            .filter(|(t, s)| turn_kept(*t, *s) == Some(true))
+            .count();
+        lines.push(format!(
+            "turns kept: {kept} of {} scored ({} of {} turns not scored)",
+            scored.len(),
+            planned.len() - scored.len(),
+            planned.len()
+        ));
+    }
+    // The turn test is read by name so this works whether or not the summary has it yet.
+    if let Ok(v) = serde_json::to_value(summary)
+        && let Some(tt) = v.get("turn_test").filter(|t| t.is_object())
+    {
+        let num = |k: &str, digits: usize| {
+            tt.get(k)
+                .and_then(serde_json::Value::as_f64)
+                .map(|x| format!("{x:.digits$}"))
+                .unwrap_or_else(|| "–".to_string())
+        };
+        let mean = match num("mean_world_shift_deg", 1).as_str() {
+            "–" => "–".to_string(),
+            m => format!("{m}°"),
+        };
+        lines.push(format!(
+            "turn test: {} turns, mean world shift {mean}, p world kept {}, p arena kept {}",
+            num("turns", 0),
+            num("p_world_kept", 3),
+            num("p_arena_kept", 3)
+        ));
+    }
+    lines
+}
+
+/// What the next turn is waiting for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum TurnState {
+    /// No turn remains in the protocol.
+    #[default]
+    NoneLeft,
+    /// The epoch clock runs: the turn comes when it has run `in_s` more seconds.
+    Counting,
+    /// The epoch clock is stopped (paused, not flying with the clock rule, sensor lost): the
+    /// countdown stands still.
+    ClockStopped,
+    /// The arena is turning now.
+    UnderWay,
+    /// An operator prompt waits for an answer before the turn (or before the epoch).
+    AwaitingOperator,
+    /// The turntable failed: the turn waits for the operator.
+    Fault,
+    /// The turn waits for the heading sensor to come back (sensor-loss rules).
+    HeldSensorLost,
+}
+
+/// The next turn and what it waits for: the countdown the operator relies on to keep fingers
+/// out of the arena, right in every state.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
+pub struct NextTurn {
+    /// What the turn waits for.
+    pub state: TurnState,
+    /// The turn, degrees (None with [`TurnState::NoneLeft`], or when a prompt is not a turn
+    /// and no turn follows).
+    pub deg: Option<f64>,
+    /// Epoch-clock seconds until the turn is due (None when it is not counted down: under
+    /// way, waiting for the operator or the sensor, or none left).
+    pub in_s: Option<f64>,
+}
+
+/// An abort rule that will end the session unless something changes.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct AutoAbort {
+    /// Session seconds until it fires.
+    pub in_s: f64,
+    /// Why ("no flight", "sensor lost").
+    pub reason: String,
+}
+
+/// What keeps a field day from going wrong: countdown, staleness, faults, abort timers, and
+/// what ending now would record.
+#[derive(Debug, Clone, PartialEq, Serialize, Default)]
+pub struct Watch {
+    /// The next turn.
+    pub next_turn: NextTurn,
+    /// Session seconds since the last sample (None before the first).
+    pub sample_age_s: Option<f64>,
+    /// The latest heading is too old to be taken as live (the sensor is lost or silent).
+    pub heading_stale: bool,
+    /// Turntable faults so far.
+    pub turntable_faults: u32,
+    /// Every later turn is a prompt to turn by hand (chosen after a fault).
+    pub turns_by_hand: bool,
+    /// Seconds since the animal stopped flying (None while flying).
+    pub not_flying_for_s: Option<f64>,
+    /// Seconds since the sensor was lost (None while it delivers).
+    pub sensor_lost_for_s: Option<f64>,
+    /// The abort rule that will fire first, if one runs.
+    pub auto_abort: Option<AutoAbort>,
+    /// The status ending the session now would record ("complete" or "aborted").
+    pub end_now_status: String,
+    /// The session's summary in lines, once it has ended (the same lines a headless run
+    /// prints before the folder path).
+    pub end_summary: Vec<String>,
 }
 
 /// Everything a screen shows, published by the engine (at most ~30 per second).
@@ -219,6 +380,8 @@ pub struct Snapshot {
     pub ended: bool,
     /// How it ended ("complete", "aborted: ..."), once ended.
     pub end_reason: Option<String>,
+    /// Countdown, staleness, faults, abort timers.
+    pub watch: Watch,
 }
 
 /// Where the engine publishes its latest snapshot and screens read it (latest wins).

@@ -9,9 +9,9 @@
 //! clock, no device and no file.
 
 use super::setup::EndReason;
-use crate::engine::snapshot::{Command, EpochState};
+use crate::engine::snapshot::{Command, EpochState, NextTurn, TurnState};
 use crate::frames::arena_bearing_after_rotation_deg;
-use crate::protocol::{ArenaMove, FlightRules, Protocol};
+use crate::protocol::{ArenaMove, FlightRules, Protocol, SensorLossRules};
 use crate::rig::{Turntable, TurntableEvent};
 
 /// An event the timeline asks the loop to record (in the order queued).
@@ -40,8 +40,21 @@ pub(super) struct Timeline {
     pub(super) paused: bool,
     /// Set once the session has ended.
     pub(super) end: Option<EndReason>,
+    /// The heading sensor is lost (no data) right now, and since when.
+    pub(super) sensor_lost: bool,
+    pub(super) lost_since_s: Option<f64>,
+    /// Every later turn is a prompt to turn by hand (chosen by the operator after a fault).
+    pub(super) turns_by_hand: bool,
+    /// Turntable faults so far.
+    pub(super) turntable_faults: u32,
+    /// Turns (1-based: turn k lies between epochs k and k + 1) whose world shift must not be
+    /// scored: the arena could not be turned, or the turn was made while the sensor was lost.
+    pub(super) unscored_turns: Vec<usize>,
+    /// The pending turn's "held" event was recorded.
+    hold_noted: bool,
     settle_s: f64,
-    flight: FlightRules,
+    pub(super) flight: FlightRules,
+    pub(super) sensor_loss: SensorLossRules,
     /// True bearing of the arena's 0 mark (for the epoch_start line).
     mark_true_deg: f64,
     events: Vec<TimelineEvent>,
@@ -133,8 +146,15 @@ impl Timeline {
             stopped_since_s: None,
             paused: false,
             end: None,
+            sensor_lost: false,
+            lost_since_s: None,
+            turns_by_hand: false,
+            turntable_faults: 0,
+            unscored_turns: Vec::new(),
+            hold_noted: false,
             settle_s: protocol.settle_s,
             flight: protocol.flight,
+            sensor_loss: protocol.sensor_loss,
             mark_true_deg,
             events: Vec::new(),
         }
@@ -263,9 +283,118 @@ impl Timeline {
         }
     }
 
+    /// The next turn and what it waits for, in every phase: never "none left" while a turn
+    /// remains. `in_s` counts epoch-clock seconds (it stands still while the clock is stopped).
+    pub(super) fn next_turn(&self) -> NextTurn {
+        // The first turn at or after epoch `from` (the arena at `pos`), and the epoch-clock
+        // seconds until it, starting from `in_s`.
+        let first_from = |from: usize, mut pos: f64, mut in_s: f64| -> Option<(f64, f64)> {
+            for e in self.epochs.iter().skip(from) {
+                let t = e.arena.turn_from_deg(pos);
+                if t.abs() > 1e-9 {
+                    return Some((t, in_s));
+                }
+                pos += t;
+                in_s += e.duration_s;
+            }
+            None
+        };
+        let none = NextTurn::default();
+        match &self.phase {
+            Phase::Running { k } => {
+                let e = &self.epochs[*k];
+                let left = (e.duration_s - e.clock_s).max(0.0);
+                match first_from(k + 1, self.position_deg, left) {
+                    Some((deg, in_s)) => NextTurn {
+                        state: if self.clock_runs() {
+                            TurnState::Counting
+                        } else {
+                            TurnState::ClockStopped
+                        },
+                        deg: Some(deg),
+                        in_s: Some(in_s),
+                    },
+                    None => none,
+                }
+            }
+            Phase::Turning {
+                by_deg, commanded, ..
+            } => NextTurn {
+                state: if *commanded {
+                    TurnState::UnderWay
+                } else {
+                    TurnState::HeldSensorLost
+                },
+                deg: Some(*by_deg),
+                in_s: None,
+            },
+            Phase::Prompt { next, kind, .. } => match kind {
+                PromptKind::ManualTurn { by_deg } => NextTurn {
+                    state: TurnState::AwaitingOperator,
+                    deg: Some(*by_deg),
+                    in_s: None,
+                },
+                PromptKind::TurntableFault { by_deg } => NextTurn {
+                    state: TurnState::Fault,
+                    deg: Some(*by_deg),
+                    in_s: None,
+                },
+                PromptKind::Protocol => {
+                    let by = self.epochs[*next].arena.turn_from_deg(self.position_deg);
+                    if by.abs() > 1e-9 {
+                        NextTurn {
+                            state: TurnState::AwaitingOperator,
+                            deg: Some(by),
+                            in_s: None,
+                        }
+                    } else {
+                        // A prompt that is not a turn: the next turn comes after this epoch.
+                        let later =
+                            first_from(next + 1, self.position_deg, self.epochs[*next].duration_s);
+                        NextTurn {
+                            state: TurnState::AwaitingOperator,
+                            deg: later.map(|l| l.0),
+                            in_s: later.map(|l| l.1),
+                        }
+                    }
+                }
+            },
+            Phase::Finished => none,
+        }
+    }
+
     /// Is the epoch clock running right now?
     pub(super) fn clock_runs(&self) -> bool {
-        !self.paused && (self.flying || !self.flight.pause_clock_when_stopped)
+        let stopped_by_flight = !self.flying && self.flight.pause_clock_when_stopped;
+        let stopped_by_loss = self.sensor_lost && self.sensor_loss.pause_clock;
+        !self.paused && !stopped_by_flight && !stopped_by_loss
+    }
+
+    /// Do flying seconds count right now? (Not while paused, and not while the sensor is lost:
+    /// seconds without headings are no flight data.)
+    fn flight_counts(&self) -> bool {
+        self.flying && !self.paused && !self.sensor_lost
+    }
+
+    /// When the session will be aborted if nothing changes, and why: the flight rules' limit
+    /// on time without flight, or the sensor-loss rules' limit on time without data.
+    pub(super) fn abort_at(&self) -> Option<(f64, EndReason)> {
+        let no_flight = match (self.flight.abort_after_stopped_s, self.stopped_since_s) {
+            (Some(limit), Some(since)) if !self.flying => {
+                Some((since + limit, EndReason::NoFlight))
+            }
+            _ => None,
+        };
+        let lost = match (self.sensor_loss.abort_after_s, self.lost_since_s) {
+            (Some(limit), Some(since)) if self.sensor_lost => {
+                Some((since + limit, EndReason::SensorLost))
+            }
+            _ => None,
+        };
+        match (no_flight, lost) {
+            (Some(a), Some(b)) => Some(if b.0 < a.0 { b } else { a }),
+            (a, b) => a.or(b),
+        }
     }
 
     /// Advances the timeline to `t`, executing epoch ends (and the abort rule) at the exact
@@ -273,11 +402,9 @@ impl Timeline {
     pub(super) fn advance_to(&mut self, t: f64) {
         while t > self.t_s && self.end.is_none() {
             let from = self.t_s;
-            // Abort rule: too long without flight.
-            let abort_at = match (self.flight.abort_after_stopped_s, self.stopped_since_s) {
-                (Some(limit), Some(since)) if !self.flying => Some(since + limit),
-                _ => None,
-            };
+            // Abort rules: too long without flight, or without data from the sensor.
+            let abort = self.abort_at();
+            let abort_at = abort.map(|(at, _)| at);
             let end_at = match self.phase {
                 Phase::Running { k } => {
                     let e = &self.epochs[k];
@@ -287,7 +414,7 @@ impl Timeline {
                         Some(m) => (m - e.flying_s).max(0.0),
                         None => 0.0,
                     };
-                    let fly_runs = self.flying && !self.paused;
+                    let fly_runs = self.flight_counts();
                     let clock_done_at = if need_clock == 0.0 {
                         Some(from)
                     } else if runs {
@@ -319,10 +446,21 @@ impl Timeline {
             if step_to >= t && next_at > t {
                 break;
             }
-            if abort_at.is_some_and(|a| a <= step_to) {
-                let limit = self.flight.abort_after_stopped_s.unwrap_or(0.0);
-                self.event(step_to, "abort", format!("no flight for {limit:.0} s"));
-                self.finish_timeline(step_to, EndReason::NoFlight);
+            if let Some((at, why)) = abort
+                && at <= step_to
+            {
+                let detail = match why {
+                    EndReason::SensorLost => format!(
+                        "sensor lost for {:.0} s",
+                        self.sensor_loss.abort_after_s.unwrap_or(0.0)
+                    ),
+                    _ => format!(
+                        "no flight for {:.0} s",
+                        self.flight.abort_after_stopped_s.unwrap_or(0.0)
+                    ),
+                };
+                self.event(step_to, "abort", detail);
+                self.finish_timeline(step_to, why);
                 break;
             }
             if end_at.is_some_and(|a| a <= step_to)
@@ -343,13 +481,47 @@ impl Timeline {
         }
         if let Phase::Running { k } = self.phase {
             let runs = self.clock_runs();
+            let counts = self.flight_counts();
             let e = &mut self.epochs[k];
             if runs {
                 e.clock_s += dt;
             }
-            if self.flying && !self.paused {
+            if counts {
                 e.flying_s += dt;
             }
+        }
+    }
+
+    /// The sensor was lost (or came back) at `t`. While it is lost the sensor-loss rules apply:
+    /// the epoch clock may stop, a due turn waits ([`Timeline::drive_turn`]) and the abort
+    /// limit runs. A turn held while the sensor was lost starts when it is back.
+    pub(super) fn set_sensor_lost(&mut self, t: f64, lost: bool) {
+        if lost == self.sensor_lost {
+            return;
+        }
+        self.advance_to(t);
+        self.sensor_lost = lost;
+        if lost {
+            self.lost_since_s = Some(t);
+        } else {
+            self.lost_since_s = None;
+            if let Phase::Turning {
+                since_s,
+                commanded: false,
+                ..
+            } = &mut self.phase
+            {
+                *since_s = t;
+            }
+        }
+    }
+
+    /// Turn `next_epoch`'s turn (the one before that epoch) will not be scored, and why.
+    fn unscore_turn(&mut self, t: f64, next_epoch: usize, why: &str) {
+        let turn = self.epochs[next_epoch].index.saturating_sub(1);
+        if turn > 0 && !self.unscored_turns.contains(&turn) {
+            self.unscored_turns.push(turn);
+            self.event(t, "turn_not_scored", format!("turn {turn}: {why}"));
         }
     }
 
@@ -384,13 +556,21 @@ impl Timeline {
                         .map(|p| format!("; reported position {p:.1} deg"))
                         .unwrap_or_default();
                     self.event(t_s, "turn_done", format!("{by_deg:+.1} deg{reported}"));
+                    if self.sensor_lost {
+                        self.unscore_turn(t_s, next, "made while the sensor was lost");
+                    }
+                    // A reply stamped before the loop got to it (the timeline already stands
+                    // later): the epoch began at the reply, so its clock runs from there.
+                    let now = self.t_s;
                     self.start_epoch(next, t_s, true);
+                    self.accrue(t_s, now);
                 } else {
                     self.event(t_s, "turntable_reply", "unexpected done");
                 }
             }
             TurntableEvent::Fault { t_s, text } => {
                 self.advance_to(t_s);
+                self.turntable_faults += 1;
                 self.event(t_s, "turn_fault", text.clone());
                 if let Phase::Turning {
                     next,
@@ -401,7 +581,7 @@ impl Timeline {
                 {
                     self.position_deg = from_deg;
                     let prompt = format!(
-                        "Turntable fault ({text}). Turn the arena {by_deg:+.0}° by hand (clockwise seen from above is +), then press Enter"
+                        "Turntable fault ({text}). Turn the arena {by_deg:+.0}° by hand (clockwise seen from above is +), then press Enter (b: every later turn by hand; x: could not turn)"
                     );
                     self.event(t_s, "prompt", prompt.clone());
                     self.phase = Phase::Prompt {
@@ -467,9 +647,41 @@ impl Timeline {
                                 "turn_done",
                                 format!("{by_deg:+.1} deg (by hand, confirmed)"),
                             );
+                            if self.sensor_lost {
+                                self.unscore_turn(t, next, "made while the sensor was lost");
+                            }
                             self.start_epoch(next, t, true);
                         }
                     }
+                }
+            }
+            Command::CouldNotTurn => {
+                if let Phase::Prompt {
+                    next,
+                    kind: PromptKind::ManualTurn { by_deg } | PromptKind::TurntableFault { by_deg },
+                    ..
+                } = self.phase.clone()
+                {
+                    self.event(
+                        t,
+                        "turn_not_made",
+                        format!(
+                            "{by_deg:+.1} deg before epoch {}: could not turn; the arena stays",
+                            self.epochs[next].index
+                        ),
+                    );
+                    self.unscore_turn(t, next, "the arena could not be turned");
+                    self.start_epoch(next, t, true);
+                }
+            }
+            Command::TurnsByHand => {
+                if !self.turns_by_hand {
+                    self.turns_by_hand = true;
+                    self.event(
+                        t,
+                        "turns_by_hand",
+                        "every later turn is a prompt to turn the arena by hand",
+                    );
                 }
             }
             Command::EndSession => self.end_requested(t, EndReason::EndedByOperator),
@@ -497,7 +709,7 @@ impl Timeline {
 
     pub(super) fn manual_turn_prompt(&mut self, next: usize, by_deg: f64, t: f64) {
         let text = format!(
-            "Turn the arena {by_deg:+.0}° ({}), then press Enter",
+            "Turn the arena {by_deg:+.0}° ({}), then press Enter (x: could not turn)",
             if by_deg >= 0.0 {
                 "clockwise seen from above"
             } else {
@@ -526,10 +738,25 @@ impl Timeline {
             else {
                 return;
             };
+            if self.sensor_lost && self.sensor_loss.hold_turns {
+                if !self.hold_noted {
+                    self.hold_noted = true;
+                    self.event(
+                        since_s,
+                        "turn_held",
+                        format!(
+                            "{by_deg:+.1} deg before epoch {}: waits for the sensor",
+                            self.epochs[next].index
+                        ),
+                    );
+                }
+                return;
+            }
+            self.hold_noted = false;
             if let Phase::Turning { commanded, .. } = &mut self.phase {
                 *commanded = true;
             }
-            if turntable.is_manual() {
+            if turntable.is_manual() || self.turns_by_hand {
                 return self.manual_turn_prompt(next, by_deg, since_s);
             }
             self.event(

@@ -3,10 +3,16 @@
 use super::session::Engine;
 use super::stamp::Stamped;
 use super::timeline::Phase;
-use crate::engine::snapshot::{EpochRow, Health, Prompt, Snapshot, TracePoint, TurnRow};
+use crate::engine::snapshot::{
+    AutoAbort, EpochRow, EpochState, Health, Prompt, Snapshot, TracePoint, TurnRow, Watch,
+};
 use crate::sky::polarization::zenith_evector_deg;
 use chrono::Duration;
 use std::collections::VecDeque;
+
+/// A heading older than this many session seconds is shown as stale, not live (a display rule
+/// of our own: ten sample periods of a slow 10 Hz sensor).
+pub const HEADING_STALE_S: f64 = 1.0;
 
 /// Spacing of trace points kept for screens, session seconds.
 const TRACE_SPACING_S: f64 = 0.25;
@@ -64,15 +70,17 @@ impl Trace {
 impl Engine {
     /// The read-only picture of the session for screens.
     pub fn snapshot(&self, now: f64) -> Snapshot {
-        let summary = self.scoring.summary();
+        let summary = self.scoring.live();
         let sun_now = self.stamper.sun_at(now.max(0.0));
         let pos = self.timeline.position_deg;
         let epochs: Vec<EpochRow> = self
             .timeline
             .epochs
             .iter()
-            .map(|e| {
-                let s = summary.epochs.iter().find(|x| x.index == e.index);
+            .enumerate()
+            .map(|(at, e)| {
+                // The timeline's epochs and the builder's lines are both in plan order.
+                let s = summary.epochs.get(at).filter(|x| x.index == e.index);
                 EpochRow {
                     index: e.index,
                     condition: e.condition.clone(),
@@ -83,7 +91,7 @@ impl Engine {
                     mean_arena_deg: s.and_then(|x| x.mean_arena_deg),
                     mean_world_deg: s.and_then(|x| x.mean_world_deg),
                     r: s.map(|x| x.r).unwrap_or(0.0),
-                    rayleigh_p_eff: s.map(|x| x.rayleigh_p_eff).unwrap_or(1.0),
+                    p_oriented: s.and_then(|x| x.p_oriented),
                     state: e.state,
                 }
             })
@@ -91,10 +99,10 @@ impl Engine {
         let turns: Vec<TurnRow> = summary
             .turns
             .iter()
-            .map(|t| TurnRow {
-                index: t.index,
-                turn_deg: t.turn_deg,
-                world_shift_deg: t.world_shift_deg,
+            .map(|&(index, turn_deg, world_shift_deg)| TurnRow {
+                index,
+                turn_deg,
+                world_shift_deg,
             })
             .collect();
         let (epoch_left, k_opt) = match &self.timeline.phase {
@@ -131,7 +139,13 @@ impl Engine {
             _ => (None, None),
         };
         let prompt = match &self.timeline.phase {
-            Phase::Prompt { text, since_s, .. } => Some(Prompt {
+            Phase::Prompt {
+                text,
+                since_s,
+                kind,
+                ..
+            } => Some(Prompt {
+                turn_by_hand: !matches!(kind, super::timeline::PromptKind::Protocol),
                 text: text.clone(),
                 waiting_s: now - since_s,
                 countdown_s: -(now - since_s),
@@ -199,7 +213,7 @@ impl Engine {
                 jitter_ms: self.health.jitter_ms,
                 malformed: self.health.malformed,
                 lost_periods: self.health.lost_periods,
-                sensor_lost: self.sensor_lost,
+                sensor_lost: self.timeline.sensor_lost,
                 // Shown as an age on the session's own time line: now minus the real time since
                 // the sync (so an accelerated demo does not look stale).
                 last_sync_utc: self.last_sync.map(|i| {
@@ -215,6 +229,37 @@ impl Engine {
             recent_events: self.recent.iter().cloned().collect(),
             ended: false,
             end_reason: None,
+            watch: self.watch(now),
+        }
+    }
+
+    /// Countdown, staleness, faults and abort timers at `now`.
+    fn watch(&self, now: f64) -> Watch {
+        let tl = &self.timeline;
+        let sample_age_s = self.last_sample.map(|s| (now - s.t_s).max(0.0));
+        let all_done = tl
+            .epochs
+            .iter()
+            .all(|e| e.state != EpochState::Pending && e.state != EpochState::Current);
+        let at = now.max(tl.t_s);
+        Watch {
+            next_turn: tl.next_turn(),
+            sample_age_s,
+            heading_stale: tl.sensor_lost || sample_age_s.is_some_and(|a| a > HEADING_STALE_S),
+            turntable_faults: tl.turntable_faults,
+            turns_by_hand: tl.turns_by_hand,
+            not_flying_for_s: if tl.flying {
+                None
+            } else {
+                tl.stopped_since_s.map(|s| (at - s).max(0.0))
+            },
+            sensor_lost_for_s: tl.lost_since_s.map(|s| (at - s).max(0.0)),
+            auto_abort: tl.abort_at().map(|(t, why)| AutoAbort {
+                in_s: (t - at).max(0.0),
+                reason: why.text().to_string(),
+            }),
+            end_now_status: if all_done { "complete" } else { "aborted" }.to_string(),
+            end_summary: Vec::new(),
         }
     }
 }

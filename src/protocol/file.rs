@@ -6,11 +6,10 @@
 //! `epochs[3].duration_s` (entries of `[[epochs]]` are counted from 1, as in the file).
 
 use super::sequence::{self, Order};
-use super::{ArenaMove, EpochPlan, FlightRules, Protocol};
+use super::{ArenaMove, EpochPlan, FlightRules, Protocol, SensorLossRules};
 use serde::Deserialize;
 use std::ops::Range;
 use toml::Spanned;
-use toml::de::{DeTable, DeValue};
 
 /// Longest epoch (and longest flight rule), seconds: 24 hours. Longer values are refused, so
 /// that no time computed from a protocol can overflow a date or exhaust memory.
@@ -81,6 +80,8 @@ struct RawProtocol {
     #[serde(default)]
     flight: Option<RawFlight>,
     #[serde(default)]
+    sensor_loss: Option<RawSensorLoss>,
+    #[serde(default)]
     epochs: Option<Spanned<Vec<Spanned<RawEntry>>>>,
 }
 
@@ -93,6 +94,17 @@ struct RawFlight {
     min_flying_s: Option<Spanned<f64>>,
     #[serde(default)]
     abort_after_stopped_s: Option<Spanned<f64>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSensorLoss {
+    #[serde(default)]
+    pause_clock: Option<Spanned<bool>>,
+    #[serde(default)]
+    hold_turns: Option<Spanned<bool>>,
+    #[serde(default)]
+    abort_after_s: Option<Spanned<f64>>,
 }
 
 /// One `[[epochs]]` entry: a single epoch, or a generated sequence when `count` is given.
@@ -125,189 +137,8 @@ struct RawEntry {
 /// The condition an epoch gets when the file names none.
 pub const DEFAULT_CONDITION: &str = "open sky";
 
-// ---------------------------------------------------------------------------------------------
-// Helpers for positions in the text.
-
-struct Source<'a> {
-    file: &'a str,
-    text: &'a str,
-}
-
-impl Source<'_> {
-    fn line_of(&self, offset: usize) -> usize {
-        let end = offset.min(self.text.len());
-        let mut cut = end;
-        while cut > 0 && !self.text.is_char_boundary(cut) {
-            cut -= 1;
-        }
-        self.text[..cut].matches('\n').count() + 1
-    }
-
-    fn field_err(
-        &self,
-        span: Range<usize>,
-        field: impl Into<String>,
-        message: impl Into<String>,
-    ) -> ProtocolError {
-        ProtocolError::Field {
-            file: self.file.to_string(),
-            line: self.line_of(span.start),
-            field: field.into(),
-            message: message.into(),
-        }
-    }
-
-    fn warn(&self, span: Range<usize>, field: &str, message: impl AsRef<str>) -> String {
-        format!(
-            "{}:{}: {}: {}",
-            self.file,
-            self.line_of(span.start),
-            field,
-            message.as_ref()
-        )
-    }
-}
-
-/// Finds the dotted path (`epochs[2].turns[1]`) of the innermost key or value covering `offset`.
-///
-/// Tables (`[flight]`, `[[epochs]]`) carry the span of their header only, so every entry of the
-/// tree is searched, not just those inside a containing span; the deepest hit wins.
-fn path_at(root: &DeTable<'_>, offset: usize) -> Option<String> {
-    let mut best = None;
-    search_table(root, offset, "", &mut best);
-    best
-}
-
-fn contains(span: &Range<usize>, offset: usize) -> bool {
-    span.start <= offset && offset < span.end.max(span.start + 1)
-}
-
-fn search_table(t: &DeTable<'_>, offset: usize, path: &str, best: &mut Option<String>) {
-    for (k, v) in t.iter() {
-        let mut p = path.to_string();
-        push_key(&mut p, k.get_ref());
-        if contains(&k.span(), offset) || contains(&v.span(), offset) {
-            *best = Some(p.clone());
-        }
-        search_value(v, offset, &p, best);
-    }
-}
-
-fn search_value(v: &Spanned<DeValue<'_>>, offset: usize, path: &str, best: &mut Option<String>) {
-    match v.get_ref() {
-        DeValue::Table(t) => search_table(t, offset, path, best),
-        DeValue::Array(a) => {
-            for (i, item) in a.iter().enumerate() {
-                let p = format!("{path}[{}]", i + 1);
-                if contains(&item.span(), offset) {
-                    *best = Some(p.clone());
-                }
-                search_value(item, offset, &p, best);
-            }
-        }
-        _ => {}
-    }
-}
-
-fn push_key(path: &mut String, key: &str) {
-    if !path.is_empty() {
-        path.push('.');
-    }
-    path.push_str(key);
-}
-
-/// Turns a serde/TOML error into our one-line form, naming the field where it can.
-fn convert_toml_error(src: &Source<'_>, err: &toml::de::Error) -> ProtocolError {
-    let message = err.message().trim().replace('\n', " ");
-    let Some(span) = err.span().filter(|s| s.end > 0) else {
-        // Document-level problems (such as a missing top-level key) carry no span.
-        return match missing_field(&message) {
-            Some(name) => ProtocolError::Field {
-                file: src.file.to_string(),
-                line: 1,
-                field: name,
-                message: "missing (required)".to_string(),
-            },
-            None => ProtocolError::Syntax {
-                file: src.file.to_string(),
-                line: 1,
-                message,
-            },
-        };
-    };
-    let line = src.line_of(span.start);
-    let Ok(doc) = DeTable::parse(src.text) else {
-        return ProtocolError::Syntax {
-            file: src.file.to_string(),
-            line,
-            message,
-        };
-    };
-    let mut field = path_at(doc.get_ref(), span.start).unwrap_or_default();
-    let mut message = message;
-    if let Some(name) = unknown_field(&message) {
-        // The span covers the unknown key itself; make sure the path ends with it.
-        if !field.ends_with(&name) {
-            push_key(&mut field, &name);
-        }
-        message = format!("unknown key `{name}`{}", expected_tail(&message));
-    } else if let Some(name) = missing_field(&message) {
-        push_key(&mut field, &name);
-        message = "missing (required)".to_string();
-    } else if let Some(friendly) = friendly_type_error(&message) {
-        message = friendly;
-    }
-    if field.is_empty() {
-        ProtocolError::Syntax {
-            file: src.file.to_string(),
-            line,
-            message,
-        }
-    } else {
-        ProtocolError::Field {
-            file: src.file.to_string(),
-            line,
-            field,
-            message,
-        }
-    }
-}
-
-fn backticked_after(message: &str, prefix: &str) -> Option<String> {
-    let rest = message.strip_prefix(prefix)?;
-    let rest = rest.strip_prefix('`')?;
-    let end = rest.find('`')?;
-    Some(rest[..end].to_string())
-}
-
-fn unknown_field(message: &str) -> Option<String> {
-    backticked_after(message, "unknown field ")
-}
-
-fn missing_field(message: &str) -> Option<String> {
-    backticked_after(message, "missing field ")
-}
-
-/// "invalid type: string \"x\", expected f64" → "must be a number (got string \"x\")".
-fn friendly_type_error(message: &str) -> Option<String> {
-    let rest = message.strip_prefix("invalid type: ")?;
-    let (got, expected) = rest.rsplit_once(", expected ")?;
-    let want = match expected {
-        "f64" | "f32" => "a number".to_string(),
-        "i64" | "u64" | "i32" | "u32" | "usize" => "a whole number".to_string(),
-        "a boolean" => "true or false".to_string(),
-        "a string" => "a quoted string".to_string(),
-        other => other.to_string(),
-    };
-    Some(format!("must be {want} (got {got})"))
-}
-
-fn expected_tail(message: &str) -> String {
-    match message.find(", expected") {
-        Some(i) => message[i..].to_string(),
-        None => String::new(),
-    }
-}
+mod source;
+use source::{Source, convert_toml_error};
 
 fn finite(src: &Source<'_>, v: &Spanned<f64>, field: &str) -> Result<f64, ProtocolError> {
     let x = *v.get_ref();
@@ -329,6 +160,36 @@ fn positive(src: &Source<'_>, v: &Spanned<f64>, field: &str) -> Result<f64, Prot
     } else {
         Err(src.field_err(v.span(), field, format!("must be > 0 (got {x})")))
     }
+}
+
+/// `[sensor_loss]`: defaults from [`SensorLossRules::default`]; `abort_after_s = 0` turns the
+/// abort rule off.
+fn sensor_loss_rules(
+    src: &Source<'_>,
+    raw: Option<&RawSensorLoss>,
+) -> Result<SensorLossRules, ProtocolError> {
+    let mut rules = SensorLossRules::default();
+    let Some(r) = raw else {
+        return Ok(rules);
+    };
+    if let Some(p) = &r.pause_clock {
+        rules.pause_clock = *p.get_ref();
+    }
+    if let Some(h) = &r.hold_turns {
+        rules.hold_turns = *h.get_ref();
+    }
+    if let Some(a) = &r.abort_after_s {
+        let x = finite(src, a, "sensor_loss.abort_after_s")?;
+        if x < 0.0 {
+            return Err(src.field_err(
+                a.span(),
+                "sensor_loss.abort_after_s",
+                format!("must be >= 0 (got {x}; 0 means never)"),
+            ));
+        }
+        rules.abort_after_s = (x > 0.0).then_some(x);
+    }
+    Ok(rules)
 }
 
 /// A positive duration of at most `max` seconds.
@@ -427,6 +288,8 @@ pub fn parse_protocol(
         }
     }
 
+    let sensor_loss = sensor_loss_rules(&src, raw.sensor_loss.as_ref())?;
+
     let Some(entries) = &raw.epochs else {
         return Err(ProtocolError::Field {
             file: source_name.to_string(),
@@ -514,6 +377,7 @@ pub fn parse_protocol(
         description,
         settle_s,
         flight,
+        sensor_loss,
         epochs,
     };
     let total = protocol.total_duration_s();
@@ -804,343 +668,4 @@ fn expand_entry(
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn err(text: &str) -> ProtocolError {
-        match parse_protocol(text, "t.toml") {
-            Ok(_) => panic!("expected an error for:\n{text}"),
-            Err(e) => e,
-        }
-    }
-
-    fn ok(text: &str) -> (Protocol, Vec<String>) {
-        match parse_protocol(text, "t.toml") {
-            Ok(p) => p,
-            Err(e) => panic!("unexpected error {e} for:\n{text}"),
-        }
-    }
-
-    const HEAD: &str = "name = \"t\"\nsettle_s = 5\n";
-
-    fn turns(p: &Protocol) -> Vec<f64> {
-        p.epochs
-            .iter()
-            .skip(1)
-            .map(|e| match e.arena {
-                ArenaMove::TurnBy { deg } => deg,
-                other => panic!("not a turn: {other:?}"),
-            })
-            .collect()
-    }
-
-    #[test]
-    fn single_epochs_get_defaults_and_indices_from_one() {
-        let (p, w) = ok(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 60\n\n[[epochs]]\nduration_s = 30.5\nturn_deg = -90\ncondition = \"diffuser\"\nprompt = \"Place the diffuser\"\n"
-        ));
-        assert!(w.is_empty(), "{w:?}");
-        assert_eq!(p.epochs.len(), 2);
-        assert_eq!(p.epochs[0].index, 1);
-        assert_eq!(p.epochs[1].index, 2);
-        assert_eq!(p.epochs[0].condition, DEFAULT_CONDITION);
-        assert_eq!(p.epochs[0].arena, ArenaMove::Stay);
-        assert_eq!(p.epochs[1].arena, ArenaMove::TurnBy { deg: -90.0 });
-        assert_eq!(p.epochs[1].prompt.as_deref(), Some("Place the diffuser"));
-        assert_eq!(p.total_duration_s(), 90.5);
-        assert_eq!(p.flight, FlightRules::default());
-    }
-
-    #[test]
-    fn cycle_sequence_turns_between_epochs_in_order() {
-        let (p, _) = ok(&format!(
-            "{HEAD}[[epochs]]\ncount = 6\nduration_s = 60\nturns = [90, 180, -90]\norder = \"cycle\"\nprompt = \"go\"\n"
-        ));
-        assert_eq!(p.epochs.len(), 6);
-        assert_eq!(p.epochs[0].arena, ArenaMove::Stay);
-        assert_eq!(turns(&p), vec![90.0, 180.0, -90.0, 90.0, 180.0]);
-        // The prompt belongs to the first epoch of the sequence only.
-        assert_eq!(p.epochs[0].prompt.as_deref(), Some("go"));
-        assert!(p.epochs[1..].iter().all(|e| e.prompt.is_none()));
-    }
-
-    #[test]
-    fn order_defaults_to_cycle() {
-        let (p, _) = ok(&format!(
-            "{HEAD}[[epochs]]\ncount = 4\nduration_s = 60\nturns = [45, -45]\n"
-        ));
-        assert_eq!(turns(&p), vec![45.0, -45.0, 45.0]);
-    }
-
-    #[test]
-    fn shuffle_is_reproducible_for_a_seed_and_balanced_when_it_divides() {
-        let text = |seed: u64| {
-            format!(
-                "{HEAD}[[epochs]]\ncount = 10\nduration_s = 60\nturns = [90, -90, 180]\norder = \"shuffle\"\nseed = {seed}\n"
-            )
-        };
-        let (a, wa) = ok(&text(11));
-        let (b, _) = ok(&text(11));
-        assert!(wa.is_empty(), "{wa:?}");
-        assert_eq!(a, b);
-        let ta = turns(&a);
-        for x in [90.0, -90.0, 180.0] {
-            assert_eq!(ta.iter().filter(|&&t| t == x).count(), 3, "{ta:?}");
-        }
-        let differs = (12..30).any(|s| turns(&ok(&text(s)).0) != ta);
-        assert!(differs, "the seed changes nothing");
-    }
-
-    #[test]
-    fn balanced_counts_are_equal_in_every_block() {
-        let (p, _) = ok(&format!(
-            "{HEAD}[[epochs]]\ncount = 9\nduration_s = 60\nturns = [90, -90, 180, 45]\norder = \"balanced\"\nseed = 3\n"
-        ));
-        let t = turns(&p);
-        assert_eq!(t.len(), 8);
-        for block in t.chunks(4) {
-            for x in [90.0, -90.0, 180.0, 45.0] {
-                assert_eq!(block.iter().filter(|&&v| v == x).count(), 1, "{t:?}");
-            }
-        }
-    }
-
-    #[test]
-    fn positions_become_goto_for_every_epoch() {
-        let (p, _) = ok(&format!(
-            "{HEAD}[[epochs]]\ncount = 4\nduration_s = 60\npositions = [0, 90, -90, 540]\norder = \"fixed\"\n"
-        ));
-        let got: Vec<ArenaMove> = p.epochs.iter().map(|e| e.arena).collect();
-        assert_eq!(
-            got,
-            vec![
-                ArenaMove::GoTo { position_deg: 0.0 },
-                ArenaMove::GoTo { position_deg: 90.0 },
-                ArenaMove::GoTo {
-                    position_deg: 270.0
-                },
-                ArenaMove::GoTo {
-                    position_deg: 180.0
-                },
-            ]
-        );
-        assert_eq!(p.positions_deg(), vec![0.0, 90.0, 270.0, 180.0]);
-    }
-
-    #[test]
-    fn sequence_first_move_comes_from_turn_deg() {
-        let (p, _) = ok(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 60\n[[epochs]]\ncount = 2\nduration_s = 60\nturn_deg = 30\nturns = [60]\n"
-        ));
-        assert_eq!(p.epochs[1].arena, ArenaMove::TurnBy { deg: 30.0 });
-        assert_eq!(p.epochs[2].arena, ArenaMove::TurnBy { deg: 60.0 });
-    }
-
-    #[test]
-    fn flight_rules_are_read() {
-        let (p, _) = ok(&format!(
-            "{HEAD}[flight]\npause_clock_when_stopped = true\nmin_flying_s = 40\nabort_after_stopped_s = 90\n[[epochs]]\nduration_s = 60\n"
-        ));
-        assert_eq!(
-            p.flight,
-            FlightRules {
-                pause_clock_when_stopped: true,
-                min_flying_s: Some(40.0),
-                abort_after_stopped_s: Some(90.0),
-            }
-        );
-    }
-
-    // Bad files: each error is one line naming file, line and field.
-
-    fn assert_field(e: &ProtocolError, line: usize, field: &str, words: &str) {
-        let text = e.to_string();
-        assert!(!text.contains('\n'), "{text}");
-        match e {
-            ProtocolError::Field {
-                file,
-                line: l,
-                field: f,
-                message,
-            } => {
-                assert_eq!(file, "t.toml", "{text}");
-                assert_eq!(*l, line, "{text}");
-                assert_eq!(f, field, "{text}");
-                assert!(message.contains(words), "{text}");
-                assert!(
-                    text.starts_with(&format!("t.toml:{line}: {field}: ")),
-                    "{text}"
-                );
-            }
-            other => panic!("not a field error: {other:?}"),
-        }
-    }
-
-    #[test]
-    fn negative_duration() {
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 10\n\n[[epochs]]\nduration_s = -5\n"
-        ));
-        assert_field(&e, 7, "epochs[2].duration_s", "must be > 0 (got -5)");
-    }
-
-    #[test]
-    fn unknown_key() {
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 10\ndurration_s = 3\n"
-        ));
-        assert_field(&e, 5, "epochs[1].durration_s", "unknown key `durration_s`");
-        let e = err(&format!(
-            "{HEAD}[flight]\npause = true\n[[epochs]]\nduration_s = 3\n"
-        ));
-        assert_field(&e, 4, "flight.pause", "unknown key");
-        let e = err(&format!(
-            "{HEAD}colour = \"blue\"\n[[epochs]]\nduration_s = 3\n"
-        ));
-        assert_field(&e, 3, "colour", "unknown key");
-    }
-
-    #[test]
-    fn zero_epochs() {
-        let e = err(&format!("{HEAD}epochs = []\n"));
-        assert_field(&e, 3, "epochs", "no epochs");
-        let e = err(HEAD);
-        assert_field(&e, 3, "epochs", "no epochs");
-    }
-
-    #[test]
-    fn turn_not_a_number() {
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\ncount = 3\nduration_s = 10\nturns = [90, \"left\"]\n"
-        ));
-        assert_field(
-            &e,
-            6,
-            "epochs[1].turns[2]",
-            "must be a number (got string \"left\")",
-        );
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 3\nturn_deg = \"x\"\n"
-        ));
-        assert_field(&e, 5, "epochs[1].turn_deg", "must be a number");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 3\nturn_deg = inf\n"
-        ));
-        assert_field(&e, 5, "epochs[1].turn_deg", "finite");
-    }
-
-    #[test]
-    fn shuffle_with_empty_turn_list() {
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\ncount = 3\nduration_s = 10\nturns = []\norder = \"shuffle\"\nseed = 1\n"
-        ));
-        assert_field(&e, 6, "epochs[1].turns", "empty list");
-    }
-
-    #[test]
-    fn other_bad_values() {
-        let e = err("settle_s = 3\n[[epochs]]\nduration_s = 3\n");
-        assert_field(&e, 1, "name", "missing");
-        let e = err(&format!("{HEAD}[[epochs]]\ncount = 3\n"));
-        assert_field(&e, 3, "epochs[1].duration_s", "missing");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\ncount = 3\nduration_s = 10\nturns = [1]\norder = \"shufle\"\nseed = 1\n"
-        ));
-        assert_field(&e, 7, "epochs[1].order", "unknown variant");
-        let e = err(&format!("{HEAD}[[epochs]]\ncount = 0\nduration_s = 10\n"));
-        assert_field(&e, 4, "epochs[1].count", "must be >= 1 (got 0)");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\ncount = 3\nduration_s = 10\nturns = [1]\norder = \"shuffle\"\n"
-        ));
-        assert_field(&e, 7, "epochs[1].seed", "needs a seed");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\ncount = 3\nduration_s = 10\nturns = [1, 2, 3]\norder = \"fixed\"\n"
-        ));
-        assert_field(&e, 6, "epochs[1].turns", "exactly 2 values");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\ncount = 3\nduration_s = 10\nturns = [1, 2, 3]\norder = \"balanced\"\nseed = 2\n"
-        ));
-        assert_field(&e, 6, "epochs[1].turns", "multiple");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 10\nturns = [90]\n"
-        ));
-        assert_field(&e, 5, "epochs[1].turns", "only allowed in a sequence");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 10\nturn_deg = 9\ngo_to_deg = 9\n"
-        ));
-        assert_field(&e, 5, "epochs[1].turn_deg", "not both");
-        let e = err("name = \"t\"\nsettle_s = -1\n[[epochs]]\nduration_s = 10\n");
-        assert_field(&e, 2, "settle_s", "must be >= 0 (got -1)");
-        let e = err(&format!(
-            "{HEAD}[[epochs]]\nduration_s = 10\ncondition = \"  \"\n"
-        ));
-        assert_field(&e, 5, "epochs[1].condition", "empty");
-    }
-
-    #[test]
-    fn syntax_error_names_the_line() {
-        let e = err(&format!("{HEAD}[[epochs]\nduration_s = 3\n"));
-        assert_eq!(e.line(), Some(3), "{e}");
-        assert!(e.to_string().starts_with("t.toml:3: "), "{e}");
-    }
-
-    // Warnings for legal but suspicious plans.
-
-    fn warns(text: &str) -> Vec<String> {
-        ok(&format!("{HEAD}{text}")).1
-    }
-
-    #[test]
-    fn warns_about_short_epochs_after_turns() {
-        let w = warns("[[epochs]]\nduration_s = 3\n[[epochs]]\nduration_s = 4\nturn_deg = 90\n");
-        assert_eq!(w.len(), 1, "{w:?}");
-        assert!(
-            w[0].starts_with("t.toml:6: epochs[2] (epoch 2): duration 4 s"),
-            "{w:?}"
-        );
-        assert!(w[0].contains("settle window"), "{w:?}");
-    }
-
-    #[test]
-    fn warns_about_zero_turns() {
-        let w = warns("[[epochs]]\nduration_s = 30\n[[epochs]]\nduration_s = 30\nturn_deg = 0\n");
-        assert_eq!(w.len(), 1, "{w:?}");
-        assert!(w[0].contains("turn of 0 deg"), "{w:?}");
-        let w = warns(
-            "[[epochs]]\nduration_s = 30\ngo_to_deg = 90\n[[epochs]]\nduration_s = 30\ngo_to_deg = 450\n",
-        );
-        assert_eq!(w.len(), 1, "{w:?}");
-        assert!(w[0].contains("already there"), "{w:?}");
-    }
-
-    #[test]
-    fn warns_about_a_shuffle_that_cannot_balance() {
-        let w = warns(
-            "[[epochs]]\ncount = 9\nduration_s = 30\nturns = [90, -90, 180]\norder = \"shuffle\"\nseed = 4\n",
-        );
-        assert_eq!(w.len(), 1, "{w:?}");
-        assert!(
-            w[0].starts_with("t.toml:6: epochs[1].turns: shuffle cannot balance"),
-            "{w:?}"
-        );
-    }
-
-    #[test]
-    fn warns_about_long_protocols_and_short_epochs_for_min_flying() {
-        let w = warns("[[epochs]]\ncount = 5\nduration_s = 3600\nturns = [90]\n");
-        assert_eq!(w.len(), 1, "{w:?}");
-        assert!(w[0].contains("over 4 hours"), "{w:?}");
-        assert!(w[0].contains("5 h 00 min 00 s"), "{w:?}");
-        let w = warns("[flight]\nmin_flying_s = 100\n[[epochs]]\nduration_s = 60\n");
-        assert_eq!(w.len(), 1, "{w:?}");
-        assert!(w[0].contains("always be extended"), "{w:?}");
-    }
-
-    #[test]
-    fn a_plain_protocol_draws_no_warning() {
-        let w = warns(
-            "[[epochs]]\ncount = 4\nduration_s = 120\nturns = [90, -90, 180]\norder = \"cycle\"\n",
-        );
-        assert!(w.is_empty(), "{w:?}");
-    }
-}
+mod tests;

@@ -30,6 +30,36 @@ pub struct FlightRules {
     pub abort_after_stopped_s: Option<f64>,
 }
 
+/// What to do while the heading sensor is lost (no data arrives).
+///
+/// Defaults: the epoch clock stops (so the epoch is extended by the time lost), turns wait for
+/// the sensor, and the session is aborted after [`SENSOR_LOSS_ABORT_DEFAULT_S`] seconds lost
+/// in one stretch.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SensorLossRules {
+    /// Stop the epoch clock while the sensor is lost (the epoch is extended by the lost time).
+    pub pause_clock: bool,
+    /// Do not start a turn (nor prompt for a manual one) while the sensor is lost: a turn made
+    /// blind has no heading just before or after it.
+    pub hold_turns: bool,
+    /// Abort the session after this many seconds lost in one stretch (None: never).
+    pub abort_after_s: Option<f64>,
+}
+
+/// Default of `sensor_loss.abort_after_s`, seconds (our own choice: long enough to re-seat a
+/// cable, short enough that a tethered animal is not left for long unobserved).
+pub const SENSOR_LOSS_ABORT_DEFAULT_S: f64 = 120.0;
+
+impl Default for SensorLossRules {
+    fn default() -> Self {
+        SensorLossRules {
+            pause_clock: true,
+            hold_turns: true,
+            abort_after_s: Some(SENSOR_LOSS_ABORT_DEFAULT_S),
+        }
+    }
+}
+
 /// How the arena gets to an epoch's bearing.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 #[serde(rename_all = "snake_case", tag = "kind")]
@@ -77,6 +107,8 @@ pub struct Protocol {
     pub settle_s: f64,
     /// Flight-stop rules.
     pub flight: FlightRules,
+    /// Sensor-loss rules.
+    pub sensor_loss: SensorLossRules,
     /// The epochs, in order.
     pub epochs: Vec<EpochPlan>,
 }
@@ -309,5 +341,39 @@ mod tests {
         assert_eq!(format_duration_s(5.0), "5 s");
         assert_eq!(format_duration_s(180.0), "3 min 00 s");
         assert_eq!(format_duration_s(3905.0), "1 h 05 min 05 s");
+    }
+
+    #[test]
+    fn sensor_loss_rules_default_to_hold_and_abort_and_are_configurable() {
+        let head = "name = \"s\"\nsettle_s = 1\n";
+        let tail = "[[epochs]]\nduration_s = 9\n";
+        let (p, _) = parse_protocol(&format!("{head}{tail}"), "t.toml").expect("parses");
+        assert_eq!(p.sensor_loss, SensorLossRules::default());
+        assert!(p.sensor_loss.pause_clock && p.sensor_loss.hold_turns);
+        assert_eq!(
+            p.sensor_loss.abort_after_s,
+            Some(SENSOR_LOSS_ABORT_DEFAULT_S)
+        );
+        let text = format!(
+            "{head}[sensor_loss]\npause_clock = false\nhold_turns = false\nabort_after_s = 0\n{tail}"
+        );
+        let (p, _) = parse_protocol(&text, "t.toml").expect("parses");
+        assert_eq!(
+            p.sensor_loss,
+            SensorLossRules {
+                pause_clock: false,
+                hold_turns: false,
+                abort_after_s: None
+            }
+        );
+        let text = format!("{head}[sensor_loss]\nabort_after_s = -3\n{tail}");
+        let e = parse_protocol(&text, "t.toml").expect_err("negative");
+        let msg = e.to_string();
+        assert!(
+            msg.contains("sensor_loss.abort_after_s") && msg.contains(":4"),
+            "{msg}"
+        );
+        let text = format!("{head}[sensor_loss]\nabort_after = 3\n{tail}");
+        assert!(parse_protocol(&text, "t.toml").is_err(), "unknown key");
     }
 }

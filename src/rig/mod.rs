@@ -95,6 +95,11 @@ pub trait HeadingSource: Send {
     fn health(&self) -> SensorHealth;
     /// A short description for screens and archives ("serial /dev/ttyUSB0 @ 115200").
     fn describe(&self) -> String;
+    /// For a source that can run out (a replay file): the session second at which it is known
+    /// to have no more lines, once it has none. `None` while lines remain, or for live devices.
+    fn exhausted_at_s(&self) -> Option<f64> {
+        None
+    }
 }
 
 /// What the turntable path produced.

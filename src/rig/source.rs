@@ -81,6 +81,7 @@ pub fn open_sensor(rig: &Rig, clock: Arc<dyn Clock>) -> Result<Box<dyn HeadingSo
                 last_stamp_s: clock.now_s(),
                 pending: None,
                 eof: false,
+                lost_after_s: s.lost_after_s,
                 what: format!("replay {} ({:?})", path.display(), pace).to_lowercase(),
             }))
         }
@@ -468,6 +469,7 @@ pub struct ReplaySource {
     last_stamp_s: f64,
     pending: Option<(f64, ReadLine)>,
     eof: bool,
+    lost_after_s: f64,
     what: String,
 }
 
@@ -521,6 +523,7 @@ impl HeadingSource for ReplaySource {
                         break;
                     };
                     self.feed(now_s, &line, out);
+                    self.last_stamp_s = now_s;
                 }
             }
             ReplayPace::Recorded => {
@@ -563,6 +566,11 @@ impl HeadingSource for ReplaySource {
 
     fn health(&self) -> SensorHealth {
         self.pipe.health.health()
+    }
+
+    fn exhausted_at_s(&self) -> Option<f64> {
+        // Noticed like a lost sensor: `lost_after_s` after the last line's stamp.
+        (self.eof && self.pending.is_none()).then_some(self.last_stamp_s + self.lost_after_s)
     }
 
     fn describe(&self) -> String {

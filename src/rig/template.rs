@@ -66,6 +66,13 @@ kind = "manual"                      # REQUIRED
 # path = "/dev/ttyACM0"              # serial only
 # baud = 115200                      # serial only
 # timeout_s = 30.0                   # serial only: wait for a reply, retry once, then fault
+
+# Re-scoring a recording: with source = "replay" and a time_column, the file runs on its
+# own clock as fast as the machine allows, into the epochs it would have filled live:
+#   skybearing run --rig FILE --protocol FILE --animal ID --headless --speed max --start UTC
+# --start is the UTC of the file's first line. The turns are in the recording: the
+# turntable above is not opened, each turn counts as done at once and prompts are
+# confirmed at once. The end of the file ends the session.
 "#;
 
 /// The template with every placeholder filled in with the demo site's values (Larkfield

@@ -79,6 +79,36 @@ impl Turntable for ManualTurntable {
     }
 }
 
+/// The turntable of a replay at full speed: the turns were made when the file was recorded,
+/// so each commanded turn is reported done at the instant it is commanded.
+#[derive(Debug, Default)]
+pub struct ReplayTurntable {
+    turned_deg: f64,
+    done: Vec<f64>,
+}
+
+impl Turntable for ReplayTurntable {
+    fn start_turn(&mut self, now_s: f64, by_deg: f64) -> Result<(), RigError> {
+        self.turned_deg += by_deg;
+        self.done.push(now_s);
+        Ok(())
+    }
+
+    fn poll(&mut self, _now_s: f64, out: &mut Vec<TurntableEvent>) -> Result<(), RigError> {
+        for t_s in self.done.drain(..) {
+            out.push(TurntableEvent::Done {
+                t_s,
+                position_deg: None,
+            });
+        }
+        Ok(())
+    }
+
+    fn describe(&self) -> String {
+        "replay (turns are in the recording: each reported done at once)".into()
+    }
+}
+
 /// A reply line from the device, parsed.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Reply {

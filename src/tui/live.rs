@@ -36,7 +36,9 @@ pub struct ScreenOptions {
     pub theme: ThemeKind,
     /// Upper bound on frames drawn per second (rendering is decoupled from the sample rate).
     pub max_fps: u32,
-    /// Seconds the final "session saved" frame stays up (a key closes it sooner).
+    /// Seconds the final "session saved" frame with the summary stays up; a key closes it
+    /// sooner. Default: infinite, it stays until a key (the operator may be away from the
+    /// laptop when the session ends, and the summary must not vanish unread).
     pub final_frame_s: f64,
     /// Set by the caller to make the screen return at once (for example when the engine thread
     /// failed and will never publish an ended snapshot).
@@ -49,7 +51,7 @@ impl Default for ScreenOptions {
             mono: false,
             theme: ThemeKind::Sunlight,
             max_fps: 30,
-            final_frame_s: 1.0,
+            final_frame_s: f64::INFINITY,
             stop: None,
         }
     }
@@ -215,11 +217,44 @@ fn draw_waiting(frame: &mut ratatui::Frame, theme: &Theme) {
     frame.render_widget(Paragraph::new(lines).style(theme.base()), area);
 }
 
+/// Asks on the terminal, before a session starts, whether to start it although the sun is below
+/// the horizon ([`NoSunConfirm`](crate::tui::panels::overlays::NoSunConfirm)). True only for
+/// `y`; any other key, a hang-up or a read error answer no. The terminal is restored after.
+pub fn confirm_no_sun(warnings: &[String], options: &ScreenOptions) -> anyhow::Result<bool> {
+    let theme = Theme::new(options.starting_theme(no_color_requested()));
+    let (_guard, mut terminal) = TerminalGuard::enter()?;
+    loop {
+        terminal
+            .draw(|f| {
+                let theme = &theme;
+                f.render_widget(
+                    crate::tui::panels::overlays::NoSunConfirm { warnings, theme },
+                    f.area(),
+                )
+            })
+            .context("cannot draw the screen")?;
+        if terminal_hung_up() {
+            return Ok(false);
+        }
+        wait_for_input(Duration::from_millis(250));
+        while !terminal_hung_up() && event::poll(Duration::ZERO).unwrap_or(false) {
+            match event::read() {
+                Ok(Event::Key(key)) if key.kind != KeyEventKind::Release => {
+                    let ctrl = key.modifiers.contains(KeyModifiers::CONTROL);
+                    return Ok(!ctrl && matches!(key.code, KeyCode::Char('y' | 'Y')));
+                }
+                Ok(_) => {}
+                Err(_) => return Ok(false),
+            }
+        }
+    }
+}
+
 /// Runs the live screen until the engine publishes a snapshot with `ended == true`.
 ///
 /// Draws the latest snapshot from `cell` at most `options.max_fps` times per second, turns
-/// keys into commands sent on `commands`, and after the end shows a "session saved" frame for
-/// `options.final_frame_s` seconds (or until a key). Errors when the terminal cannot be used
+/// keys into commands sent on `commands`, and after the end shows a "session saved" frame with
+/// the session's summary until a key (or for `options.final_frame_s` seconds when finite). Errors when the terminal cannot be used
 /// or when the engine has gone away (the command channel is closed).
 pub fn run_live(
     cell: SnapshotCell,
@@ -235,7 +270,9 @@ pub fn run_live(
     let (_guard, mut terminal) = TerminalGuard::enter()?;
 
     let frame_dt = Duration::from_secs_f64(1.0 / f64::from(options.max_fps.clamp(1, 120)));
-    let final_frame = Duration::from_secs_f64(options.final_frame_s.clamp(0.0, 60.0));
+    // None: the final frame stays until a key.
+    let final_frame = (options.final_frame_s.is_finite())
+        .then(|| Duration::from_secs_f64(options.final_frame_s.clamp(0.0, 3600.0)));
     let mut ui = UiState::with_theme(theme_kind);
     let mut last: Option<Arc<Snapshot>> = None;
     let mut dirty = true;
@@ -293,7 +330,7 @@ pub fn run_live(
             ui.mode = crate::tui::state::Mode::Normal;
             dirty = true;
         }
-        if let Some(t) = ended_at
+        if let (Some(t), Some(final_frame)) = (ended_at, final_frame)
             && t.elapsed() >= final_frame
             && (final_drawn || t.elapsed() >= final_frame + Duration::from_secs(2))
         {
@@ -389,6 +426,12 @@ mod tests {
             ..ScreenOptions::default()
         };
         assert_eq!(o.starting_theme(false), ThemeKind::Mono);
+    }
+
+    #[test]
+    fn end_screen_stays_until_a_key_by_default() {
+        // Issue 14: the summary used to vanish after about a second.
+        assert!(ScreenOptions::default().final_frame_s.is_infinite());
     }
 
     #[test]

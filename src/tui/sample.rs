@@ -6,7 +6,7 @@
 //! statistic here is computed, and nothing here is science.
 
 use crate::engine::snapshot::{
-    EpochRow, EpochState, Health, Prompt, Snapshot, TracePoint, TurnRow,
+    EpochRow, EpochState, Health, NextTurn, Prompt, Snapshot, TracePoint, TurnRow, TurnState, Watch,
 };
 use crate::frames::{wrap_360_deg, wrap_signed_deg};
 use chrono::{DateTime, Duration, FixedOffset, Offset, TimeZone, Utc};
@@ -231,11 +231,9 @@ impl SnapshotBuilder {
                 } else {
                     0.0
                 },
-                rayleigh_p_eff: if has {
-                    (1e-4 * (1.0 + e0 as f64)).min(1.0)
-                } else {
-                    f64::NAN
-                },
+                // A p only once the epoch has 30 s of flight, as the engine gives it.
+                p_oriented: (has && flying_s >= crate::circular::MIN_SCORED_S)
+                    .then(|| (1e-4 * (1.0 + e0 as f64)).clamp(crate::circular::P_FLOOR, 1.0)),
                 state,
             });
         }
@@ -325,10 +323,42 @@ impl SnapshotBuilder {
                 ),
                 waiting_s: 4.0,
                 countdown_s: 11.0,
+                turn_by_hand: false,
             }),
             recent_events,
             ended: self.ended,
             end_reason: self.ended.then(|| "complete".to_string()),
+            watch: Watch {
+                next_turn: if has_next {
+                    NextTurn {
+                        state: if self.paused {
+                            TurnState::ClockStopped
+                        } else {
+                            TurnState::Counting
+                        },
+                        deg: Some(TURNS_DEG[current0 % TURNS_DEG.len()]),
+                        in_s: Some(current_end - t_now),
+                    }
+                } else {
+                    NextTurn::default()
+                },
+                sample_age_s: Some(if self.sensor_lost { 4.0 } else { 0.01 }),
+                heading_stale: self.sensor_lost,
+                turntable_faults: 0,
+                turns_by_hand: false,
+                not_flying_for_s: (!self.flying).then_some(12.0),
+                sensor_lost_for_s: self.sensor_lost.then_some(4.0),
+                auto_abort: None,
+                end_now_status: "aborted".to_string(),
+                end_summary: if self.ended {
+                    vec![
+                        "hold r world 0.81, arena 0.22 (scored samples of the session)".to_string(),
+                        "turns kept: 3 of 4 scored".to_string(),
+                    ]
+                } else {
+                    Vec::new()
+                },
+            },
         }
     }
 }

@@ -283,6 +283,21 @@ impl UiState {
                     Vec::new()
                 }
             }
+            KeyCode::Char('x') | KeyCode::Char('X')
+                if snap.prompt.as_ref().is_some_and(|p| p.turn_by_hand) =>
+            {
+                self.say("could not turn: recorded; the turn is not scored", snap);
+                vec![Command::CouldNotTurn]
+            }
+            KeyCode::Char('b') | KeyCode::Char('B') => {
+                if snap.watch.turns_by_hand {
+                    self.say("turns are already made by hand", snap);
+                    Vec::new()
+                } else {
+                    self.say("every later turn: a prompt to turn by hand", snap);
+                    vec![Command::TurnsByHand]
+                }
+            }
             KeyCode::Char('?') | KeyCode::Char('h') | KeyCode::F(1) => {
                 self.mode = Mode::Help;
                 self.help_page = 0;

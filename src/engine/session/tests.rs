@@ -12,6 +12,7 @@ fn engine(dir: &std::path::Path, epochs: Vec<EpochPlan>, flight: FlightRules) ->
         description: String::new(),
         settle_s: 2.0,
         flight,
+        sensor_loss: Default::default(),
         epochs,
     };
     let setup = SessionSetup {

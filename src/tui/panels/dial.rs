@@ -74,7 +74,7 @@ impl Widget for Dial<'_> {
         let col = |c: Color| if theme.is_mono() { Color::Reset } else { c };
 
         let heading_world = snap.world_heading_deg;
-        let flying = snap.flying && !snap.health.sensor_lost;
+        let flying = snap.flying && !snap.health.sensor_lost && !snap.watch.heading_stale;
         // The e-vector the animal is shown (the sky's or a filter's); none under a diffuser.
         let ev = snap.evector_shown_deg;
         let canvas = Canvas::default()

@@ -1,7 +1,8 @@
 //! The epoch table: one row per epoch, kept around the current one, columns fitted to width.
 
+use crate::engine::snapshot::p_held_text;
 use crate::engine::snapshot::{EpochRow, EpochState, Snapshot, TurnRow};
-use crate::tui::format::{self, deg, duration, fit, p_value, r_value};
+use crate::tui::format::{self, deg, duration, fit, r_value};
 use crate::tui::panels::verdict;
 use crate::tui::state::{HeadingFrame, UiState};
 use crate::tui::theme::Theme;
@@ -190,16 +191,10 @@ fn epoch_columns<'s>(snap: &'s Snapshot, ui: &UiState, width: u16) -> Vec<Col<'s
             cell: Box::new(move |e| if e.n > 0 { r_value(e.r) } else { dash() }),
         });
         cols.push(Col {
-            header: "p eff",
+            header: "p held",
             width: 6,
             prio: 8,
-            cell: Box::new(move |e| {
-                if e.n > 0 {
-                    p_value(e.rayleigh_p_eff)
-                } else {
-                    dash()
-                }
-            }),
+            cell: Box::new(move |e| p_held_text(e.p_oriented)),
         });
         cols.push(Col {
             header: "state",

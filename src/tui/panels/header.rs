@@ -1,7 +1,7 @@
 //! The status lines: the session line, the glance line (flight state, heading, archive
 //! trouble, next turn) and the tiny screen for windows too small for any layout.
 
-use crate::engine::snapshot::{EpochRow, EpochState, Snapshot, TurnRow};
+use crate::engine::snapshot::{EpochRow, EpochState, Snapshot, TurnRow, TurnState};
 use crate::tui::format::{self, countdown, deg, deg1, duration, fit, r_value};
 use crate::tui::lines::{Item, TextLines, flow};
 use crate::tui::panels::devices::sync_spans;
@@ -59,16 +59,13 @@ impl Widget for TinyStatus<'_> {
         let TinyStatus { snap, ui, theme } = self;
         let mut lines = Vec::new();
         lines.push(Line::from(state_spans(snap, theme)));
-        lines.push(Line::from(vec![
-            Span::styled(format!("{} ", ui.frame.name()), theme.strong()),
-            Span::styled(deg(heading_in(snap, ui.frame)), theme.accent(theme.heading)),
-        ]));
-        if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
-            lines.push(Line::from(Span::styled(
-                format!("turn {} in {}", format::signed_deg(d), countdown(t)),
-                theme.strong(),
-            )));
-        }
+        let mut heading = vec![Span::styled(
+            format!("{} ", ui.frame.name()),
+            theme.strong(),
+        )];
+        heading.extend(heading_spans(snap, ui, theme));
+        lines.push(Line::from(heading));
+        lines.push(Line::from(next_turn_spans(snap, theme)));
         lines.push(Line::from(sync_spans(snap, theme, true)));
         lines.push(Line::from(Span::styled("enlarge: 80x24+", theme.strong())));
         lines.push(Line::from(Span::styled("? help  q end", theme.strong())));
@@ -107,10 +104,18 @@ fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -> Vec<Item<
             Span::styled("az ", theme.base()),
             Span::styled(deg1(snap.sun_azimuth_deg), theme.accent(theme.sun)),
             Span::styled(" el ", theme.base()),
-            Span::styled(
-                format!("{:.1}°", snap.sun_elevation_deg),
-                theme.accent(theme.sun),
-            ),
+            if snap.sun_elevation_deg < 0.0 {
+                // The sky cannot show the sun: never in the colour of a normal reading.
+                Span::styled(
+                    format!(" {:.1}° BELOW HORIZON ", snap.sun_elevation_deg),
+                    theme.flag(theme.alarm),
+                )
+            } else {
+                Span::styled(
+                    format!("{:.1}°", snap.sun_elevation_deg),
+                    theme.accent(theme.sun),
+                )
+            },
         ],
         vec![
             Span::styled("elapsed ", theme.base()),
@@ -123,15 +128,7 @@ fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -> Vec<Item<
             Span::styled(duration(rem), theme.strong()),
         ]);
     }
-    match (snap.next_turn_in_s, snap.next_turn_deg) {
-        (Some(t), Some(d)) => items.push(vec![
-            Span::styled("next turn ", theme.base()),
-            Span::styled(format::signed_deg(d), theme.accent(theme.turn)),
-            Span::styled(" in ", theme.base()),
-            Span::styled(countdown(t), theme.accent(theme.turn)),
-        ]),
-        _ => items.push(vec![Span::styled("no more turns", theme.base())]),
-    }
+    items.push(next_turn_spans(snap, theme));
     let epoch_text = if snap.epoch == 0 {
         "before epoch 1".to_string()
     } else {
@@ -157,16 +154,49 @@ fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -> Vec<Item<
 /// The main state flag and its modifiers: words, so it reads without colour.
 fn state_spans<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Span<'a>> {
     let mut spans = Vec::new();
+    let w = &snap.watch;
+    let for_s = |t: Option<f64>| t.map(|t| format!("{} ", duration(t))).unwrap_or_default();
     let (word, style) = if snap.ended {
-        (" ENDED ", theme.flag(theme.fg))
+        (" ENDED ".to_string(), theme.flag(theme.fg))
     } else if snap.health.sensor_lost {
-        (" SENSOR LOST ", theme.flag(theme.alarm))
+        (
+            format!(" SENSOR LOST {}", for_s(w.sensor_lost_for_s)),
+            theme.flag(theme.alarm),
+        )
     } else if snap.flying {
-        (" ▲ FLYING ", theme.flag(theme.good))
+        (" ▲ FLYING ".to_string(), theme.flag(theme.good))
     } else {
-        (" ▼ NOT FLYING ", theme.flag(theme.caution))
+        (
+            format!(" ▼ NOT FLYING {}", for_s(w.not_flying_for_s)),
+            theme.flag(theme.caution),
+        )
     };
     spans.push(Span::styled(word, style));
+    if !snap.ended
+        && let Some(a) = &w.auto_abort
+    {
+        let at = (snap.now_utc + chrono::Duration::milliseconds((a.in_s * 1000.0) as i64))
+            .with_timezone(&snap.local_offset);
+        spans.push(Span::styled(" ", theme.base()));
+        spans.push(Span::styled(
+            format!(
+                " ABORT ({}) in {} at {} ",
+                a.reason,
+                countdown(a.in_s),
+                at.format("%H:%M:%S")
+            ),
+            theme.flag(theme.alarm),
+        ));
+    }
+    if !snap.ended && (w.turntable_faults > 0 || w.turns_by_hand) {
+        let badge = match (w.turntable_faults, w.turns_by_hand) {
+            (0, _) => " TURNS BY HAND ".to_string(),
+            (n, true) => format!(" ! TURNTABLE FAULT ×{n} · BY HAND "),
+            (n, false) => format!(" ! TURNTABLE FAULT ×{n} "),
+        };
+        spans.push(Span::styled(" ", theme.base()));
+        spans.push(Span::styled(badge, theme.flag(theme.alarm)));
+    }
     if snap.paused {
         spans.push(Span::styled(" ", theme.base()));
         spans.push(Span::styled(" ‖ PAUSED ", theme.flag(theme.caution)));
@@ -178,6 +208,85 @@ fn state_spans<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Span<'a>> {
         spans.push(Span::styled(" settling", theme.accent(theme.caution)));
     }
     spans
+}
+
+/// The next turn and what it waits for, in words (the countdown keeps fingers out of the
+/// arena, so it must be right in every state: "no more turns" only when none is left).
+pub(crate) fn next_turn_spans<'a>(snap: &Snapshot, theme: &Theme) -> Vec<Span<'a>> {
+    let nt = &snap.watch.next_turn;
+    let turn = theme.accent(theme.turn);
+    let d = nt.deg.map(format::signed_deg);
+    let countdown_spans = |lead: &'static str, d: String, t: f64| {
+        vec![
+            Span::styled(lead, theme.base()),
+            Span::styled(d, turn),
+            Span::styled(" in ", theme.base()),
+            Span::styled(countdown(t), turn),
+        ]
+    };
+    match (nt.state, d, nt.in_s) {
+        (TurnState::Counting, Some(d), Some(t)) => countdown_spans("next turn ", d, t),
+        (TurnState::ClockStopped, Some(d), Some(t)) => {
+            let mut v = countdown_spans("next turn ", d, t);
+            v.push(Span::styled(
+                " (clock stopped)",
+                theme.accent(theme.caution),
+            ));
+            v
+        }
+        (TurnState::UnderWay, Some(d), _) => vec![
+            Span::styled("turn ", theme.base()),
+            Span::styled(d, turn),
+            Span::styled(" under way", turn),
+        ],
+        (TurnState::AwaitingOperator, Some(d), Some(t)) => {
+            countdown_spans("after Enter: next turn ", d, t)
+        }
+        (TurnState::AwaitingOperator, Some(d), None) => vec![
+            Span::styled("turn ", theme.base()),
+            Span::styled(d, turn),
+            Span::styled(": waiting for you", turn),
+        ],
+        (TurnState::AwaitingOperator, None, _) => {
+            vec![Span::styled("waiting for you; no more turns", theme.base())]
+        }
+        (TurnState::Fault, Some(d), _) => vec![
+            Span::styled("turn ", theme.base()),
+            Span::styled(d, turn),
+            Span::styled(" by hand: turntable fault", theme.accent(theme.alarm)),
+        ],
+        (TurnState::HeldSensorLost, Some(d), _) => vec![
+            Span::styled("turn ", theme.base()),
+            Span::styled(d, turn),
+            Span::styled(" held: sensor lost", theme.accent(theme.alarm)),
+        ],
+        _ => vec![Span::styled("no more turns", theme.base())],
+    }
+}
+
+/// The latest heading: underlined in the heading colour while live; when stale (the sensor
+/// is lost or silent) in plain text with its age, so it never looks live.
+fn heading_spans<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Span<'a>> {
+    let h = deg(heading_in(snap, ui.frame));
+    if snap.watch.heading_stale {
+        let age = snap
+            .watch
+            .sample_age_s
+            .map(|a| format!(" STALE {} old ", duration(a)))
+            .unwrap_or_else(|| " STALE ".to_string());
+        vec![
+            Span::styled(h, theme.base().add_modifier(Modifier::CROSSED_OUT)),
+            Span::styled(" ", theme.base()),
+            Span::styled(age, theme.flag(theme.alarm)),
+        ]
+    } else {
+        vec![Span::styled(
+            h,
+            theme
+                .accent(theme.heading)
+                .add_modifier(Modifier::UNDERLINED),
+        )]
+    }
 }
 
 fn current_epoch(snap: &Snapshot) -> Option<&EpochRow> {
@@ -200,15 +309,9 @@ fn last_scored_turn(snap: &Snapshot) -> Option<(&TurnRow, f64)> {
 fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a>> {
     let mut items: Vec<Item> = Vec::new();
     items.push(state_spans(snap, theme));
-    items.push(vec![
-        Span::styled(format!("{} ", ui.frame.name()), theme.base()),
-        Span::styled(
-            deg(heading_in(snap, ui.frame)),
-            theme
-                .accent(theme.heading)
-                .add_modifier(Modifier::UNDERLINED),
-        ),
-    ]);
+    let mut heading = vec![Span::styled(format!("{} ", ui.frame.name()), theme.base())];
+    heading.extend(heading_spans(snap, ui, theme));
+    items.push(heading);
     if let Some(alarm) = archive_alarm(snap) {
         items.push(vec![Span::styled(alarm, theme.flag(theme.alarm))]);
     }
@@ -223,13 +326,8 @@ fn glance_items<'a>(snap: &Snapshot, ui: &UiState, theme: &Theme) -> Vec<Item<'a
             theme.strong(),
         )]);
     }
-    if let (Some(t), Some(d)) = (snap.next_turn_in_s, snap.next_turn_deg) {
-        items.push(vec![
-            Span::styled("turn ", theme.base()),
-            Span::styled(format::signed_deg(d), theme.accent(theme.turn)),
-            Span::styled(" in ", theme.base()),
-            Span::styled(countdown(t), theme.accent(theme.turn)),
-        ]);
+    if snap.watch.next_turn.state != TurnState::NoneLeft {
+        items.push(next_turn_spans(snap, theme));
     }
     if let Some(e) = current_epoch(snap)
         && e.n > 0

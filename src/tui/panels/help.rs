@@ -23,7 +23,7 @@ pub struct Help<'a> {
 impl Widget for Help<'_> {
     fn render(self, area: Rect, buf: &mut Buffer) {
         let Help { snap, ui, theme } = self;
-        let keys: [(&str, String); 12] = [
+        let keys: [(&str, String); 14] = [
             (
                 "f",
                 format!(
@@ -48,6 +48,8 @@ impl Widget for Help<'_> {
             ("s", "skip the rest of this epoch (asks first)".into()),
             ("q", "end the session (asks; y confirms)".into()),
             ("Enter", "confirm the pending prompt (turn done)".into()),
+            ("x", "at a turn prompt: could not turn (not scored)".into()),
+            ("b", "every later turn by hand (after a fault)".into()),
             (
                 "z",
                 format!(
@@ -102,8 +104,8 @@ impl Widget for Help<'_> {
                 "r over all epochs so far, world and arena frames",
             ),
             (
-                "p eff",
-                "Rayleigh test p on the effective n (autocorrelation allowed for)",
+                "p held",
+                "p of a held heading; – until 30 s of flight: too short to tell",
             ),
             (
                 "state",

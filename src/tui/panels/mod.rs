@@ -11,7 +11,6 @@ pub mod overlays;
 pub mod trace;
 
 use crate::engine::snapshot::Snapshot;
-use crate::frames::signed_difference_deg;
 use crate::tui::state::HeadingFrame;
 
 /// Archive syncs older than this many seconds are flagged as late.
@@ -19,7 +18,7 @@ pub const SYNC_LATE_S: f64 = 3.0;
 
 /// A turn counts as "compensated" on screen when its world shift lies nearer 0 than the turn
 /// itself, for turns of at least this size (a display rule of our own, not a statistical test).
-pub const VERDICT_MIN_TURN_DEG: f64 = 30.0;
+pub const VERDICT_MIN_TURN_DEG: f64 = crate::engine::snapshot::VERDICT_MIN_TURN_DEG;
 
 /// The heading in `frame` (None while no heading is known).
 pub(crate) fn heading_in(snap: &Snapshot, frame: HeadingFrame) -> Option<f64> {
@@ -32,10 +31,7 @@ pub(crate) fn heading_in(snap: &Snapshot, frame: HeadingFrame) -> Option<f64> {
 
 /// "kept" when the world heading stayed nearer its old value than the turn (display rule).
 pub(crate) fn verdict(turn_deg: f64, shift_deg: f64) -> Option<bool> {
-    if turn_deg.abs() < VERDICT_MIN_TURN_DEG || !shift_deg.is_finite() {
-        return None;
-    }
-    Some(shift_deg.abs() <= signed_difference_deg(turn_deg, shift_deg).abs())
+    crate::engine::snapshot::turn_kept(turn_deg, shift_deg)
 }
 
 /// Seconds since the archive's last successful sync (None: never synced).

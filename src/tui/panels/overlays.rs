@@ -134,10 +134,21 @@ impl Widget for Overlays<'_> {
                 theme.base(),
             ));
             lines.push(Line::from(l));
-            lines.push(Line::from(vec![
+            let mut keys = vec![
                 Span::styled(" Enter ", theme.flag(theme.fg)),
                 Span::styled(" when done", theme.strong()),
-            ]));
+            ];
+            if p.turn_by_hand {
+                keys.push(Span::styled(" ", theme.base()));
+                keys.push(Span::styled(" x ", theme.flag(theme.fg)));
+                keys.push(Span::styled(" could not turn", theme.strong()));
+            }
+            if snap.watch.turntable_faults > 0 && !snap.watch.turns_by_hand {
+                keys.push(Span::styled(" ", theme.base()));
+                keys.push(Span::styled(" b ", theme.flag(theme.fg)));
+                keys.push(Span::styled(" later turns by hand", theme.strong()));
+            }
+            lines.push(Line::from(keys));
             Paragraph::new(lines)
                 .style(theme.base())
                 .wrap(Wrap { trim: true })
@@ -146,28 +157,48 @@ impl Widget for Overlays<'_> {
         }
         match &ui.mode {
             Mode::ConfirmEnd => {
+                let aborted = snap.watch.end_now_status != "complete";
                 let inner = dialog(
                     buf,
                     area,
-                    46,
-                    6,
+                    62,
+                    if aborted { 9 } else { 7 },
                     Span::styled(" END SESSION? ", theme.flag(theme.alarm)),
                     theme,
                     true,
                 );
-                let lines = vec![
-                    Line::from(Span::styled(
-                        "End the session now and save it?",
+                let mut lines = vec![Line::from(Span::styled(
+                    "End the session now and save it?",
+                    theme.strong(),
+                ))];
+                if aborted {
+                    lines.push(Line::from(vec![
+                        Span::styled("It is recorded as ", theme.strong()),
+                        Span::styled(" ABORTED ", theme.flag(theme.caution)),
+                        Span::styled(": the protocol is not done.", theme.strong()),
+                    ]));
+                    lines.push(Line::from(Span::styled(
+                        "`batch` leaves aborted sessions out unless given --include-incomplete.",
                         theme.strong(),
-                    )),
+                    )));
+                } else {
+                    lines.push(Line::from(Span::styled(
+                        "Every epoch has run: it is recorded as complete.",
+                        theme.strong(),
+                    )));
+                }
+                lines.extend([
                     Line::from(""),
                     Line::from(vec![
                         Span::styled(" y ", theme.flag(theme.alarm)),
                         Span::styled(" yes, end   ", theme.strong()),
                         Span::styled("any other key: go on", theme.strong()),
                     ]),
-                ];
-                Paragraph::new(lines).style(theme.base()).render(inner, buf);
+                ]);
+                Paragraph::new(lines)
+                    .style(theme.base())
+                    .wrap(Wrap { trim: true })
+                    .render(inner, buf);
             }
             Mode::ConfirmSkip => {
                 let inner = dialog(
@@ -234,14 +265,21 @@ impl Widget for Overlays<'_> {
 
 fn draw_ended(buf: &mut Buffer, area: Rect, snap: &Snapshot, theme: &Theme) {
     let dir = snap.session_dir.display().to_string();
-    let w = (dir.chars().count() as u16 + 8)
+    let summary = &snap.watch.end_summary;
+    let widest = summary
+        .iter()
+        .map(|l| l.chars().count())
+        .chain([dir.chars().count()])
+        .max()
+        .unwrap_or(0) as u16;
+    let w = (widest + 6)
         .max(40)
         .min(area.width.saturating_sub(2).max(1));
     let inner = dialog(
         buf,
         area,
         w,
-        7,
+        8 + summary.len() as u16,
         Span::styled(" SESSION ENDED ", theme.flag(theme.good)),
         theme,
         true,
@@ -250,19 +288,75 @@ fn draw_ended(buf: &mut Buffer, area: Rect, snap: &Snapshot, theme: &Theme) {
         .end_reason
         .clone()
         .unwrap_or_else(|| "ended".to_string());
-    let lines = vec![
-        Line::from(vec![
-            Span::styled("status: ", theme.base()),
-            Span::styled(reason, theme.strong()),
-        ]),
+    let mut lines = vec![Line::from(vec![
+        Span::styled("status: ", theme.base()),
+        Span::styled(reason, theme.strong()),
+    ])];
+    lines.extend(
+        summary
+            .iter()
+            .map(|l| Line::from(Span::styled(l.clone(), theme.strong()))),
+    );
+    lines.extend([
+        Line::from(""),
         Line::from(Span::styled("session saved to", theme.strong())),
         Line::from(Span::styled(dir, theme.accent(theme.heading))),
         Line::from(Span::styled("any key closes", theme.base())),
-    ];
+    ]);
     Paragraph::new(lines)
         .style(theme.base())
         .wrap(Wrap { trim: false })
         .render(inner, buf);
+}
+
+/// The question before a session whose sky cannot show the sun: the plan's warnings, and
+/// `y` to start anyway (anything else: not started, nothing written).
+pub struct NoSunConfirm<'a> {
+    /// The plan's warnings, one a line.
+    pub warnings: &'a [String],
+    /// Colours.
+    pub theme: &'a Theme,
+}
+
+impl Widget for NoSunConfirm<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        let NoSunConfirm { warnings, theme } = self;
+        buf.set_style(area, theme.base());
+        let w = area.width.saturating_sub(4).min(76);
+        let text_w = w.saturating_sub(2).max(1) as usize;
+        let text_h: usize = warnings
+            .iter()
+            .map(|l| l.chars().count().div_ceil(text_w).max(1))
+            .sum();
+        let inner = dialog(
+            buf,
+            area,
+            w,
+            text_h as u16 + 7,
+            Span::styled(" SUN BELOW THE HORIZON ", theme.flag(theme.alarm)),
+            theme,
+            true,
+        );
+        let mut lines = vec![Line::from(Span::styled(
+            "This open-sky session cannot show the sun:",
+            theme.strong(),
+        ))];
+        lines.extend(
+            warnings
+                .iter()
+                .map(|l| Line::from(Span::styled(l.clone(), theme.accent(theme.caution)))),
+        );
+        lines.push(Line::from(""));
+        lines.push(Line::from(vec![
+            Span::styled(" y ", theme.flag(theme.alarm)),
+            Span::styled(" start anyway   ", theme.strong()),
+            Span::styled("any other key: do not start", theme.strong()),
+        ]));
+        Paragraph::new(lines)
+            .style(theme.base())
+            .wrap(Wrap { trim: true })
+            .render(inner, buf);
+    }
 }
 
 #[cfg(test)]
