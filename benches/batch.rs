@@ -37,12 +37,12 @@ fn batch(c: &mut Criterion) {
     g.sample_size(10);
     g.bench_function("read_and_summarise_4x50k_samples", |b| {
         b.iter(|| {
-            let r = run_batch(&roots, &filters, &|| {}, &|_| {});
+            let r = run_batch(&roots, &filters, &|| {}, &|_| {}).expect("batch");
             assert_eq!(r.sessions.len(), SESSIONS);
             r
         })
     });
-    let result = run_batch(&roots, &filters, &|| {}, &|_| {});
+    let result = run_batch(&roots, &filters, &|| {}, &|_| {}).expect("batch");
     let out = tmp.path().join("out");
     g.bench_function("write_tables_4_sessions", |b| {
         b.iter(|| write_tables(&result, &out).expect("tables"))

@@ -130,6 +130,7 @@ fn tables_have_the_contract_columns_and_bad_folders_are_skipped_by_name() {
 
     let (h, rows) = read_csv(&out.join("population.csv"));
     for c in [
+        "frame",
         "condition",
         "animals",
         "rayleigh_p",
@@ -138,9 +139,12 @@ fn tables_have_the_contract_columns_and_bad_folders_are_skipped_by_name() {
     ] {
         assert!(h.iter().any(|x| x == c), "population.csv lacks {c}");
     }
-    assert_eq!(rows.len(), 2);
+    assert_eq!(rows.len(), 4, "two conditions in two frames");
+    assert_eq!(col(&h, &rows[0], "frame"), "world");
     assert_eq!(col(&h, &rows[0], "condition"), "diffuser");
     assert_eq!(col(&h, &rows[0], "animals"), "3");
+    assert_eq!(col(&h, &rows[2], "frame"), "sun");
+    assert_eq!(col(&h, &rows[2], "animals"), "3");
 
     let (h, rows) = read_csv(&out.join("skipped.csv"));
     let skipped: Vec<(&str, &str)> = rows
@@ -372,4 +376,217 @@ fn report_and_batch_reject_the_rows_check_rejects() {
             "{name}: {stderr}"
         );
     }
+}
+
+fn copy_dir(from: &std::path::Path, to: &std::path::Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for e in std::fs::read_dir(from).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), to.join(e.file_name())).unwrap();
+    }
+}
+
+#[test]
+fn a_session_found_twice_counts_once_and_a_reused_id_with_other_samples_is_an_error() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("season");
+    let d1 = write_session(&root, "d1", "lm-01", "complete", Mode::Sky, 40.0, 2, 100);
+    write_session(&root, "d2", "lm-02", "complete", Mode::Sky, 60.0, 2, 100);
+    // The same folder copied to a backup disk, which is given too.
+    let backup = tmp.path().join("backup");
+    copy_dir(&d1, &backup.join("d1"));
+    let out = tmp.path().join("out");
+    let o = batch(&[
+        root.to_str().unwrap(),
+        backup.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(0), "{err}");
+    assert!(
+        err.contains("warning:") && err.contains("same session as"),
+        "a warning on stderr: {err}"
+    );
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let ids: Vec<&str> = rows.iter().map(|r| col(&h, r, "session_id")).collect();
+    assert_eq!(ids, ["d1", "d2"], "d1 counted once");
+    assert!(col(&h, &rows[0], "folder").contains("backup"));
+    let (h, rows) = read_csv(&out.join("population.csv"));
+    let world_open = rows
+        .iter()
+        .find(|r| col(&h, r, "frame") == "world" && col(&h, r, "condition") == "open sky")
+        .unwrap();
+    assert_eq!(col(&h, world_open, "animals"), "2");
+    assert_eq!(
+        col(&h, world_open, "sessions"),
+        "2",
+        "not 3: the copy is left out"
+    );
+    let (h, rows) = read_csv(&out.join("skipped.csv"));
+    let dup: Vec<_> = rows
+        .iter()
+        .filter(|r| col(&h, r, "kind") == "duplicate")
+        .collect();
+    assert_eq!(dup.len(), 1);
+    assert_eq!(col(&h, dup[0], "session_id"), "d1");
+    // The first in path order is kept (backup/ before season/), the other listed.
+    assert!(col(&h, dup[0], "folder").contains("season"));
+    assert!(col(&h, dup[0], "reason").contains("same samples"));
+
+    // Another recording that reuses the id d1: batch refuses, naming both folders.
+    let other = tmp.path().join("other");
+    write_session(&other, "d1", "lm-03", "complete", Mode::Sky, 200.0, 2, 100);
+    let o = batch(&[
+        root.to_str().unwrap(),
+        other.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_ne!(o.status.code(), Some(0), "{err}");
+    assert!(
+        err.contains("'d1'") && err.contains("different samples"),
+        "{err}"
+    );
+    assert!(
+        err.contains(&*root.join("d1").to_string_lossy())
+            && err.contains(&*other.join("d1").to_string_lossy()),
+        "names both folders: {err}"
+    );
+}
+
+/// A two-epoch session whose protocol planned a third that the operator skipped before it
+/// began, with a note and a flight stop in `events.csv`.
+fn session_with_a_skipped_epoch(root: &std::path::Path) -> std::path::PathBuf {
+    let d = write_session(root, "k1", "lm-01", "complete", Mode::Sky, 40.0, 2, 100);
+    let p = d.join("session.json");
+    let mut meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&p).unwrap()).unwrap();
+    let epochs = meta["epochs"].as_array_mut().unwrap();
+    let mut third = epochs[0].clone();
+    third["index"] = 3.into();
+    third["condition"] = "diffuser".into();
+    epochs.push(third);
+    std::fs::write(&p, serde_json::to_string_pretty(&meta).unwrap()).unwrap();
+    let mut ev = std::fs::read_to_string(d.join("events.csv")).unwrap();
+    ev.push_str("2026-06-02T09:00:05.000Z,5.0000,note,\"wind gust, animal stopped\"\n");
+    ev.push_str("2026-06-02T09:00:06.000Z,6.0000,flight_stop,\"\"\n");
+    ev.push_str("2026-06-02T09:00:20.000Z,20.0000,epoch_skipped,epoch 3\n");
+    std::fs::write(d.join("events.csv"), ev).unwrap();
+    d
+}
+
+#[test]
+fn epochs_that_never_ran_have_empty_statistics_and_a_skipped_flag() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("s");
+    session_with_a_skipped_epoch(&root);
+    let out = tmp.path().join("out");
+    let o = batch(&[root.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&out.join("epochs.csv"));
+    assert_eq!(
+        rows.len(),
+        3,
+        "the planned epoch that never ran has its row"
+    );
+    assert_eq!(col(&h, &rows[0], "skipped"), "0");
+    assert_eq!(col(&h, &rows[1], "skipped"), "0");
+    let never = &rows[2];
+    assert_eq!(col(&h, never, "epoch"), "3");
+    assert_eq!(col(&h, never, "condition"), "diffuser");
+    assert_eq!(col(&h, never, "skipped"), "1");
+    for c in [
+        "n",
+        "mean_world_deg",
+        "r",
+        "rayleigh_z",
+        "rayleigh_p",
+        "p_oriented",
+        "flying_s",
+        "t_start_s",
+        "mean_sun_relative_deg",
+    ] {
+        assert_eq!(
+            col(&h, never, c),
+            "",
+            "{c} of an epoch that never ran: empty, not 0 or 1"
+        );
+    }
+    // The report says the same.
+    let rep = tmp.path().join("rep");
+    let o = bin()
+        .arg("report")
+        .arg(root.join("k1"))
+        .arg("--out")
+        .arg(&rep)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&rep.join("epochs.csv"));
+    assert_eq!(col(&h, &rows[2], "skipped"), "1");
+    assert_eq!(col(&h, &rows[2], "r"), "");
+}
+
+#[test]
+fn notes_and_flight_stops_are_exported_and_sessions_carry_the_site() {
+    let tmp = tempfile::tempdir().unwrap();
+    let root = tmp.path().join("s");
+    let d = session_with_a_skipped_epoch(&root);
+    let out = tmp.path().join("out");
+    let o = batch(&[root.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&out.join("notes.csv"));
+    assert_eq!(h, ["session_id", "t_utc", "t_s", "kind", "detail"]);
+    let kinds: Vec<&str> = rows.iter().map(|r| col(&h, r, "kind")).collect();
+    assert_eq!(kinds, ["note", "flight_stop", "epoch_skipped"]);
+    assert_eq!(col(&h, &rows[0], "detail"), "wind gust, animal stopped");
+    assert_eq!(col(&h, &rows[0], "t_s"), "5");
+    assert_eq!(col(&h, &rows[0], "session_id"), "k1");
+
+    let meta: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.join("session.json")).unwrap()).unwrap();
+    let (h, rows) = read_csv(&out.join("sessions.csv"));
+    let lat: f64 = col(&h, &rows[0], "site_latitude_deg").parse().unwrap();
+    let lon: f64 = col(&h, &rows[0], "site_longitude_deg").parse().unwrap();
+    assert_eq!(lat, meta["site"]["latitude_deg"].as_f64().unwrap());
+    assert_eq!(lon, 5.2);
+    assert_eq!(
+        col(&h, &rows[0], "time_zone"),
+        meta["time_zone"].as_str().unwrap()
+    );
+
+    let rep = tmp.path().join("rep");
+    let o = bin()
+        .arg("report")
+        .arg(&d)
+        .arg("--out")
+        .arg(&rep)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let (h, rows) = read_csv(&rep.join("notes.csv"));
+    assert_eq!(rows.len(), 3);
+    assert_eq!(col(&h, &rows[1], "kind"), "flight_stop");
 }

@@ -162,7 +162,7 @@ fn batch_equals_the_python_reference() {
     );
     n += compare(
         "population.csv",
-        &["condition"],
+        &["frame", "condition"],
         &[
             ("animals", Kind::Int),
             ("mean_deg", Kind::Deg),
@@ -193,7 +193,7 @@ fn batch_equals_the_python_reference() {
     );
     n += compare(
         "paired.csv",
-        &["condition_a", "condition_b"],
+        &["frame", "condition_a", "condition_b"],
         &[
             ("animals", Kind::Int),
             ("mean_change_deg", Kind::Deg),
@@ -211,7 +211,7 @@ fn batch_equals_the_python_reference() {
     );
     n += compare(
         "animals.csv",
-        &["animal"],
+        &["animal", "frame"],
         &[
             ("sessions", Kind::Int),
             ("mean_world_deg", Kind::Deg),

@@ -6,6 +6,7 @@
 use super::AnalysisError;
 use super::population::{
     animal_key, animal_vectors, animals_table, comparisons_table, paired_tables, population_table,
+    protocol_order,
 };
 use super::session::{SessionStats, analyse_session};
 use super::table::{Cell, Table};
@@ -40,7 +41,7 @@ pub struct Skipped {
     pub folder: PathBuf,
     /// Session id if known.
     pub session_id: String,
-    /// `error` (unreadable) or `filtered`.
+    /// `error` (unreadable), `filtered` or `duplicate` (the same session found again).
     pub kind: &'static str,
     /// One-line reason.
     pub reason: String,
@@ -156,14 +157,78 @@ fn filter_reason(s: &SessionStats, f: &Filters) -> Option<String> {
     None
 }
 
-/// Reads every session under `roots` (in parallel), applies the filters.
+/// (length of `samples.csv`, rows, bits of the sample statistics).
+type Fingerprint = (u64, u64, [u64; 6]);
+
+/// What makes two readings of a session the same session: its id, the length of its
+/// `samples.csv`, and the statistics of its samples to the last bit (rows, scored world and
+/// arena resultants, duration, flying time). Two folders that agree in all of these hold the
+/// same samples (a copy); the same id with any difference is a different recording.
+fn fingerprint(s: &SessionStats) -> Fingerprint {
+    let len = std::fs::metadata(s.info.dir.join("samples.csv")).map_or(0, |m| m.len());
+    let (wc, ws) = s.world.resultant();
+    let (ac, asn) = s.arena.resultant();
+    (
+        len,
+        s.rows,
+        [
+            wc.to_bits(),
+            ws.to_bits(),
+            ac.to_bits(),
+            asn.to_bits(),
+            s.duration_s.to_bits(),
+            s.flying_s.to_bits(),
+        ],
+    )
+}
+
+/// Keeps the first reading (in folder path order) of a session found more than once with the
+/// same samples, and lists the others in `skipped` as `duplicate`. The same session id with
+/// different samples is an error naming both folders.
+fn drop_duplicates(
+    read: Vec<(PathBuf, SessionStats)>,
+    skipped: &mut Vec<Skipped>,
+) -> Result<Vec<(PathBuf, SessionStats)>, AnalysisError> {
+    use std::collections::BTreeMap;
+    let mut first: BTreeMap<String, (PathBuf, Fingerprint)> = BTreeMap::new();
+    let mut out = Vec::with_capacity(read.len());
+    for (dir, s) in read {
+        let fp = fingerprint(&s);
+        match first.get(&s.info.id) {
+            Some((kept, kept_fp)) if *kept_fp == fp => skipped.push(Skipped {
+                folder: dir,
+                session_id: s.info.id.clone(),
+                kind: "duplicate",
+                reason: format!(
+                    "the same session as {} (same samples); counted once",
+                    kept.display()
+                ),
+            }),
+            Some((kept, _)) => {
+                return Err(AnalysisError::DuplicateId {
+                    id: s.info.id.clone(),
+                    first: kept.clone(),
+                    second: dir,
+                });
+            }
+            None => {
+                first.insert(s.info.id.clone(), (dir.clone(), fp));
+                out.push((dir, s));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Reads every session under `roots` (in parallel), drops sessions found twice (see
+/// [`drop_duplicates`]), applies the filters.
 /// `progress` is called once per session folder finished (from worker threads).
 pub fn run_batch(
     roots: &[PathBuf],
     filters: &Filters,
     progress: &(dyn Fn() + Sync),
     found: &dyn Fn(usize),
-) -> BatchResult {
+) -> Result<BatchResult, AnalysisError> {
     let mut skipped = Vec::new();
     let dirs = find_sessions(roots, &mut skipped);
     found(dirs.len());
@@ -179,6 +244,7 @@ pub fn run_batch(
         skipped,
         ..Default::default()
     };
+    let mut read = Vec::new();
     for (dir, r) in results {
         match r {
             Err(e) => out.skipped.push(Skipped {
@@ -190,28 +256,33 @@ pub fn run_batch(
                 kind: "error",
                 reason: e.to_string(),
             }),
-            Ok(mut s) => {
-                out.read_ok += 1;
-                if let Some(reason) = filter_reason(&s, filters) {
-                    out.skipped.push(Skipped {
-                        folder: dir,
-                        session_id: s.info.id.clone(),
-                        kind: "filtered",
-                        reason,
-                    });
-                    continue;
-                }
-                if !filters.conditions.is_empty() {
-                    s.epochs
-                        .retain(|e| filters.conditions.contains(&e.condition));
-                }
-                out.sessions.push(s);
-            }
+            Ok(s) => read.push((dir, s)),
         }
+    }
+    out.read_ok = read.len();
+    for (dir, mut s) in drop_duplicates(read, &mut out.skipped)? {
+        if let Some(reason) = filter_reason(&s, filters) {
+            out.skipped.push(Skipped {
+                folder: dir,
+                session_id: s.info.id.clone(),
+                kind: "filtered",
+                reason,
+            });
+            continue;
+        }
+        if !filters.conditions.is_empty() {
+            s.epochs
+                .retain(|e| filters.conditions.contains(&e.condition));
+            // Planned epochs of other conditions are not "never ran": leave them out too.
+            s.info
+                .conditions
+                .retain(|_, c| filters.conditions.contains(c));
+        }
+        out.sessions.push(s);
     }
     out.sessions
         .sort_by(|a, b| (&a.info.id, &a.info.dir).cmp(&(&b.info.id, &b.info.dir)));
-    out
+    Ok(out)
 }
 
 /// Columns of `sessions.csv`.
@@ -239,6 +310,11 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "heading_slope_deg_per_h",
     "heading_trend_r",
     "sun_azimuth_rate_deg_per_h",
+    "site",
+    "site_latitude_deg",
+    "site_longitude_deg",
+    "site_elevation_m",
+    "time_zone",
 ];
 
 /// Columns of `epochs.csv`.
@@ -265,6 +341,7 @@ pub const EPOCH_COLUMNS: &[&str] = &[
     "cue",
     "axial_r",
     "mean_evector_rel_deg",
+    "skipped",
 ];
 
 /// Columns of `turns.csv`.
@@ -319,17 +396,43 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
             s.heading_trend.map(|h| h.slope_deg_per_h).into(),
             s.heading_trend.map(|h| h.r).into(),
             s.sun_azimuth_rate_deg_per_h.into(),
+            s.info.site.as_str().into(),
+            s.info.meta.as_ref().map(|m| m.site.latitude_deg).into(),
+            s.info.meta.as_ref().map(|m| m.site.longitude_deg).into(),
+            s.info.meta.as_ref().map(|m| m.site.elevation_m).into(),
+            s.info
+                .meta
+                .as_ref()
+                .map_or(Cell::Empty, |m| m.time_zone.as_str().into()),
         ]);
     }
     t
 }
 
-/// `epochs.csv`.
+/// `epochs.csv`: one row per epoch of each session, planned epochs that never ran included
+/// (every statistic empty). `skipped` is 1 when the operator skipped the epoch
+/// (`epoch_skipped` in `events.csv`; its samples up to then, if any, are still scored) or it
+/// never ran (planned in `session.json`, no sample in `samples.csv`).
 pub fn epochs_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(EPOCH_COLUMNS);
     for s in sessions {
         let animal = animal_key(s);
-        for e in &s.epochs {
+        let mut indices: Vec<usize> = s.info.conditions.keys().copied().collect();
+        indices.extend(s.epochs.iter().map(|e| e.index));
+        indices.sort_unstable();
+        indices.dedup();
+        for index in indices {
+            let Some(e) = s.epochs.iter().find(|e| e.index == index) else {
+                // Planned, never ran: no statistic at all, not 0 or 1.
+                let mut row = vec![Cell::Empty; EPOCH_COLUMNS.len()];
+                row[0] = s.info.id.as_str().into();
+                row[1] = animal.as_str().into();
+                row[2] = index.into();
+                row[3] = s.info.condition(index).into();
+                row[EPOCH_COLUMNS.len() - 1] = true.into();
+                t.push(row);
+                continue;
+            };
             let n = e.world.n();
             let has = n > 0;
             let (z, _) = crate::circular::rayleigh_test(n as f64, e.world.r());
@@ -371,6 +474,7 @@ pub fn epochs_table(sessions: &[SessionStats]) -> Table {
             row.push(cue.cue.map_or(Cell::Empty, Cell::from));
             row.push(cue.axial_r.into());
             row.push(cue.mean_evector_rel_deg.into());
+            row.push(s.info.skipped_epochs.contains(&e.index).into());
             t.push(row);
         }
     }
@@ -431,6 +535,27 @@ pub fn turns_table(sessions: &[SessionStats]) -> Table {
     t
 }
 
+/// Columns of `notes.csv`.
+pub const NOTE_COLUMNS: &[&str] = &["session_id", "t_utc", "t_s", "kind", "detail"];
+
+/// `notes.csv`: the operator's notes, flight stops and starts and skipped epochs of each
+/// session, from its `events.csv` ([`super::meta::NOTE_KINDS`]), in time order per session.
+pub fn notes_table(sessions: &[SessionStats]) -> Table {
+    let mut t = Table::new(NOTE_COLUMNS);
+    for s in sessions {
+        for n in &s.info.notes {
+            t.push(vec![
+                s.info.id.as_str().into(),
+                n.t_utc.as_str().into(),
+                n.t_s.into(),
+                n.kind.as_str().into(),
+                n.detail.as_str().into(),
+            ]);
+        }
+    }
+    t
+}
+
 /// Columns of `skipped.csv`.
 pub const SKIPPED_COLUMNS: &[&str] = &["folder", "session_id", "kind", "reason"];
 
@@ -453,11 +578,12 @@ pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, Ana
     std::fs::create_dir_all(out).map_err(|e| AnalysisError::io(out, e))?;
     let refs: Vec<&SessionStats> = result.sessions.iter().collect();
     let vectors = animal_vectors(&refs);
-    let (paired, changes) = paired_tables(&vectors);
+    let (paired, changes) = paired_tables(&vectors, &protocol_order(&refs));
     let tables: Vec<(&str, Table)> = vec![
         ("sessions.csv", sessions_table(&result.sessions)),
         ("epochs.csv", epochs_table(&result.sessions)),
         ("turns.csv", turns_table(&result.sessions)),
+        ("notes.csv", notes_table(&result.sessions)),
         ("population.csv", population_table(&vectors)),
         ("comparisons.csv", comparisons_table(&vectors)),
         ("paired.csv", paired),

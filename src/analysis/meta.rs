@@ -3,7 +3,7 @@
 
 use super::AnalysisError;
 use crate::archive::{FORMAT_VERSION, SessionMeta, Summary, format_utc_millis};
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
 
 /// One session folder's description, as the analysis uses it.
@@ -33,6 +33,53 @@ pub struct SessionInfo {
     pub summary: Option<Summary>,
     /// The full session.json.
     pub meta: Option<SessionMeta>,
+    /// Epochs the operator skipped (`epoch_skipped` in `events.csv`).
+    pub skipped_epochs: BTreeSet<usize>,
+    /// The events a reader of the tables needs beside the numbers (`note`, `flight_stop`,
+    /// `flight_start`, `epoch_skipped`), in file order.
+    pub notes: Vec<NoteEvent>,
+}
+
+/// One row of `notes.csv`.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct NoteEvent {
+    /// `t_utc` as written in `events.csv`.
+    pub t_utc: String,
+    /// Seconds since the session started.
+    pub t_s: f64,
+    /// Event kind.
+    pub kind: String,
+    /// Free text.
+    pub detail: String,
+}
+
+/// Event kinds exported to `notes.csv`.
+pub const NOTE_KINDS: &[&str] = &["note", "flight_stop", "flight_start", "epoch_skipped"];
+
+/// Reads the skipped epochs and the notes from `dir/events.csv`. The events are context, not
+/// data: a folder without a readable `events.csv` gives none (`check` reports such a file).
+fn read_notes(dir: &Path, info: &mut SessionInfo) {
+    let Ok((events, _)) = crate::archive::read::read_events(&dir.join("events.csv")) else {
+        return;
+    };
+    for e in events {
+        if e.kind == "epoch_skipped"
+            && let Some(i) = e
+                .detail
+                .strip_prefix("epoch ")
+                .and_then(|x| x.trim().parse::<usize>().ok())
+        {
+            info.skipped_epochs.insert(i);
+        }
+        if NOTE_KINDS.contains(&e.kind.as_str()) {
+            info.notes.push(NoteEvent {
+                t_utc: e.t_utc,
+                t_s: e.t_s,
+                kind: e.kind,
+                detail: e.detail,
+            });
+        }
+    }
 }
 
 impl SessionInfo {
@@ -92,6 +139,7 @@ pub fn read_session_info(dir: &Path) -> Result<SessionInfo, AnalysisError> {
         info.turn_before_deg.insert(e.index, e.turn_before_deg);
     }
     info.summary = Summary::load(dir).ok();
+    read_notes(dir, &mut info);
     info.meta = Some(meta);
     Ok(info)
 }

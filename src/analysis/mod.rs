@@ -32,6 +32,19 @@ pub enum AnalysisError {
         /// The cause.
         source: std::io::Error,
     },
+    /// One session id in two folders whose samples differ: the tables are keyed by session id,
+    /// so `batch` refuses to guess which one is meant.
+    #[error(
+        "session id '{id}' is in two folders with different samples: {first} and {second} (rename or remove one)"
+    )]
+    DuplicateId {
+        /// The session id.
+        id: String,
+        /// The folder read first (in path order).
+        first: PathBuf,
+        /// The other folder.
+        second: PathBuf,
+    },
     /// A required file is missing.
     #[error("{path}: missing")]
     Missing {

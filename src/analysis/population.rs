@@ -1,13 +1,16 @@
 //! Second-order statistics: one mean vector per animal and condition, then tests over animals.
 //!
-//! An animal's vector under a condition pools every scored world heading of that animal in
-//! epochs with that condition, over all its sessions that passed the filters: direction θ_i
-//! (its preferred heading) and length r_i (how steadily it held it). Population tests then
+//! An animal's vector under a condition, in one frame (world, or sun-relative: world heading
+//! minus the sun's azimuth at each sample), is the mean of its sessions' mean vectors (each
+//! session pooling its scored headings in epochs with that condition), so each session weighs
+//! equally: direction θ_i (its preferred heading) and length r_i (how steadily it held it).
+//! Sessions at different times of day that hold the same sun-relative heading agree in the
+//! sun frame and spread in the world frame. Population tests then
 //! treat the animals, not the samples, as the observations (Batschelet 1981, ch. 7; Zar 2010,
 //! §27.1), which also sidesteps the autocorrelation of samples. A session without an animal id
 //! counts as an animal of its own (its session id).
 
-use super::session::SessionStats;
+use super::session::{EpochStats, SessionStats};
 use super::table::{Cell, Table};
 use crate::circular::{
     HeadingAccumulator, bootstrap_mean_ci95_deg, describe_deg, hermans_rasson_test,
@@ -15,7 +18,7 @@ use crate::circular::{
     rao_spacing_test, rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
 };
 use crate::frames::signed_difference_deg;
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::BTreeMap;
 
 /// A p-value cell written so that it cannot be taken for an integer: always with a decimal
 /// point or an exponent ("1.0", "0.0156", "1e-6"); empty when there is no p.
@@ -48,42 +51,105 @@ pub fn animal_key(s: &SessionStats) -> String {
     }
 }
 
-/// One animal's vector under one condition.
+/// The frame of a heading: the world (0 = north, clockwise) or the sun (world heading minus
+/// the sun's azimuth at the same sample; 0 = toward the sun).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Frame {
+    /// World headings.
+    World,
+    /// Sun-relative headings.
+    Sun,
+}
+
+impl Frame {
+    /// Both frames, in table order.
+    pub const ALL: [Frame; 2] = [Frame::World, Frame::Sun];
+
+    /// The name written in the `frame` column.
+    pub fn name(self) -> &'static str {
+        match self {
+            Frame::World => "world",
+            Frame::Sun => "sun",
+        }
+    }
+
+    /// The epoch's scored headings in this frame.
+    pub fn of_epoch(self, e: &EpochStats) -> &HeadingAccumulator {
+        match self {
+            Frame::World => &e.world,
+            Frame::Sun => &e.sun_relative,
+        }
+    }
+}
+
+/// One animal's vector under one condition in one frame: the second-order mean of its
+/// sessions' mean vectors (each session's scored headings of that condition pooled), so that
+/// every session weighs equally however long it flew.
 #[derive(Debug, Clone)]
 pub struct AnimalVector {
     /// Animal id.
     pub animal: String,
     /// Sessions contributing.
     pub sessions: usize,
-    /// Pooled scored world headings.
-    pub acc: HeadingAccumulator,
+    /// Direction of the animal's vector, None when it is 0.
+    pub mean_deg: Option<f64>,
+    /// Length of the animal's vector (mean of the sessions' vectors), in [0, 1].
+    pub r: f64,
 }
 
-/// condition → animal → vector (both ordered by name).
-pub type AnimalVectors = BTreeMap<String, BTreeMap<String, AnimalVector>>;
+/// frame → condition → animal → vector (conditions and animals ordered by name).
+pub type AnimalVectors = BTreeMap<Frame, BTreeMap<String, BTreeMap<String, AnimalVector>>>;
 
-/// Pools the sessions' epochs into one vector per condition and animal.
+/// One vector per frame, condition and animal: each session's epochs of a condition pooled
+/// into the session's mean vector, then the animal's sessions averaged as vectors
+/// ([`second_order_mean`]). Both frames are always present (possibly empty).
 pub fn animal_vectors(sessions: &[&SessionStats]) -> AnimalVectors {
-    let mut out: AnimalVectors = BTreeMap::new();
+    // frame → condition → animal → (session directions, session lengths)
+    type Parts = BTreeMap<String, BTreeMap<String, (Vec<f64>, Vec<f64>)>>;
+    let mut parts: BTreeMap<Frame, Parts> = BTreeMap::new();
     for s in sessions {
         let animal = animal_key(s);
-        let mut seen: BTreeSet<&str> = BTreeSet::new();
-        for e in &s.epochs {
-            if e.world.n() == 0 {
-                continue;
+        for frame in Frame::ALL {
+            let mut by_cond: BTreeMap<&str, HeadingAccumulator> = BTreeMap::new();
+            for e in &s.epochs {
+                let acc = frame.of_epoch(e);
+                if acc.n() == 0 {
+                    continue;
+                }
+                by_cond.entry(e.condition.as_str()).or_default().merge(acc);
             }
-            let v = out
-                .entry(e.condition.clone())
-                .or_default()
-                .entry(animal.clone())
-                .or_insert_with(|| AnimalVector {
-                    animal: animal.clone(),
-                    sessions: 0,
-                    acc: HeadingAccumulator::new(),
-                });
-            v.acc.merge(&e.world);
-            if seen.insert(e.condition.as_str()) {
-                v.sessions += 1;
+            for (cond, acc) in by_cond {
+                let Some(m) = acc.mean_deg() else { continue };
+                let v = parts
+                    .entry(frame)
+                    .or_default()
+                    .entry(cond.to_string())
+                    .or_default()
+                    .entry(animal.clone())
+                    .or_default();
+                v.0.push(m);
+                v.1.push(acc.r());
+            }
+        }
+    }
+    let mut out: AnimalVectors = Frame::ALL.iter().map(|f| (*f, BTreeMap::new())).collect();
+    for (frame, conds) in parts {
+        let slot = out.entry(frame).or_default();
+        for (cond, animals) in conds {
+            let vs = slot.entry(cond).or_default();
+            for (animal, (d, l)) in animals {
+                let Ok((mean_deg, r)) = second_order_mean(&d, &l) else {
+                    continue;
+                };
+                vs.insert(
+                    animal.clone(),
+                    AnimalVector {
+                        animal,
+                        sessions: d.len(),
+                        mean_deg,
+                        r,
+                    },
+                );
             }
         }
     }
@@ -94,17 +160,27 @@ pub fn animal_vectors(sessions: &[&SessionStats]) -> AnimalVectors {
 fn directions(vs: &BTreeMap<String, AnimalVector>) -> (Vec<f64>, Vec<f64>, Vec<String>) {
     let (mut d, mut l, mut names) = (Vec::new(), Vec::new(), Vec::new());
     for v in vs.values() {
-        if let Some(m) = v.acc.mean_deg() {
+        if let Some(m) = v.mean_deg {
             d.push(m);
-            l.push(v.acc.r());
+            l.push(v.r);
             names.push(v.animal.clone());
         }
     }
     (d, l, names)
 }
 
+/// (frame, condition, animals' vectors), frames in table order, conditions by name.
+fn by_frame(
+    vectors: &AnimalVectors,
+) -> impl Iterator<Item = (Frame, &String, &BTreeMap<String, AnimalVector>)> {
+    vectors
+        .iter()
+        .flat_map(|(f, conds)| conds.iter().map(move |(c, vs)| (*f, c, vs)))
+}
+
 /// Columns of `population.csv`.
 pub const POPULATION_COLUMNS: &[&str] = &[
+    "frame",
     "condition",
     "animals",
     "sessions",
@@ -136,7 +212,7 @@ pub const POPULATION_COLUMNS: &[&str] = &[
 /// bootstrap 95% interval of their mean direction (n ≥ 5), read clockwise from low to high.
 pub fn population_table(vectors: &AnimalVectors) -> Table {
     let mut t = Table::new(POPULATION_COLUMNS);
-    for (cond, vs) in vectors {
+    for (frame, cond, vs) in by_frame(vectors) {
         let (d, l, _) = directions(vs);
         let n = d.len();
         let sessions: usize = vs.values().map(|v| v.sessions).sum();
@@ -158,6 +234,7 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
             Err(_) => (None, None),
         };
         t.push(vec![
+            frame.name().into(),
             cond.clone().into(),
             n.into(),
             sessions.into(),
@@ -213,11 +290,14 @@ pub const COMPARISON_COLUMNS: &[&str] = &[
 /// where Zar's condition holds, the permutation p at its level throughout.
 pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
     let mut t = Table::new(COMPARISON_COLUMNS);
-    let conds: Vec<&String> = vectors.keys().collect();
+    let Some(world) = vectors.get(&Frame::World) else {
+        return t;
+    };
+    let conds: Vec<&String> = world.keys().collect();
     for (i, a) in conds.iter().enumerate() {
         for b in &conds[i + 1..] {
-            let (da, _, na) = directions(&vectors[*a]);
-            let (db, _, nb) = directions(&vectors[*b]);
+            let (da, _, na) = directions(&world[*a]);
+            let (db, _, nb) = directions(&world[*b]);
             if na.iter().any(|x| nb.contains(x)) {
                 continue;
             }
@@ -244,6 +324,7 @@ pub fn comparisons_table(vectors: &AnimalVectors) -> Table {
 
 /// Columns of `paired.csv`.
 pub const PAIRED_COLUMNS: &[&str] = &[
+    "frame",
     "condition_a",
     "condition_b",
     "animals",
@@ -260,6 +341,7 @@ pub const PAIRED_COLUMNS: &[&str] = &[
 
 /// Columns of `paired_changes.csv`.
 pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
+    "frame",
     "animal",
     "condition_a",
     "condition_b",
@@ -268,7 +350,25 @@ pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
     "change_deg",
 ];
 
-/// `paired.csv` (one row per pair of conditions: the change of preferred heading of each
+/// The conditions in protocol order: by the first epoch index at which any session planned
+/// (or, without a plan, ran) them, ties by name.
+pub fn protocol_order(sessions: &[&SessionStats]) -> Vec<String> {
+    let mut first: BTreeMap<String, usize> = BTreeMap::new();
+    for s in sessions {
+        let planned = s.info.conditions.iter().map(|(i, c)| (*i, c));
+        let ran = s.epochs.iter().map(|e| (e.index, &e.condition));
+        for (i, c) in planned.chain(ran) {
+            let slot = first.entry(c.clone()).or_insert(i);
+            *slot = (*slot).min(i);
+        }
+    }
+    let mut v: Vec<(usize, String)> = first.into_iter().map(|(c, i)| (i, c)).collect();
+    v.sort();
+    v.into_iter().map(|(_, c)| c).collect()
+}
+
+/// `paired.csv` (one row per pair of conditions, a before b in protocol order
+/// ([`protocol_order`]): the change of preferred heading of each
 /// animal seen under both, b − a in (-180, 180], with a V-test toward 0, i.e. "the heading
 /// did not change") and `paired_changes.csv` (one row per animal and pair).
 ///
@@ -279,55 +379,61 @@ pub const PAIRED_CHANGE_COLUMNS: &[&str] = &[
 /// both p are sign-flip p (exact up to 12 animals; see [`crate::circular::hotelling_paired_test`]),
 /// calibrated in `circular::calibration`; with 4 or 5 animals they cannot go below 0.125 and
 /// 0.0625.
-pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
+pub fn paired_tables(vectors: &AnimalVectors, order: &[String]) -> (Table, Table) {
     let mut t = Table::new(PAIRED_COLUMNS);
     let mut detail = Table::new(PAIRED_CHANGE_COLUMNS);
-    let conds: Vec<&String> = vectors.keys().collect();
-    for (i, a) in conds.iter().enumerate() {
-        for b in &conds[i + 1..] {
-            let mut changes = Vec::new();
-            let (mut heads_a, mut heads_b) = (Vec::new(), Vec::new());
-            for (animal, va) in &vectors[*a] {
-                let Some(vb) = vectors[*b].get(animal) else {
+    for (frame, by_cond) in vectors {
+        let mut conds: Vec<&String> = by_cond.keys().collect();
+        let rank = |c: &String| order.iter().position(|o| o == c).unwrap_or(usize::MAX);
+        conds.sort_by_key(|c| (rank(c), c.to_string()));
+        for (i, a) in conds.iter().enumerate() {
+            for b in &conds[i + 1..] {
+                let mut changes = Vec::new();
+                let (mut heads_a, mut heads_b) = (Vec::new(), Vec::new());
+                for (animal, va) in &by_cond[*a] {
+                    let Some(vb) = by_cond[*b].get(animal) else {
+                        continue;
+                    };
+                    let (Some(ma), Some(mb)) = (va.mean_deg, vb.mean_deg) else {
+                        continue;
+                    };
+                    let ch = signed_difference_deg(ma, mb);
+                    changes.push(ch);
+                    heads_a.push(ma);
+                    heads_b.push(mb);
+                    detail.push(vec![
+                        frame.name().into(),
+                        animal.as_str().into(),
+                        a.as_str().into(),
+                        b.as_str().into(),
+                        ma.into(),
+                        mb.into(),
+                        ch.into(),
+                    ]);
+                }
+                if changes.is_empty() {
                     continue;
-                };
-                let (Some(ma), Some(mb)) = (va.acc.mean_deg(), vb.acc.mean_deg()) else {
-                    continue;
-                };
-                let ch = signed_difference_deg(ma, mb);
-                changes.push(ch);
-                heads_a.push(ma);
-                heads_b.push(mb);
-                detail.push(vec![
-                    animal.as_str().into(),
+                }
+                let (mean, r) = mean_and_r(&changes);
+                let v = Some(v_test_deg(&changes, 0.0));
+                let hot = hotelling_paired_test(&heads_a, &heads_b).ok();
+                let moore = moore_paired_test(&heads_a, &heads_b).ok();
+                t.push(vec![
+                    frame.name().into(),
                     a.as_str().into(),
                     b.as_str().into(),
-                    ma.into(),
-                    mb.into(),
-                    ch.into(),
+                    changes.len().into(),
+                    mean.map(crate::frames::wrap_signed_deg).into(),
+                    r.into(),
+                    v.map(|v| v.v).into(),
+                    v.map(|v| v.u).into(),
+                    p_cell(v.map(|v| v.p)),
+                    hot.map(|h| h.statistic).into(),
+                    p_cell(hot.map(|h| h.p)),
+                    moore.map(|m| m.statistic).into(),
+                    p_cell(moore.map(|m| m.p)),
                 ]);
             }
-            if changes.is_empty() {
-                continue;
-            }
-            let (mean, r) = mean_and_r(&changes);
-            let v = Some(v_test_deg(&changes, 0.0));
-            let hot = hotelling_paired_test(&heads_a, &heads_b).ok();
-            let moore = moore_paired_test(&heads_a, &heads_b).ok();
-            t.push(vec![
-                a.as_str().into(),
-                b.as_str().into(),
-                changes.len().into(),
-                mean.map(crate::frames::wrap_signed_deg).into(),
-                r.into(),
-                v.map(|v| v.v).into(),
-                v.map(|v| v.u).into(),
-                p_cell(v.map(|v| v.p)),
-                hot.map(|h| h.statistic).into(),
-                p_cell(hot.map(|h| h.p)),
-                moore.map(|m| m.statistic).into(),
-                p_cell(moore.map(|m| m.p)),
-            ]);
         }
     }
     (t, detail)
@@ -336,6 +442,7 @@ pub fn paired_tables(vectors: &AnimalVectors) -> (Table, Table) {
 /// Columns of `animals.csv`.
 pub const ANIMAL_COLUMNS: &[&str] = &[
     "animal",
+    "frame",
     "sessions",
     "conditions",
     "mean_world_deg",
@@ -345,9 +452,11 @@ pub const ANIMAL_COLUMNS: &[&str] = &[
     "flying_s",
 ];
 
-/// `animals.csv`: how consistent each animal's heading is across its sessions: the sessions'
-/// mean world headings (all scored samples of a session) as unit vectors, their mean
-/// direction and length, and a Rayleigh test when there are at least two sessions.
+/// `animals.csv`: how consistent each animal's heading is across its sessions, one row per
+/// animal and frame: the sessions' mean headings in that frame (all scored samples of a
+/// session in epochs) as unit vectors, their mean direction and length, and a Rayleigh test
+/// when there are at least two sessions. The columns keep their world names
+/// (`mean_world_deg`, `mean_r_world`); in `sun` rows they hold sun-relative values.
 pub fn animals_table(sessions: &[&SessionStats]) -> Table {
     let mut by: BTreeMap<String, Vec<&SessionStats>> = BTreeMap::new();
     for s in sessions {
@@ -355,9 +464,6 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
     }
     let mut t = Table::new(ANIMAL_COLUMNS);
     for (animal, ss) in by {
-        let means: Vec<f64> = ss.iter().filter_map(|s| s.world.mean_deg()).collect();
-        let (mean, r) = mean_and_r(&means);
-        let p = (means.len() >= 2).then(|| rayleigh_test(means.len() as f64, r).1);
         let mut conds: Vec<String> = Vec::new();
         for s in &ss {
             for c in s.conditions() {
@@ -367,21 +473,41 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
             }
         }
         conds.sort();
-        let mean_r = ss.iter().map(|s| s.world.r()).sum::<f64>() / ss.len() as f64;
-        t.push(vec![
-            animal.into(),
-            ss.len().into(),
-            conds.join(";").into(),
-            mean.into(),
-            if means.len() >= 2 {
-                Cell::Num(r)
-            } else {
-                Cell::Empty
-            },
-            p_cell(p),
-            mean_r.into(),
-            ss.iter().map(|s| s.flying_s).sum::<f64>().into(),
-        ]);
+        for frame in Frame::ALL {
+            let per_session: Vec<HeadingAccumulator> = ss
+                .iter()
+                .map(|s| match frame {
+                    // The whole session's scored world headings (outside epochs too).
+                    Frame::World => s.world.clone(),
+                    Frame::Sun => {
+                        let mut acc = HeadingAccumulator::new();
+                        for e in &s.epochs {
+                            acc.merge(&e.sun_relative);
+                        }
+                        acc
+                    }
+                })
+                .collect();
+            let means: Vec<f64> = per_session.iter().filter_map(|a| a.mean_deg()).collect();
+            let (mean, r) = mean_and_r(&means);
+            let p = (means.len() >= 2).then(|| rayleigh_test(means.len() as f64, r).1);
+            let mean_r = per_session.iter().map(|a| a.r()).sum::<f64>() / ss.len() as f64;
+            t.push(vec![
+                animal.as_str().into(),
+                frame.name().into(),
+                ss.len().into(),
+                conds.join(";").into(),
+                mean.into(),
+                if means.len() >= 2 {
+                    Cell::Num(r)
+                } else {
+                    Cell::Empty
+                },
+                p_cell(p),
+                mean_r.into(),
+                ss.iter().map(|s| s.flying_s).sum::<f64>().into(),
+            ]);
+        }
     }
     t
 }
@@ -434,13 +560,14 @@ mod tests {
         ];
         let refs: Vec<&SessionStats> = ss.iter().collect();
         let v = animal_vectors(&refs);
-        assert_eq!(v.len(), 2);
+        let w = &v[&Frame::World];
+        assert_eq!(w.len(), 2);
         assert_eq!(
-            v["open sky"].len(),
+            w["open sky"].len(),
             3,
             "lm-01's two sessions pool into one vector"
         );
-        assert_eq!(v["open sky"]["lm-01"].sessions, 2);
+        assert_eq!(w["open sky"]["lm-01"].sessions, 2);
 
         let pop = population_table(&v);
         // Conditions in name order: diffuser, open sky.
@@ -457,11 +584,14 @@ mod tests {
             "the same animals under both conditions are not independent groups"
         );
 
-        let (paired, changes) = paired_tables(&v);
+        let (paired, changes) = paired_tables(&v, &protocol_order(&refs));
         assert_eq!(cell(&paired, 0, "animals"), "3");
+        // Protocol order: open sky (epoch 1) before diffuser (epoch 2), not name order.
+        assert_eq!(cell(&paired, 0, "condition_a"), "open sky");
+        assert_eq!(cell(&paired, 0, "condition_b"), "diffuser");
         let change: f64 = cell(&paired, 0, "mean_change_deg").parse().unwrap();
-        // b − a with a = diffuser, b = open sky: about −90.
-        assert!((change + 90.0).abs() < 5.0, "{change}");
+        // b − a with a = open sky, b = diffuser: about +90.
+        assert!((change - 90.0).abs() < 5.0, "{change}");
         let vp: f64 = cell(&paired, 0, "v_p").parse().unwrap();
         assert!(
             vp > 0.3,
@@ -476,9 +606,11 @@ mod tests {
 
         let animals = animals_table(&refs);
         assert_eq!(cell(&animals, 0, "animal"), "lm-01");
+        assert_eq!(cell(&animals, 0, "frame"), "world");
+        assert_eq!(cell(&animals, 1, "frame"), "sun");
         assert_eq!(cell(&animals, 0, "sessions"), "2");
         assert_eq!(
-            cell(&animals, 1, "r_between_sessions"),
+            cell(&animals, 2, "r_between_sessions"),
             "",
             "one session: no spread"
         );
@@ -515,7 +647,77 @@ mod tests {
         // 924 ways to split 12 animals 6/6; only the observed split and its mirror are as
         // extreme, so the permutation p is about 2/924 (Monte Carlo, B = 9999).
         assert!(p > 0.0005 && p < 0.006, "90° apart: {p}");
-        let (paired, _) = paired_tables(&v);
+        let (paired, _) = paired_tables(&v, &protocol_order(&refs));
         assert!(paired.rows.is_empty(), "no animal under both conditions");
+    }
+
+    /// A session whose epoch holds `heading_deg` in the world with the sun at `sun_az_deg`;
+    /// `n` samples, spread `spread_deg`.
+    fn sun_session(
+        id: &str,
+        animal: &str,
+        heading_deg: f64,
+        sun_az_deg: f64,
+        n: usize,
+        spread_deg: f64,
+    ) -> SessionStats {
+        let mut e = EpochStats {
+            index: 1,
+            condition: "open sky".into(),
+            ..Default::default()
+        };
+        for k in 0..n {
+            let h = heading_deg + if k % 2 == 0 { spread_deg } else { -spread_deg };
+            e.world.push_deg(h);
+            e.sun_relative
+                .push_deg(crate::frames::sun_relative_heading_deg(h, sun_az_deg));
+        }
+        let mut s = SessionStats::default();
+        s.info.id = id.into();
+        s.info.animal = animal.into();
+        s.world.merge(&e.world);
+        s.epochs = vec![e];
+        s
+    }
+
+    #[test]
+    fn sessions_weigh_equally_and_the_sun_frame_follows_the_sun() {
+        // One animal, morning and noon: the same heading 30° right of the sun, the sun 60°
+        // further on at noon. The morning session is ten times longer.
+        let ss = [
+            sun_session("s1", "lm-01", 130.0, 100.0, 1000, 5.0),
+            sun_session("s2", "lm-01", 190.0, 160.0, 100, 5.0),
+        ];
+        let refs: Vec<&SessionStats> = ss.iter().collect();
+        let v = animal_vectors(&refs);
+        let w = &v[&Frame::World]["open sky"]["lm-01"];
+        let sun = &v[&Frame::Sun]["open sky"]["lm-01"];
+        assert_eq!((w.sessions, sun.sessions), (2, 2));
+        // Equal weights: the world vector points midway (160°), not toward the long session,
+        // and is shortened by the 60° between the sessions (cos 30° · cos 5°).
+        assert!(
+            (w.mean_deg.unwrap() - 160.0).abs() < 1e-9,
+            "{:?}",
+            w.mean_deg
+        );
+        let expect = 30f64.to_radians().cos() * 5f64.to_radians().cos();
+        assert!((w.r - expect).abs() < 1e-9, "{}", w.r);
+        // Sun frame: both sessions at 30°, the vector as long as one session's.
+        assert!((sun.mean_deg.unwrap() - 30.0).abs() < 1e-9);
+        assert!((sun.r - 5f64.to_radians().cos()).abs() < 1e-9);
+
+        let pop = population_table(&v);
+        assert_eq!(pop.rows.len(), 2, "one row per frame");
+        assert_eq!(cell(&pop, 0, "frame"), "world");
+        assert_eq!(cell(&pop, 1, "frame"), "sun");
+        let mv: f64 = cell(&pop, 1, "mean_vector_deg").parse().unwrap();
+        assert!((mv - 30.0).abs() < 1e-9);
+        let animals = animals_table(&refs);
+        assert_eq!(cell(&animals, 1, "frame"), "sun");
+        let between: f64 = cell(&animals, 1, "r_between_sessions").parse().unwrap();
+        assert!(
+            (between - 1.0).abs() < 1e-9,
+            "same sun-relative heading: {between}"
+        );
     }
 }

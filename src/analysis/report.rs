@@ -1,7 +1,7 @@
 //! `report`: one session → per-epoch and per-turn tables, a text summary and figures.
 
 use super::AnalysisError;
-use super::batch::{epochs_table, sessions_table, turns_table};
+use super::batch::{epochs_table, notes_table, sessions_table, turns_table};
 use super::figures::{CircularPanel, FigureData, TurnPoint, write_figures};
 use super::population::animal_key;
 use super::scan::Row;
@@ -54,6 +54,7 @@ pub fn write_report(dir: &Path, out: &Path) -> Result<ReportOutput, AnalysisErro
         ("epochs.csv", epochs_table(one)),
         ("turns.csv", turns_table(one)),
         ("session.csv", sessions_table(one)),
+        ("notes.csv", notes_table(one)),
     ] {
         let p = out.join(name);
         table.write(&p)?;

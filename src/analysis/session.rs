@@ -34,6 +34,8 @@ pub struct EpochStats {
     pub world: HeadingAccumulator,
     /// Scored arena headings.
     pub arena: HeadingAccumulator,
+    /// Scored sun-relative headings (world heading − sun azimuth of the same sample).
+    pub sun_relative: HeadingAccumulator,
     /// Sun azimuth of the epoch's first scored sample (the reference for the mean below).
     pub sun_azimuth_ref_deg: Option<f64>,
     /// Σ of the scored samples' sun azimuth minus the reference, in (-180, 180] (the sun moves
@@ -285,9 +287,14 @@ impl SessionPass {
             if !chained {
                 e.world.mark_gap();
                 e.arena.mark_gap();
+                e.sun_relative.mark_gap();
             }
             e.world.push_deg(s.world_heading_deg);
             e.arena.push_deg(s.arena_heading_deg);
+            e.sun_relative.push_deg(sun_relative_heading_deg(
+                s.world_heading_deg,
+                s.sun_azimuth_deg,
+            ));
             let r = *e.sun_azimuth_ref_deg.get_or_insert(s.sun_azimuth_deg);
             e.sum_sun_azimuth_offset_deg += offset_deg(r, s.sun_azimuth_deg);
             e.sum_sun_elevation_deg += s.sun_elevation_deg;

@@ -100,14 +100,23 @@ pub fn run(args: BatchArgs) -> anyhow::Result<i32> {
         })
     });
     bar.finish_and_clear();
+    let result = result?;
 
     for s in result.skipped.iter().filter(|s| s.kind == "error") {
         eprintln!("skipped {}: {}", s.folder.display(), s.reason);
+    }
+    for s in result.skipped.iter().filter(|s| s.kind == "duplicate") {
+        eprintln!("warning: {}: {}", s.folder.display(), s.reason);
     }
     let filtered = result
         .skipped
         .iter()
         .filter(|s| s.kind == "filtered")
+        .count();
+    let duplicates = result
+        .skipped
+        .iter()
+        .filter(|s| s.kind == "duplicate")
         .count();
     if result.read_ok == 0 {
         anyhow::bail!(
@@ -121,11 +130,12 @@ pub fn run(args: BatchArgs) -> anyhow::Result<i32> {
     }
     let names = write_tables(&result, &args.out)
         .with_context(|| format!("writing tables to {}", args.out.display()))?;
-    let errors = result.skipped.len() - filtered;
+    let errors = result.skipped.len() - filtered - duplicates;
     eprintln!(
-        "batch: {} sessions in the tables, {} filtered out, {} unreadable skipped",
+        "batch: {} sessions in the tables, {} filtered out, {} found twice (counted once), {} unreadable skipped",
         result.sessions.len(),
         filtered,
+        duplicates,
         errors
     );
     println!("wrote {} to {}", names.join(", "), args.out.display());

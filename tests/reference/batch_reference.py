@@ -31,8 +31,11 @@ Sources of each number:
 - V-test: pycircstat2.hypothesis.V_test.
 
 Rule shared with the program (design choices, not statistics): an animal's vector under a
-condition pools all scored world headings of that animal in epochs of that condition; only
-sessions with status "complete" are used; conditions are compared in name order.
+condition, per frame (world headings; sun-relative = samples.csv's sun_relative_heading_deg),
+is the mean of its sessions' mean vectors (each session pooling its scored headings in epochs
+of that condition), so each session weighs equally; only sessions with status "complete" are
+used; paired conditions are taken in protocol order (a condition's first planned epoch index
+over all sessions, ties by name), within each frame.
 """
 
 import json
@@ -52,6 +55,9 @@ from pycircstat2.hypothesis import V_test, rayleigh_test, watson_williams_test
 from scipy import stats
 
 warnings.simplefilter("ignore", RuntimeWarning)
+
+
+FRAMES = [("world", "world_heading_deg"), ("sun", "sun_relative_heading_deg")]
 
 
 def wrap360(x):
@@ -210,12 +216,16 @@ def session_tables(folder):
         mean_world_deg=mw_all,
         n=len(scored),
     )
-    # Pooled world headings per condition, for the population tables.
+    # Per frame and condition: this session's mean vector, for the population tables.
     pooled = {}
-    for ep, s in scored.groupby("epoch"):
-        c = conds.get(int(ep), "")
-        pooled.setdefault(c, []).append(s["world_heading_deg"].to_numpy())
-    pooled = {c: np.concatenate(v) for c, v in pooled.items()}
+    for frame, col in FRAMES:
+        for ep, s in scored.groupby("epoch"):
+            c = conds.get(int(ep), "")
+            pooled.setdefault((frame, c), []).append(s[col].to_numpy())
+    pooled = {k: circ_desc(np.concatenate(v))[1:] for k, v in pooled.items()}
+    _, msun_all, rsun_all = circ_desc(scored["sun_relative_heading_deg"])
+    session["mean_sun_deg"] = msun_all
+    session["r_sun"] = rsun_all
     return session, epochs, turns, pooled
 
 
@@ -334,31 +344,41 @@ def main():
         p for p in data.rglob("session.json") if (p.parent / "samples.csv").is_file()
     )
     sessions, epochs, turns = [], [], []
-    vectors = {}  # condition -> animal -> list of world headings
+    first_index = {}  # condition -> its first planned epoch index over all sessions
+    vectors = {}  # (frame, condition) -> animal -> list of session (mean, r)
     for sj in folders:
         meta = json.loads(sj.read_text())
         if meta.get("status") != "complete" or meta.get("format_version", 1) > 1:
             continue
+        for c, i in ((v[0], k) for k, v in planned_of(meta).items()):
+            first_index[c] = min(first_index.get(c, i), i)
         s, e, t, pooled = session_tables(sj.parent)
         sessions.append(s)
         epochs.extend(e)
         turns.extend(t)
-        for c, h in pooled.items():
-            vectors.setdefault(c, {}).setdefault(s["animal"], []).append(h)
+        for k, mr in pooled.items():
+            vectors.setdefault(k, {}).setdefault(s["animal"], []).append(mr)
     key = ["session_id"]
-    pd.DataFrame(sessions).sort_values(key).to_csv(out / "sessions.csv", index=False)
+    pd.DataFrame(sessions).drop(columns=["mean_sun_deg", "r_sun"]).sort_values(key).to_csv(
+        out / "sessions.csv", index=False
+    )
     pd.DataFrame(epochs).sort_values(key + ["epoch"]).to_csv(out / "epochs.csv", index=False)
     pd.DataFrame(turns).sort_values(key + ["turn"]).to_csv(out / "turns.csv", index=False)
 
-    animal_vec = {}  # condition -> animal -> (mean, r)
+    animal_vec = {}  # (frame, condition) -> animal -> (mean, r)
     pop = []
-    for c in sorted(vectors):
+    frame_order = {f: i for i, (f, _) in enumerate(FRAMES)}
+    for fc in sorted(vectors, key=lambda k: (frame_order[k[0]], k[1])):
+        frame, c = fc
         vs = {}
-        for a in sorted(vectors[c]):
-            n, m, r = circ_desc(np.concatenate(vectors[c][a]))
-            if m is not None:
-                vs[a] = (m, r)
-        animal_vec[c] = vs
+        for a in sorted(vectors[fc]):
+            # The second-order mean of the sessions' vectors (Batschelet 1981 10.1).
+            ms = [(m, r) for m, r in vectors[fc][a] if m is not None]
+            x = np.mean([r * math.cos(math.radians(m)) for m, r in ms])
+            y = np.mean([r * math.sin(math.radians(m)) for m, r in ms])
+            if ms and math.hypot(x, y) > 0:
+                vs[a] = (wrap360(math.degrees(math.atan2(y, x))), math.hypot(x, y))
+        animal_vec[fc] = vs
         means = np.array([v[0] for v in vs.values()])
         lengths = np.array([v[1] for v in vs.values()])
         n, m, r = circ_desc(means)
@@ -370,6 +390,7 @@ def main():
         y = (lengths * np.sin(np.deg2rad(means))).mean() if n else None
         pop.append(
             dict(
+                frame=frame,
                 condition=c,
                 animals=n,
                 mean_deg=m,
@@ -388,19 +409,25 @@ def main():
     pd.DataFrame(pop).to_csv(out / "population.csv", index=False)
 
     comps, paired = [], []
-    conds = sorted(animal_vec)
-    for i, a in enumerate(conds):
+    for frame, _ in FRAMES:
+      conds = sorted(
+          (k for k in animal_vec if k[0] == frame),
+          key=lambda k: (first_index.get(k[1], 10**9), k[1]),
+      )
+      for i, a in enumerate(conds):
         for b in conds[i + 1 :]:
             da = np.array([v[0] for v in animal_vec[a].values()])
             db = np.array([v[0] for v in animal_vec[b].values()])
             f = p = None
-            if set(animal_vec[a]) & set(animal_vec[b]):
+            if set(animal_vec[a]) & set(animal_vec[b]) or frame != "world":
                 pass  # the same animals: not independent groups (paired.csv instead)
             else:
                 if len(da) and len(db) and len(da) + len(db) > 2:
                     f, p = ww_permutation_p(da, db)
+                # comparisons.csv keeps name order (a < b); F is symmetric in the groups.
+                (ca, na), (cb, nb) = sorted([(a[1], len(da)), (b[1], len(db))])
                 comps.append(
-                    dict(condition_a=a, condition_b=b, animals_a=len(da), animals_b=len(db),
+                    dict(condition_a=ca, condition_b=cb, animals_a=na, animals_b=nb,
                          ww_f=f, ww_p=p)
                 )
             both = [k for k in animal_vec[a] if k in animal_vec[b]]
@@ -413,7 +440,7 @@ def main():
                 vt = V_test(angle=0.0, alpha=np.deg2rad(changes))
                 n, m, r = circ_desc(changes)
                 paired.append(
-                    dict(condition_a=a, condition_b=b, animals=len(changes),
+                    dict(frame=frame, condition_a=a[1], condition_b=b[1], animals=len(changes),
                          mean_change_deg=signed(m) if m is not None else None, r=r,
                          v=float(vt.V), v_u=float(vt.u), v_p=float(vt.pval),
                          hotelling_f=pf, hotelling_p=pp, moore_r_star=pr, moore_p=pm)
@@ -426,14 +453,17 @@ def main():
     animals = []
     sdf = pd.DataFrame(sessions)
     for a, g in sdf.groupby("animal", sort=True):
-        means = g["mean_world_deg"].dropna().to_numpy()
-        n, m, r = circ_desc(means)
-        animals.append(
-            dict(animal=a, sessions=len(g), mean_world_deg=m,
-                 r_between_sessions=r if n >= 2 else None,
-                 rayleigh_p_between_sessions=rayleigh_p(n, r) if n >= 2 else None,
-                 mean_r_world=float(g["r_world"].mean()))
-        )
+        # World: all scored samples of the session; sun: its scored samples in epochs.
+        for frame, mcol, rcol in [("world", "mean_world_deg", "r_world"),
+                                  ("sun", "mean_sun_deg", "r_sun")]:
+            means = g[mcol].dropna().to_numpy()
+            n, m, r = circ_desc(means)
+            animals.append(
+                dict(animal=a, frame=frame, sessions=len(g), mean_world_deg=m,
+                     r_between_sessions=r if n >= 2 else None,
+                     rayleigh_p_between_sessions=rayleigh_p(n, r) if n >= 2 else None,
+                     mean_r_world=float(g[rcol].mean()))
+            )
     pd.DataFrame(animals).to_csv(out / "animals.csv", index=False)
 
     pd.DataFrame(
