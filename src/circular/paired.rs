@@ -57,23 +57,7 @@ fn differences(
 
 /// Hotelling's F of signed vectors s_i (x_i, y_i), or None when they lie on one line.
 fn signed_hotelling_f(x: &[f64], y: &[f64], signs: &[f64]) -> Option<f64> {
-    let nf = x.len() as f64;
-    let mx = x.iter().zip(signs).map(|(a, s)| a * s).sum::<f64>() / nf;
-    let my = y.iter().zip(signs).map(|(a, s)| a * s).sum::<f64>() / nf;
-    let (mut sxx, mut syy, mut sxy) = (0.0, 0.0, 0.0);
-    for ((&a, &b), &sg) in x.iter().zip(y).zip(signs) {
-        let (dx, dy) = (sg * a - mx, sg * b - my);
-        sxx += dx * dx;
-        syy += dy * dy;
-        sxy += dx * dy;
-    }
-    let det = sxx * syy - sxy * sxy;
-    let scale = (sxx + syy).max(f64::MIN_POSITIVE);
-    if det.is_nan() || det <= 1e-12 * scale * scale {
-        return None;
-    }
-    let q = (mx * mx * syy - 2.0 * mx * my * sxy + my * my * sxx) / det;
-    Some(nf * (nf - 2.0) / 2.0 * q)
+    super::second_order::hotelling_f_signed(x, y, |i| signs[i])
 }
 
 /// Hotelling-type paired-sample test for circular data (Zar 2010 §27.13, after Batschelet

@@ -412,12 +412,23 @@ pub struct HotellingResult {
 
 /// Hotelling's F of vectors (x_i, y_i), or None when they lie on one line.
 fn hotelling_f(x: &[f64], y: &[f64]) -> Option<f64> {
+    hotelling_f_signed(x, y, |_| 1.0)
+}
+
+/// Hotelling's F of the vectors sign(i)·(x_i, y_i), or None when they lie on one line: the
+/// one-sample statistic below, and the sign-flip null of the paired test (`paired.rs`).
+pub(super) fn hotelling_f_signed(x: &[f64], y: &[f64], sign: impl Fn(usize) -> f64) -> Option<f64> {
     let nf = x.len() as f64;
-    let mx = x.iter().sum::<f64>() / nf;
-    let my = y.iter().sum::<f64>() / nf;
+    let (mut mx, mut my) = (0.0, 0.0);
+    for (i, (&a, &b)) in x.iter().zip(y).enumerate() {
+        mx += sign(i) * a;
+        my += sign(i) * b;
+    }
+    mx /= nf;
+    my /= nf;
     let (mut sxx, mut syy, mut sxy) = (0.0, 0.0, 0.0);
-    for (&a, &b) in x.iter().zip(y) {
-        let (dx, dy) = (a - mx, b - my);
+    for (i, (&a, &b)) in x.iter().zip(y).enumerate() {
+        let (dx, dy) = (sign(i) * a - mx, sign(i) * b - my);
         sxx += dx * dx;
         syy += dy * dy;
         sxy += dx * dy;
