@@ -7,6 +7,7 @@
 
 pub mod config;
 pub mod decoder;
+pub mod gps;
 pub mod nmea;
 pub mod polarizer;
 pub mod pty;
