@@ -563,6 +563,10 @@ pub struct SiteMeta {
     pub longitude_deg: f64,
     /// Elevation above sea level, metres.
     pub elevation_m: f64,
+    /// Where the coordinates came from: "gps" (a fix at the session start), "rig_file" or
+    /// "built_in" (the demo rig). `None` in sessions written before it was recorded.
+    #[serde(default)]
+    pub source: Option<String>,
 }
 
 /// `session.json`: everything about a session except its samples and events.
@@ -614,6 +618,14 @@ pub struct SessionMeta {
     /// Notes taken during the session.
     #[serde(default)]
     pub notes: u64,
+    /// The laptop clock minus GPS time at the start, seconds (positive: the laptop was
+    /// ahead); `None` when no GPS fix measured it.
+    #[serde(default)]
+    pub clock_offset_s: Option<f64>,
+    /// What the rig's GPS gave at the start ([`crate::rig::gps::GpsStart`]); absent for a rig
+    /// without `[gps]`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gps: Option<serde_json::Value>,
 }
 
 impl SessionMeta {

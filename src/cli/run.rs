@@ -110,6 +110,22 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
     if let Some((_, r)) = &replay {
         rig = r.clone();
     }
+    // A GPS in the rig file is read for at most gps.wait_s; its fix gives the site and the UTC
+    // (a replay keeps the rig file's: the recording was not made now).
+    let gps = match (&rig.gps, &replay) {
+        (Some(cfg), None) => Some(crate::rig::gps::acquire(
+            cfg,
+            &rig.site,
+            &rig.source_name,
+        )),
+        _ => None,
+    };
+    if let Some(g) = &gps {
+        for w in g.warnings() {
+            eprintln!("skybearing: warning: {w}");
+        }
+        rig.site = g.site();
+    }
     // Live: the UTC anchor is read once, at session second 0; after that only the monotonic
     // clock stamps samples, so a wall-clock step cannot bend t_s. Replay at full speed: the
     // anchor is --start and the engine's simulated clock follows the file's time column.
@@ -122,7 +138,8 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
             let c = RealClock::start();
             let shared: Arc<dyn Clock> = Arc::new(c.clone());
             (
-                Utc::now().trunc_subsecs(3),
+                crate::rig::gps::utc_now(gps.as_ref().and_then(|g| g.clock_offset_s()))
+                    .trunc_subsecs(3),
                 EngineClock::Real(Box::new(c)),
                 shared,
             )
@@ -146,6 +163,7 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         speed: args.speed,
         seed: None,
         extra,
+        gps,
     };
     for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
         eprintln!("skybearing: warning: {w}");

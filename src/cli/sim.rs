@@ -54,6 +54,62 @@ pub struct SimArgs {
     /// Stop by itself after this many seconds.
     #[arg(long, value_name = "S")]
     pub duration_s: Option<f64>,
+    /// Also serve a GPS receiver (NMEA 0183 RMC and GGA at 1 Hz) and give the rig file a
+    /// `[gps]` section pointing at it.
+    #[arg(long)]
+    pub gps: bool,
+    #[command(flatten)]
+    pub gps_args: SimGpsArgs,
+}
+
+/// What the simulated GPS reports (with `--gps`).
+#[derive(Debug, Args)]
+pub struct SimGpsArgs {
+    /// Latitude the GPS reports, degrees north (default: the demo site's).
+    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
+    pub gps_lat: Option<f64>,
+    /// Longitude the GPS reports, degrees east (default: the demo site's).
+    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
+    pub gps_lon: Option<f64>,
+    /// Altitude the GPS reports, metres above mean sea level (default: the demo site's).
+    #[arg(long, value_name = "M", allow_hyphen_values = true)]
+    pub gps_elevation_m: Option<f64>,
+    /// How far the laptop's clock is ahead of the GPS's, seconds (negative: behind).
+    #[arg(long, value_name = "S", default_value_t = 0.0, allow_hyphen_values = true)]
+    pub gps_clock_offset_s: f64,
+    /// The GPS never gets a fix (status V, quality 0).
+    #[arg(long)]
+    pub gps_no_fix: bool,
+    /// The GPS sends garbage from this many seconds after the start on.
+    #[arg(long, value_name = "S")]
+    pub gps_garbage_after_s: Option<f64>,
+    /// `gps.wait_s` written into the rig file: the longest wait for a fix at session start.
+    #[arg(long, value_name = "S", default_value_t = crate::rig::gps::DEFAULT_WAIT_S)]
+    pub gps_wait_s: f64,
+}
+
+impl SimGpsArgs {
+    /// Checks the flags into the simulated receiver's settings.
+    fn config(&self) -> anyhow::Result<crate::rig::sim::gps::SimGpsConfig> {
+        let site = crate::sky::demo_site();
+        let cfg = crate::rig::sim::gps::SimGpsConfig {
+            latitude_deg: self.gps_lat.unwrap_or(site.latitude_deg),
+            longitude_deg: self.gps_lon.unwrap_or(site.longitude_deg),
+            altitude_m: self.gps_elevation_m.unwrap_or(site.elevation_m),
+            laptop_ahead_s: self.gps_clock_offset_s,
+            no_fix: self.gps_no_fix,
+            garbage_after_s: self.gps_garbage_after_s,
+        };
+        check_range("gps-lat", cfg.latitude_deg, -90.0, 90.0)?;
+        check_range("gps-lon", cfg.longitude_deg, -180.0, 180.0)?;
+        check_range("gps-elevation-m", cfg.altitude_m, -500.0, 9000.0)?;
+        check_range("gps-clock-offset-s", cfg.laptop_ahead_s, -1e9, 1e9)?;
+        check_range("gps-wait-s", self.gps_wait_s, 0.0, 600.0)?;
+        if let Some(g) = cfg.garbage_after_s {
+            check_range("gps-garbage-after-s", g, 0.0, 86400.0)?;
+        }
+        Ok(cfg)
+    }
 }
 
 static STOP: AtomicBool = AtomicBool::new(false);
@@ -104,10 +160,19 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
     cfg.flight_stops_per_hour = args.stops_per_hour;
     cfg.lost_after_s = args.lost_after_s;
     cfg.turntable_timeout_s = args.turntable_timeout_s;
+    let gps_cfg = match args.gps {
+        true => Some(args.gps_args.config()?),
+        false => None,
+    };
     cfg.sun_azimuth_deg = match args.sun_azimuth_deg {
         Some(az) => Box::new(move |_| az),
         None => {
-            let site = crate::sky::demo_site();
+            // The animal steers by the sun where the simulated GPS says the rig is.
+            let mut site = crate::sky::demo_site();
+            if let Some(g) = &gps_cfg {
+                site.latitude_deg = g.latitude_deg;
+                site.longitude_deg = g.longitude_deg;
+            }
             let track = crate::sky::sun::SunTrack::new(
                 site.latitude_deg,
                 site.longitude_deg,
@@ -122,7 +187,16 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
     let rig_path = absolute(&args.write_rig)?;
     let prefix = rig_path.with_extension("");
     let mut server = PtyServer::new(cfg, &prefix).context("opening pseudo-terminals")?;
-    let text = server.rig_text(args.seed, args.lost_after_s, args.turntable_timeout_s);
+    let mut text = server.rig_text(args.seed, args.lost_after_s, args.turntable_timeout_s);
+    let gps = match gps_cfg {
+        Some(g) => {
+            let gps = crate::rig::sim::gps::SimGps::new(g, &prefix)
+                .context("opening the GPS's pseudo-terminal")?;
+            text.push_str(&gps.rig_section(args.gps_args.gps_wait_s));
+            Some(gps)
+        }
+        None => None,
+    };
     std::fs::write(&rig_path, text)
         .with_context(|| format!("{}: cannot write rig file", rig_path.display()))?;
 
@@ -133,6 +207,16 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
     }
 
     println!("{}", rig_path.display());
+    // The GPS sends on its own thread: its once-a-second sentences need no rig state.
+    let gps_thread = gps.map(|mut gps| {
+        eprintln!("sim: GPS {} at 1 Hz", gps.link.display());
+        let for_s = args.duration_s;
+        std::thread::spawn(move || {
+            let r = gps.serve(&STOP, for_s);
+            gps.remove_link();
+            r
+        })
+    });
     eprintln!(
         "sim: serving rig {} | sensor {} -> {} at {} Hz | turntable {} -> {} | polarizer {} | seed {} | animal {:?} | Ctrl-C to stop",
         rig_path.display(),
@@ -178,6 +262,13 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
         let _ = writeln!(std::io::stderr(), "sim: {t:8.1} s  {what}");
     });
     server.remove_links();
+    if let Some(t) = gps_thread {
+        STOP.store(true, Ordering::Relaxed);
+        match t.join() {
+            Ok(r) => r.context("serving the simulated GPS")?,
+            Err(_) => bail!("the simulated GPS thread panicked"),
+        }
+    }
     let w = server.world();
     let _ = writeln!(
         std::io::stderr(),

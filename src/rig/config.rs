@@ -46,6 +46,8 @@ pub struct Rig {
     pub turntable: TurntableConfig,
     /// The motorized polarizer that sets a filter's axis between epochs, if the rig has one.
     pub polarizer: Option<PolarizerConfig>,
+    /// A GPS receiver read at session start for the site and the UTC (`[gps]`, optional).
+    pub gps: Option<super::gps::GpsConfig>,
     /// The file the rig was read from (for error messages), "built-in demo rig" otherwise.
     #[serde(skip)]
     pub source_name: String,
@@ -237,6 +239,7 @@ struct RawRig {
     sensor: Option<S<RawSensor>>,
     turntable: Option<S<RawTurntable>>,
     polarizer: Option<S<RawTurntable>>,
+    gps: Option<S<RawGps>>,
     settle_s: Option<S<toml::Value>>,
     sessions_dir: Option<S<String>>,
 }
@@ -285,6 +288,14 @@ struct RawTurntable {
     path: Option<S<String>>,
     baud: Option<S<i64>>,
     timeout_s: Option<S<f64>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawGps {
+    path: Option<S<String>>,
+    baud: Option<S<i64>>,
+    wait_s: Option<S<f64>>,
 }
 
 mod checker;
@@ -668,6 +679,25 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         }
     };
 
+    // [gps] (optional): a serial NMEA 0183 receiver.
+    let gps = match raw.gps.as_ref() {
+        None => None,
+        Some(g_s) => {
+            let at = g_s.span().start;
+            let g = g_s.get_ref();
+            let p = c.req(&g.path, at, "gps.path")?;
+            Some(super::gps::GpsConfig {
+                path: c.path(p, "gps.path")?,
+                baud: c.baud(c.req(&g.baud, at, "gps.baud")?, "gps.baud")?,
+                wait_s: match &g.wait_s {
+                    None => super::gps::DEFAULT_WAIT_S,
+                    Some(v) => c.range(v, "gps.wait_s", 0.0, 600.0)?,
+                },
+                path_line: Some(line_of(text, p.span().start)),
+            })
+        }
+    };
+
     if let Some(v) = &raw.settle_s {
         return Err(c.err(
             v.span().start,
@@ -705,6 +735,7 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         },
         turntable,
         polarizer,
+        gps,
         source_name: file.to_string(),
     })
 }
@@ -731,6 +762,7 @@ pub fn demo_rig() -> Rig {
         },
         turntable: TurntableConfig::Sim,
         polarizer: None,
+        gps: None,
         source_name: "built-in demo rig".to_string(),
     }
 }

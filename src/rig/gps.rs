@@ -240,6 +240,15 @@ pub fn clock_warning(offset_s: f64) -> String {
     )
 }
 
+/// The UTC now: the laptop's clock less its measured offset from GPS time, if any.
+pub fn utc_now(clock_offset_s: Option<f64>) -> DateTime<Utc> {
+    let now = Utc::now();
+    match clock_offset_s {
+        Some(o) if o.is_finite() => now - chrono::Duration::microseconds((o * 1e6).round() as i64),
+        _ => now,
+    }
+}
+
 /// Reads `reader` until a fix is whole (valid RMC and GGA) or `wait` has passed; each line is
 /// stamped with `now()` (the laptop's clock) when it is complete. Read errors other than a
 /// timeout end the reading early. Lines longer than [`MAX_LINE_BYTES`] are counted as bad.

@@ -82,6 +82,16 @@ kind = "manual"                      # REQUIRED
 # path = "/dev/ttyACM1"
 # baud = 115200
 # timeout_s = 30                     # wait for a reply, retry once, then fault
+
+# Optional: a GPS receiver sending NMEA 0183 (RMC and GGA sentences) on a serial port. At
+# each session start `run` reads it for at most wait_s seconds: a fix gives the session's
+# latitude, longitude, elevation and UTC (the site above keeps its name and is used when no
+# fix comes in time), and the laptop clock's offset from GPS time is recorded and warned
+# about beyond 1 s. The port is closed before the session's first sample.
+# [gps]
+# path = "/dev/ttyACM2"
+# baud = 9600                        # NMEA 0183 receivers: 4800 or 9600 usually
+# wait_s = 10.0                      # longest wait for a fix at session start, [0, 600]
 "#;
 
 /// The template with every placeholder filled in with the demo site's values (Larkfield

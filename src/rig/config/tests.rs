@@ -168,3 +168,50 @@ fn sky_view_limit_is_read_and_checked() {
         0.0
     );
 }
+
+#[test]
+fn gps_section_is_optional_read_and_checked_naming_file_line_field() {
+    assert_eq!(parse_rig(&good(), "rig.toml").unwrap().gps, None);
+    // The template's commented [gps] section, uncommented.
+    let with = good()
+        .replace("# [gps]", "[gps]")
+        .replace("# path = \"/dev/ttyACM2\"", "path = \"/dev/ttyACM2\"")
+        .replace("# baud = 9600 ", "baud = 9600 ")
+        .replace("# wait_s = 10.0 ", "wait_s = 10.0 ");
+    let line = with
+        .lines()
+        .position(|l| l.starts_with("path = \"/dev/ttyACM2\""))
+        .unwrap()
+        + 1;
+    let rig = parse_rig(&with, "rig.toml").unwrap();
+    assert_eq!(
+        rig.gps,
+        Some(crate::rig::gps::GpsConfig {
+            path: "/dev/ttyACM2".into(),
+            baud: 9600,
+            wait_s: 10.0,
+            path_line: Some(line),
+        })
+    );
+    let e = err(&with.replace("wait_s = 10.0 ", "wait_s = 900.0 "));
+    assert_eq!(
+        e,
+        format!("rig.toml:{}: gps.wait_s: 900 is outside [0, 600]", line + 2)
+    );
+    let e = err(&with.replace("baud = 9600 ", "# baud"));
+    assert_eq!(
+        e,
+        format!("rig.toml:{}: gps.baud: missing (required)", line - 1)
+    );
+    let e = err(&with.replace("wait_s = 10.0 ", "timeout = 1 "));
+    assert!(
+        e.starts_with(&format!("rig.toml:{}: gps.timeout: unknown key", line + 2)),
+        "{e}"
+    );
+    // Without wait_s: the default.
+    let rig = parse_rig(&with.replace("wait_s = 10.0 ", "# "), "rig.toml").unwrap();
+    assert_eq!(
+        rig.gps.unwrap().wait_s,
+        crate::rig::gps::DEFAULT_WAIT_S
+    );
+}
