@@ -143,6 +143,16 @@ impl FixCollector {
     }
 }
 
+/// A few words beside the site name on the live screen: where the site and the UTC came
+/// from, and whether that needs the operator's eye.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SiteNote {
+    /// "GPS", "GPS, clock +3.5 s" or "no GPS fix".
+    pub text: String,
+    /// No fix, or the laptop clock more than [`CLOCK_WARN_S`] off GPS time.
+    pub warning: bool,
+}
+
 /// What the session start got from the GPS.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct GpsStart {
@@ -191,10 +201,14 @@ impl GpsStart {
                         self.rig_file_site.elevation_m
                     ),
                 };
+                let away_km = distance_km(
+                    (f.latitude_deg, f.longitude_deg),
+                    (self.rig_file_site.latitude_deg, self.rig_file_site.longitude_deg),
+                );
                 out.push((
                     "gps_fix",
                     format!(
-                        "site from GPS ({} {}): {:.6} N, {:.6} E, {elevation}; {} satellites; GPS time {}; laptop clock {:+.3} s from GPS time; session UTC from GPS time",
+                        "site from GPS ({} {}): latitude {:.6}, longitude {:.6} ({away_km:.1} km from the rig file's), {elevation}; {} satellites; GPS time {}; laptop clock {:+.3} s from GPS time; session UTC from GPS time",
                         f.talker,
                         self.port,
                         f.latitude_deg,
@@ -221,6 +235,24 @@ impl GpsStart {
         out
     }
 
+    /// The live screen's note beside the site name.
+    pub fn note(&self) -> SiteNote {
+        match &self.fix {
+            Some(f) if f.clock_offset_s.abs() > CLOCK_WARN_S => SiteNote {
+                text: format!("GPS; laptop clock {:+.1} s off", f.clock_offset_s),
+                warning: true,
+            },
+            Some(_) => SiteNote {
+                text: "GPS".into(),
+                warning: false,
+            },
+            None => SiteNote {
+                text: "no GPS fix: rig file site".into(),
+                warning: true,
+            },
+        }
+    }
+
     /// The lines a session start prints as warnings (headless and before the screen opens).
     pub fn warnings(&self) -> Vec<String> {
         self.events()
@@ -229,6 +261,17 @@ impl GpsStart {
             .map(|(_, d)| d)
             .collect()
     }
+}
+
+/// Great-circle distance between two (latitude, longitude) points in degrees, km: the
+/// haversine formula on a sphere of the mean Earth radius 6371.0088 km (IUGG; a sphere errs by
+/// up to about 0.5 % against the ellipsoid, enough to tell a wrong rig file from a right one).
+pub fn distance_km(a: (f64, f64), b: (f64, f64)) -> f64 {
+    let (la1, lo1) = (a.0.to_radians(), a.1.to_radians());
+    let (la2, lo2) = (b.0.to_radians(), b.1.to_radians());
+    let h = ((la2 - la1) / 2.0).sin().powi(2)
+        + la1.cos() * la2.cos() * ((lo2 - lo1) / 2.0).sin().powi(2);
+    2.0 * 6371.0088 * h.sqrt().min(1.0).asin()
 }
 
 /// The warning about a laptop clock `offset_s` off GPS time.

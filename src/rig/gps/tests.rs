@@ -150,3 +150,32 @@ fn a_port_that_cannot_be_opened_is_a_start_without_a_fix() {
     assert!(s.port.contains("rig.toml:40: gps.path"), "{}", s.port);
     assert!(s.no_fix_reason.unwrap().contains("cannot open the port"));
 }
+
+#[test]
+fn distances_on_the_sphere() {
+    // One degree of a great circle on the mean-radius sphere: 6371.0088 km × π/180.
+    let one = 6371.0088 * std::f64::consts::PI / 180.0;
+    assert!((distance_km((0.0, 0.0), (0.0, 1.0)) - one).abs() < 1e-9);
+    assert!((distance_km((10.0, 20.0), (11.0, 20.0)) - one).abs() < 1e-9);
+    assert!((distance_km((0.0, 0.0), (0.0, 180.0)) - 180.0 * one).abs() < 1e-6);
+    assert_eq!(distance_km((43.2, 5.4), (43.2, 5.4)), 0.0);
+}
+
+#[test]
+fn the_live_screen_note_warns_without_a_fix_or_with_a_clock_off() {
+    let mut c = FixCollector::default();
+    c.feed(RMC, at("1994-03-23T12:35:19.2Z"));
+    let mut s = GpsStart {
+        port: "p".into(),
+        waited_s: 1.0,
+        fix: c.fix(),
+        no_fix_reason: None,
+        rig_file_site: rig_site(),
+    };
+    assert_eq!(s.note(), SiteNote { text: "GPS".into(), warning: false });
+    s.fix.as_mut().unwrap().clock_offset_s = -4.0;
+    assert_eq!(s.note().text, "GPS; laptop clock -4.0 s off");
+    assert!(s.note().warning);
+    s.fix = None;
+    assert!(s.note().warning);
+}
