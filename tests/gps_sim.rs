@@ -44,7 +44,14 @@ fn a_gps_fix_sets_the_site_the_sun_and_the_clock_offset() {
     assert!((site["longitude_deg"].as_f64().unwrap() - 18.4170).abs() < 1e-6);
     assert!((site["elevation_m"].as_f64().unwrap() - 12.5).abs() < 1e-3);
     // The rig file's site is kept for the record.
-    assert!((meta["gps"]["rig_file_site"]["latitude_deg"].as_f64().unwrap() - 43.217).abs() < 1e-9);
+    assert!(
+        (meta["gps"]["rig_file_site"]["latitude_deg"]
+            .as_f64()
+            .unwrap()
+            - 43.217)
+            .abs()
+            < 1e-9
+    );
     // The laptop is 3.5 s ahead of the simulated receiver; the sentences leave the simulator
     // within ~10 ms of each GPS second and are read at once, so the offset is 3.5 plus at most
     // the scheduling delays of two processes on a busy machine.
@@ -54,8 +61,11 @@ fn a_gps_fix_sets_the_site_the_sun_and_the_clock_offset() {
     // fix's own GPS second, not 3.5 s later where the laptop's clock was.
     let started: chrono::DateTime<chrono::Utc> =
         meta["started_utc"].as_str().unwrap().parse().unwrap();
-    let fix_utc: chrono::DateTime<chrono::Utc> =
-        meta["gps"]["fix"]["gps_utc"].as_str().unwrap().parse().unwrap();
+    let fix_utc: chrono::DateTime<chrono::Utc> = meta["gps"]["fix"]["gps_utc"]
+        .as_str()
+        .unwrap()
+        .parse()
+        .unwrap();
     let after_fix_s = (started - fix_utc).num_milliseconds() as f64 / 1000.0;
     assert!(
         (0.0..2.0).contains(&after_fix_s),
@@ -70,7 +80,10 @@ fn a_gps_fix_sets_the_site_the_sun_and_the_clock_offset() {
         "{stderr}"
     );
     let stdout = String::from_utf8_lossy(&out.stdout);
-    assert!(stdout.contains("clock_offset: the laptop clock"), "{stdout}");
+    assert!(
+        stdout.contains("clock_offset: the laptop clock"),
+        "{stdout}"
+    );
 
     // The sun of every sample is the sun at the GPS site: compare the first sample with
     // `skybearing sun` there (SPA through the same code; the site is what is checked).
@@ -98,7 +111,11 @@ fn a_gps_fix_sets_the_site_the_sun_and_the_clock_offset() {
     let sun: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     let az: f64 = col("sun_azimuth_deg").parse().unwrap();
     let diff = (az - sun["azimuth_deg"].as_f64().unwrap()).abs();
-    assert!(diff < 0.01, "sample sun {az} vs sun at the GPS site {}", sun["azimuth_deg"]);
+    assert!(
+        diff < 0.01,
+        "sample sun {az} vs sun at the GPS site {}",
+        sun["azimuth_deg"]
+    );
 }
 
 #[test]
@@ -106,7 +123,14 @@ fn no_fix_in_time_keeps_the_rig_file_site_and_says_so() {
     let tmp = tempfile::tempdir().expect("tmp");
     let (_sim, rig) = start_sim(
         tmp.path(),
-        &["--gps", "--gps-no-fix", "--gps-wait-s", "1.5", "--sun-azimuth-deg", "90"],
+        &[
+            "--gps",
+            "--gps-no-fix",
+            "--gps-wait-s",
+            "1.5",
+            "--sun-azimuth-deg",
+            "90",
+        ],
     );
     let sessions = tmp.path().join("sessions");
     let t = std::time::Instant::now();
@@ -119,10 +143,12 @@ fn no_fix_in_time_keeps_the_rig_file_site_and_says_so() {
     assert_eq!(meta["site"]["source"], "rig_file");
     assert!((meta["site"]["latitude_deg"].as_f64().unwrap() - 43.217).abs() < 1e-9);
     assert!(meta["clock_offset_s"].is_null());
-    assert!(meta["gps"]["no_fix_reason"]
-        .as_str()
-        .unwrap()
-        .contains("no fix yet"));
+    assert!(
+        meta["gps"]["no_fix_reason"]
+            .as_str()
+            .unwrap()
+            .contains("no fix yet")
+    );
     // The wait is bounded: 1.5 s, then the 15 s smoke protocol with its turns.
     let waited = meta["gps"]["waited_s"].as_f64().unwrap();
     assert!((1.5..3.0).contains(&waited), "waited {waited} s");
@@ -137,7 +163,13 @@ fn a_receiver_sending_garbage_after_the_start_never_disturbs_the_session() {
     let tmp = tempfile::tempdir().expect("tmp");
     let (_sim, rig) = start_sim(
         tmp.path(),
-        &["--gps", "--gps-garbage-after-s", "3", "--sun-azimuth-deg", "90"],
+        &[
+            "--gps",
+            "--gps-garbage-after-s",
+            "3",
+            "--sun-azimuth-deg",
+            "90",
+        ],
     );
     let sessions = tmp.path().join("sessions");
     let out = headless_smoke_run("gps-03", &rig, &sessions)
@@ -148,7 +180,10 @@ fn a_receiver_sending_garbage_after_the_start_never_disturbs_the_session() {
     assert_eq!(meta["status"], "complete");
     assert_eq!(meta["site"]["source"], "gps");
     let ev = events(&dir);
-    assert!(!ev.contains("gps_no_fix") && !ev.contains("malformed"), "{ev}");
+    assert!(
+        !ev.contains("gps_no_fix") && !ev.contains("malformed"),
+        "{ev}"
+    );
 }
 
 #[test]
@@ -160,7 +195,14 @@ fn a_bad_gps_section_is_one_line_naming_file_line_field() {
     std::fs::write(&rig, &text).unwrap();
     let line = text.lines().count();
     let o = bin()
-        .args(["run", "--headless", "--animal", "a", "--protocol", "protocols/smoke.toml"])
+        .args([
+            "run",
+            "--headless",
+            "--animal",
+            "a",
+            "--protocol",
+            "protocols/smoke.toml",
+        ])
         .arg("--rig")
         .arg(&rig)
         .output()
@@ -168,7 +210,9 @@ fn a_bad_gps_section_is_one_line_naming_file_line_field() {
     assert!(!o.status.success());
     let stderr = String::from_utf8_lossy(&o.stderr);
     assert!(
-        stderr.contains(&format!("rig.toml:{line}: gps.wait_s: -1 is outside [0, 600]")),
+        stderr.contains(&format!(
+            "rig.toml:{line}: gps.wait_s: -1 is outside [0, 600]"
+        )),
         "{stderr}"
     );
     assert_eq!(stderr.trim().lines().count(), 1, "{stderr}");

@@ -113,11 +113,7 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
     // A GPS in the rig file is read for at most gps.wait_s; its fix gives the site and the UTC
     // (a replay keeps the rig file's: the recording was not made now).
     let gps = match (&rig.gps, &replay) {
-        (Some(cfg), None) => Some(crate::rig::gps::acquire(
-            cfg,
-            &rig.site,
-            &rig.source_name,
-        )),
+        (Some(cfg), None) => Some(crate::rig::gps::acquire(cfg, &rig.site, &rig.source_name)),
         _ => None,
     };
     if let Some(g) = &gps {

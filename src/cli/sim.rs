@@ -75,7 +75,12 @@ pub struct SimGpsArgs {
     #[arg(long, value_name = "M", allow_hyphen_values = true)]
     pub gps_elevation_m: Option<f64>,
     /// How far the laptop's clock is ahead of the GPS's, seconds (negative: behind).
-    #[arg(long, value_name = "S", default_value_t = 0.0, allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "S",
+        default_value_t = 0.0,
+        allow_hyphen_values = true
+    )]
     pub gps_clock_offset_s: f64,
     /// The GPS never gets a fix (status V, quality 0).
     #[arg(long)]

@@ -466,7 +466,12 @@ impl Engine {
                 self.turntable_desc
             ),
         )?;
-        let gps_events = self.setup.gps.as_ref().map(|g| g.events()).unwrap_or_default();
+        let gps_events = self
+            .setup
+            .gps
+            .as_ref()
+            .map(|g| g.events())
+            .unwrap_or_default();
         for (kind, detail) in gps_events {
             self.event(0.0, kind, detail)?;
         }

@@ -161,10 +161,7 @@ impl SessionSetup {
             end_reason: None,
             notes: 0,
             clock_offset_s: self.gps.as_ref().and_then(|g| g.clock_offset_s()),
-            gps: self
-                .gps
-                .as_ref()
-                .and_then(|g| serde_json::to_value(g).ok()),
+            gps: self.gps.as_ref().and_then(|g| serde_json::to_value(g).ok()),
         }
     }
 

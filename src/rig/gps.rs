@@ -88,10 +88,11 @@ impl FixCollector {
         match parse_sentence(line) {
             Ok(Sentence::Rmc(r)) if r.valid => {
                 let Some(utc) = r.utc else { return };
-                let offset_s = (laptop_utc - utc).num_microseconds().map_or(
-                    (laptop_utc - utc).num_seconds() as f64,
-                    |us| us as f64 * 1e-6,
-                );
+                let offset_s = (laptop_utc - utc)
+                    .num_microseconds()
+                    .map_or((laptop_utc - utc).num_seconds() as f64, |us| {
+                        us as f64 * 1e-6
+                    });
                 let keep = self.rmc.as_ref().is_none_or(|(_, o)| offset_s < *o);
                 if keep {
                     self.rmc = Some((r, offset_s));

@@ -210,8 +210,5 @@ fn gps_section_is_optional_read_and_checked_naming_file_line_field() {
     );
     // Without wait_s: the default.
     let rig = parse_rig(&with.replace("wait_s = 10.0 ", "# "), "rig.toml").unwrap();
-    assert_eq!(
-        rig.gps.unwrap().wait_s,
-        crate::rig::gps::DEFAULT_WAIT_S
-    );
+    assert_eq!(rig.gps.unwrap().wait_s, crate::rig::gps::DEFAULT_WAIT_S);
 }

@@ -61,7 +61,11 @@ fn the_smallest_offset_is_kept_and_a_small_one_is_not_warned() {
     };
     assert_eq!(start.site().elevation_m, rig_site().elevation_m);
     assert!(start.warnings().is_empty());
-    assert!(start.events()[0].1.contains("elevation 210.0 m from the rig file"));
+    assert!(
+        start.events()[0]
+            .1
+            .contains("elevation 210.0 m from the rig file")
+    );
     // A laptop behind GPS time.
     assert!(clock_warning(-3.0).contains("3.0 s behind GPS time"));
 }
@@ -172,7 +176,13 @@ fn the_live_screen_note_warns_without_a_fix_or_with_a_clock_off() {
         no_fix_reason: None,
         rig_file_site: rig_site(),
     };
-    assert_eq!(s.note(), SiteNote { text: "GPS".into(), warning: false });
+    assert_eq!(
+        s.note(),
+        SiteNote {
+            text: "GPS".into(),
+            warning: false
+        }
+    );
     s.fix.as_mut().unwrap().clock_offset_s = -4.0;
     assert_eq!(s.note().text, "GPS; laptop clock -4.0 s off");
     assert!(s.note().warning);

@@ -174,7 +174,9 @@ fn bad_checksums_truncations_and_impossible_fields_are_refused() {
     assert_eq!(parse_sentence(&"$".repeat(200)), Err(NmeaError::TooLong));
     // Other sentences with good checksums are passed over, not errors.
     assert_eq!(
-        parse_sentence(&with_checksum("GPGSA,A,3,04,05,,09,12,,,24,,,,,2.5,1.3,2.1")),
+        parse_sentence(&with_checksum(
+            "GPGSA,A,3,04,05,,09,12,,,24,,,,,2.5,1.3,2.1"
+        )),
         Ok(Sentence::Other)
     );
 }
@@ -184,7 +186,10 @@ fn checksum_is_the_xor_between_dollar_and_star() {
     // NMEA 0183: the checksum is the 8-bit XOR of the characters between "$" and "*".
     assert_eq!(checksum(b""), 0);
     assert_eq!(checksum(b"AB"), 0x41 ^ 0x42);
-    assert!(with_checksum("GPRMC,123519,A,4807.038,N,01131.000,E,022.4,084.4,230394,003.1,W").ends_with("*6A"));
+    assert!(
+        with_checksum("GPRMC,123519,A,4807.038,N,01131.000,E,022.4,084.4,230394,003.1,W")
+            .ends_with("*6A")
+    );
 }
 
 proptest! {
@@ -200,15 +205,13 @@ proptest! {
         fields in proptest::collection::vec("[0-9A-Z.,+-]{0,12}", 0..14),
     ) {
         let body = format!("{kind},{}", fields.join(","));
-        if let Ok(Sentence::Rmc(r)) = parse_sentence(&with_checksum(&body)) {
-            if let Some((lat, lon)) = r.position_deg {
-                prop_assert!(lat.abs() <= 90.0 && lon.abs() <= 180.0);
-            }
-        }
-        if let Ok(Sentence::Gga(g)) = parse_sentence(&with_checksum(&body)) {
-            if let Some((lat, lon)) = g.position_deg {
-                prop_assert!(lat.abs() <= 90.0 && lon.abs() <= 180.0);
-            }
+        let position = match parse_sentence(&with_checksum(&body)) {
+            Ok(Sentence::Rmc(r)) => r.position_deg,
+            Ok(Sentence::Gga(g)) => g.position_deg,
+            _ => None,
+        };
+        if let Some((lat, lon)) = position {
+            prop_assert!(lat.abs() <= 90.0 && lon.abs() <= 180.0);
         }
     }
 
