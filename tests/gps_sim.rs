@@ -217,3 +217,25 @@ fn a_bad_gps_section_is_one_line_naming_file_line_field() {
     );
     assert_eq!(stderr.trim().lines().count(), 1, "{stderr}");
 }
+
+#[test]
+fn rig_check_open_reads_the_gps_as_a_session_start_would() {
+    let tmp = tempfile::tempdir().expect("tmp");
+    let (_sim, rig) = start_sim(
+        tmp.path(),
+        &["--gps", "--gps-lat", "51.5", "--gps-lon", "-0.1"],
+    );
+    let o = bin()
+        .args(["rig", "check", "--open"])
+        .arg(&rig)
+        .output()
+        .expect("rig check");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let out = String::from_utf8_lossy(&o.stdout);
+    assert!(out.contains("  gps        serial port "), "{out}");
+    assert!(
+        out.contains("gps_fix: site from GPS")
+            && out.contains("latitude 51.500000, longitude -0.100000"),
+        "{out}"
+    );
+}
