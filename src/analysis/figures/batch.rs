@@ -299,7 +299,7 @@ struct AcrossTurns<'a> {
 }
 
 /// Height of the turn chart across animals, millimetres (one column wide).
-const TURNS_CHART_MM: f64 = 85.0;
+pub const TURNS_CHART_MM: f64 = 85.0;
 
 fn turns_entries(styles: &AnimalStyles) -> Vec<Entry> {
     let mut e = vec![

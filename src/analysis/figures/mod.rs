@@ -65,8 +65,9 @@ fn encode_png(path: &Path, rgb: &[u8], (w, h): (u32, u32)) -> Result<(), String>
     writer.finish().map_err(style::err)
 }
 
-/// Draws `fig` into `dir/<stem>_<1col|2col>.svg` and `.png`; returns the two files.
-pub fn write_figure<F: Figure>(
+/// Draws `fig` into `dir/<stem>_<1col|2col>.svg` and `.png` (the two at once, on rayon's
+/// pool); returns the two files.
+pub fn write_figure<F: Figure + Sync>(
     dir: &Path,
     stem: &str,
     size: FigureSize,
@@ -76,11 +77,17 @@ pub fn write_figure<F: Figure>(
     let name = format!("{stem}_{}", size.suffix());
     let svg_path = dir.join(format!("{name}.svg"));
     let png_path = dir.join(format!("{name}.png"));
+    let (svg, png) = rayon::join(
+        || write_svg(&svg_path, size, fig),
+        || write_png(&png_path, size, fig),
+    );
+    svg?;
+    png?;
+    Ok(vec![svg_path, png_path])
+}
+
+fn write_svg<F: Figure>(path: &Path, size: FigureSize, fig: &F) -> Result<(), AnalysisError> {
     let px = size.px();
-    let draw_err = |path: &PathBuf| {
-        let path = path.clone();
-        move |msg: String| AnalysisError::Draw { path, msg }
-    };
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, px).into_drawing_area();
@@ -88,10 +95,20 @@ pub fn write_figure<F: Figure>(
             .map_err(style::err)
             .and_then(|_| fig.draw(&root))
             .and_then(|_| root.present().map_err(style::err))
-            .map_err(draw_err(&svg_path))?;
+            .map_err(|msg| AnalysisError::Draw {
+                path: path.to_path_buf(),
+                msg,
+            })?;
     }
-    std::fs::write(&svg_path, svg_in_mm(&svg, px, size))
-        .map_err(|e| AnalysisError::io(&svg_path, e))?;
+    std::fs::write(path, svg_in_mm(&svg, px, size)).map_err(|e| AnalysisError::io(path, e))
+}
+
+fn write_png<F: Figure>(path: &Path, size: FigureSize, fig: &F) -> Result<(), AnalysisError> {
+    let px = size.px();
+    let draw_err = |msg: String| AnalysisError::Draw {
+        path: path.to_path_buf(),
+        msg,
+    };
     let mut rgb = vec![255u8; px.0 as usize * px.1 as usize * 3];
     {
         let root = BitMapBackend::with_buffer(&mut rgb, px).into_drawing_area();
@@ -99,10 +116,9 @@ pub fn write_figure<F: Figure>(
             .map_err(style::err)
             .and_then(|_| fig.draw(&root))
             .and_then(|_| root.present().map_err(style::err))
-            .map_err(draw_err(&png_path))?;
+            .map_err(draw_err)?;
     }
-    encode_png(&png_path, &rgb, px).map_err(draw_err(&png_path))?;
-    Ok(vec![svg_path, png_path])
+    encode_png(path, &rgb, px).map_err(draw_err)
 }
 
 #[cfg(test)]

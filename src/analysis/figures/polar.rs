@@ -187,10 +187,13 @@ pub fn draw_arrow<DB: DrawingBackend>(
         colour.stroke_width(width),
     ))
     .map_err(err)?;
-    // Head: a triangle 5 widths long, pointing along the arrow.
+    // Head: a triangle 5 widths long (at most half the arrow), pointing along the arrow.
     let a = deg.to_radians();
     let (ux, uy) = (a.sin(), -a.cos());
-    let head = width as f64 * 5.0;
+    let head = (width as f64 * 5.0).min(frac * d.radius * 0.5);
+    if head < 2.0 {
+        return Ok(());
+    }
     let (tx, ty) = (tip.0 as f64, tip.1 as f64);
     let (bx, by) = (tx - ux * head, ty - uy * head);
     let (px, py) = (-uy * head * 0.45, ux * head * 0.45);

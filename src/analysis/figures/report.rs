@@ -298,7 +298,7 @@ fn y_ticks<DB: DrawingBackend>(
 
 /// A round tick step (1, 2 or 5 × 10^k) at or above `raw`.
 pub fn nice_step(raw: f64) -> f64 {
-    if !(raw > 0.0) {
+    if raw.is_nan() || raw <= 0.0 {
         return 1.0;
     }
     let k = 10f64.powf(raw.log10().floor());

@@ -201,7 +201,7 @@ const SHAPES: [Shape; 6] = [
 pub fn series_style(i: usize) -> (RGBColor, Shape) {
     (
         OKABE_ITO[SERIES_ORDER[i % 8]],
-        SHAPES[(i + i / 8) % SHAPES.len()],
+        SHAPES[(i % 8 + 5 * (i / 8)) % SHAPES.len()],
     )
 }
 
@@ -279,4 +279,49 @@ pub type DrawResult = Result<(), String>;
 /// Any displayable error as the text of a [`DrawResult`].
 pub fn err<E: std::fmt::Display>(e: E) -> String {
     e.to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_palette_is_okabe_and_itos_eight_colours() {
+        // Okabe & Ito (2008), Color Universal Design; the same hex values as R's
+        // grDevices::palette.colors(palette = "Okabe-Ito").
+        let published = [
+            "#000000", "#E69F00", "#56B4E9", "#009E73", "#F0E442", "#0072B2", "#D55E00", "#CC79A7",
+        ];
+        for (c, hex) in OKABE_ITO.iter().zip(published) {
+            assert_eq!(format!("#{:02X}{:02X}{:02X}", c.0, c.1, c.2), hex);
+        }
+        assert_eq!(OKABE_ITO_NAMES[5], "blue");
+        assert_eq!(BLUE, OKABE_ITO[5]);
+        assert_eq!(VERMILLION, OKABE_ITO[6]);
+    }
+
+    #[test]
+    fn series_differ_in_colour_or_shape_for_48_animals() {
+        let styles: Vec<(RGBColor, Shape)> = (0..48).map(series_style).collect();
+        for i in 0..48 {
+            for j in i + 1..48 {
+                assert_ne!(styles[i], styles[j], "series {i} and {j}");
+            }
+        }
+        // Neighbours differ in both colour and shape.
+        for i in 0..47 {
+            assert_ne!(styles[i].0, styles[i + 1].0);
+            assert_ne!(styles[i].1, styles[i + 1].1);
+        }
+    }
+
+    #[test]
+    fn sizes_at_300_dpi() {
+        // 85 mm / 25.4 mm per inch × 300 = 1003.9 px; 180 mm → 2126.0 px; 7 pt = 29.17 px.
+        assert_eq!(mm_to_px(ONE_COLUMN_MM), 1004);
+        assert_eq!(mm_to_px(TWO_COLUMN_MM), 2126);
+        assert!((pt_to_px(7.0) - 29.1667).abs() < 1e-3);
+        assert_eq!(FigureSize::one_column(50.0).suffix(), "1col");
+        assert_eq!(FigureSize::two_columns(50.0).suffix(), "2col");
+    }
 }
