@@ -189,10 +189,10 @@ fn compute(angles_deg: &[f64], axial: bool, expect_deg: Option<f64>) -> Report {
     };
     // With 2 to 12 angles the Rayleigh p comes from the exact null (Zar's approximation cannot
     // reject with 2 and is conservative with 3; `circular::calibration`).
-    if summary.n <= crate::circular::RAYLEIGH_EXACT_MAX_N {
-        if let Some(p) = crate::circular::rayleigh_p_few(summary.n, summary.r) {
-            summary.rayleigh_p = p;
-        }
+    if summary.n <= crate::circular::RAYLEIGH_EXACT_MAX_N
+        && let Some(p) = crate::circular::rayleigh_p_few(summary.n, summary.r)
+    {
+        summary.rayleigh_p = p;
     }
     let n = summary.n as f64;
     // The CI is computed on the (doubled, for axes) angles and halved back for axes.
