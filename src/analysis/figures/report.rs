@@ -237,8 +237,21 @@ fn draw_trace_panel<DB: DrawingBackend>(
     if world {
         // Epoch labels on the upper line and turn labels on the lower line of the band above
         // the data, so neither covers a sample.
+        // A label that would run into the one before it is left out (many short epochs).
+        let width = |t: &str| {
+            style::font(pt::SMALL)
+                .font
+                .box_size(t)
+                .map_or(t.len() as i32 * 18, |(w, _)| w as i32)
+        };
+        let mut right = i32::MIN;
         for (m, label) in &trace.epochs {
             let (x, top) = chart.backend_coord(&(*m, 360.0));
+            let w = width(label);
+            if x - w / 2 < right + 16 {
+                continue;
+            }
+            right = x + w / 2;
             root.draw(&Text::new(
                 label.clone(),
                 (x, top - small - 8),
@@ -246,10 +259,16 @@ fn draw_trace_panel<DB: DrawingBackend>(
             ))
             .map_err(err)?;
         }
+        let mut right = i32::MIN;
         for (m, label) in &trace.turns {
             let (x, top) = chart.backend_coord(&(*m, 360.0));
+            let label = label.trim();
+            if x + 6 < right + 16 {
+                continue;
+            }
+            right = x + 6 + width(label);
             root.draw(&Text::new(
-                label.trim().to_string(),
+                label.to_string(),
                 (x + 6, top - 6),
                 style::anchored(pt::SMALL, HPos::Left, VPos::Bottom),
             ))
