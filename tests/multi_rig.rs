@@ -76,10 +76,7 @@ fn rigs_run_together(n: usize) {
         assert_eq!(meta["rig"]["name"], name.as_str());
         let id = meta["id"].as_str().expect("id").to_string();
         // <date>_<site>_<rig>_<animal>_<NNN>
-        assert!(
-            id.ends_with(&format!("_{name}_{}_001", animals[k])),
-            "{id}"
-        );
+        assert!(id.ends_with(&format!("_{name}_{}_001", animals[k])), "{id}");
         assert_eq!(dir.file_name().and_then(|f| f.to_str()), Some(id.as_str()));
         ids.insert(id);
         check_ok(dir);

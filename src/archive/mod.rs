@@ -766,8 +766,8 @@ mod tests {
         assert_eq!(id2, "2026-06-14_larkfield-meadow_lm-07_006");
         assert!(new_session_id(&sessions, date, "x", "../x").is_err());
         // A named rig puts its name between the site and the animal; its counter is its own.
-        let named =
-            new_rig_session_id(&sessions, date, "Larkfield Meadow", Some("rig-2"), "lm-07").unwrap();
+        let named = new_rig_session_id(&sessions, date, "Larkfield Meadow", Some("rig-2"), "lm-07")
+            .unwrap();
         assert_eq!(named, "2026-06-14_larkfield-meadow_rig-2_lm-07_001");
     }
 

@@ -8,7 +8,7 @@ use super::run::{Prepared, RunArgs, prepare};
 use crate::engine::session::{Outcome, Wiring};
 use crate::engine::{Command, SnapshotCell};
 use anyhow::{Context, bail};
-use std::io::{BufRead, Write};
+use std::io::{BufRead, IsTerminal, Write};
 use std::path::PathBuf;
 use std::sync::mpsc;
 
@@ -116,10 +116,16 @@ pub fn run_rigs(args: &RunArgs) -> anyhow::Result<i32> {
             }
         }
     }
-    if !args.headless {
-        bail!("several rigs run with --headless only (the screen for several rigs is not built yet)");
+    if !args.headless && (!std::io::stdout().is_terminal() || !std::io::stdin().is_terminal()) {
+        bail!(
+            "the live screen needs a terminal (standard input and output); use --headless to run without one"
+        );
     }
-    let results = run_headless(rigs)?;
+    let results = if args.headless {
+        run_headless(rigs)?
+    } else {
+        run_screen(rigs, args.mono)?
+    };
     for r in &results {
         if let Err(e) = &r.outcome {
             eprintln!("skybearing: error: [{}] {e}", r.name);
@@ -148,25 +154,49 @@ pub fn route_line(line: &str, names: &[String]) -> Option<(Option<usize>, Comman
     command_from_line(t).map(|c| (None, c))
 }
 
-/// Runs every rig's engine on its own thread and prints their progress lines, each starting
-/// with `[NAME]`. SIGINT, SIGTERM and SIGHUP end every session properly.
-fn run_headless(rigs: Vec<NamedRig>) -> anyhow::Result<Vec<RigResult>> {
+/// Sets its flag when dropped.
+struct SetOnDrop(std::sync::Arc<std::sync::atomic::AtomicBool>);
+
+impl Drop for SetOnDrop {
+    fn drop(&mut self) {
+        self.0.store(true, std::sync::atomic::Ordering::SeqCst);
+    }
+}
+
+/// The engines of a run, each on its own thread: what the printer or the screen needs.
+struct Running {
+    names: Vec<String>,
+    senders: Vec<mpsc::Sender<Command>>,
+    cells: Vec<SnapshotCell>,
+    done: Vec<std::sync::Arc<std::sync::atomic::AtomicBool>>,
+    handles: Vec<(PathBuf, std::thread::JoinHandle<Result<Outcome, String>>)>,
+}
+
+/// Starts every rig's engine on its own thread (its own clock, devices and archive). With
+/// `print`, its progress lines go to stdout, each starting with `[NAME]`.
+fn start_engines(rigs: Vec<NamedRig>, print: bool) -> anyhow::Result<Running> {
     crate::signals::ignore_file_size_signal();
-    crate::signals::record_stop_signals()
-        .context("installing the SIGINT/SIGTERM/SIGHUP handlers")?;
-    let names: Vec<String> = rigs.iter().map(|r| r.name.clone()).collect();
-    let stdin_commands = rigs.iter().all(|r| r.prepared.stdin_commands);
-    let mut senders = Vec::new();
-    let mut handles = Vec::new();
+    let mut running = Running {
+        names: Vec::new(),
+        senders: Vec::new(),
+        cells: Vec::new(),
+        done: Vec::new(),
+        handles: Vec::new(),
+    };
     for rig in rigs {
         let (tx, rx) = mpsc::channel::<Command>();
-        senders.push(tx);
+        let cell = SnapshotCell::new();
         let NamedRig { name, prepared } = rig;
         let dir = prepared.engine.session_dir();
-        let thread_name = format!("engine {name}");
+        let engine_cell = cell.clone();
+        let prefix = format!("[{name}] ");
+        let done = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
+        let engine_done = done.clone();
         let handle = std::thread::Builder::new()
-            .name(thread_name)
+            .name(format!("engine {name}"))
             .spawn(move || {
+                // Set however the thread ends, a panic included.
+                let done_on_exit = SetOnDrop(engine_done);
                 let Prepared {
                     engine,
                     mut sensor,
@@ -175,32 +205,71 @@ fn run_headless(rigs: Vec<NamedRig>) -> anyhow::Result<Vec<RigResult>> {
                     auto_confirm_after_s,
                     ..
                 } = prepared;
-                let cell = SnapshotCell::new();
                 let stop = crate::signals::received();
                 let stdout = std::io::stdout();
-                let prefix = format!("[{name}] ");
                 let mut progress = |l: &str| {
-                    let mut out = stdout.lock();
-                    let _ = writeln!(out, "{prefix}{l}");
-                    let _ = out.flush();
+                    if print {
+                        let mut out = stdout.lock();
+                        let _ = writeln!(out, "{prefix}{l}");
+                        let _ = out.flush();
+                    }
                 };
-                engine
+                let result = engine
                     .run(Wiring {
                         sensor: sensor.as_mut(),
                         turntable: turntable.as_mut(),
                         clock,
-                        cell: &cell,
+                        cell: &engine_cell,
                         commands: &rx,
                         stop: &stop,
                         progress: &mut progress,
                         auto_confirm_after_s,
                         sim_operator: None,
                     })
-                    .map_err(|e| e.to_string())
+                    .map_err(|e| e.to_string());
+                drop(done_on_exit);
+                result
             })
             .context("starting an engine thread")?;
-        handles.push((names[handles.len()].clone(), dir, handle));
+        running.names.push(name);
+        running.senders.push(tx);
+        running.cells.push(cell);
+        running.done.push(done);
+        running.handles.push((dir, handle));
     }
+    Ok(running)
+}
+
+/// Waits for every engine and says how each session ended.
+fn join_engines(
+    names: Vec<String>,
+    handles: Vec<(PathBuf, std::thread::JoinHandle<Result<Outcome, String>>)>,
+) -> Vec<RigResult> {
+    names
+        .into_iter()
+        .zip(handles)
+        .map(|(name, (dir, handle))| RigResult {
+            name,
+            dir,
+            outcome: handle.join().unwrap_or_else(|_| {
+                Err("the engine thread panicked; what reached the disk is kept (run `skybearing check --repair`)".to_string())
+            }),
+        })
+        .collect()
+}
+
+/// Headless: prints every rig's progress lines, each starting with `[NAME]`, and routes the
+/// operator words typed on stdin. SIGINT, SIGTERM and SIGHUP end every session properly.
+fn run_headless(rigs: Vec<NamedRig>) -> anyhow::Result<Vec<RigResult>> {
+    crate::signals::record_stop_signals()
+        .context("installing the SIGINT/SIGTERM/SIGHUP handlers")?;
+    let stdin_commands = rigs.iter().all(|r| r.prepared.stdin_commands);
+    let Running {
+        names,
+        senders,
+        handles,
+        ..
+    } = start_engines(rigs, true)?;
     if stdin_commands {
         let names = names.clone();
         // Operator words typed on stdin; EOF just ends the reader.
@@ -226,17 +295,31 @@ fn run_headless(rigs: Vec<NamedRig>) -> anyhow::Result<Vec<RigResult>> {
             }
         });
     }
-    let mut results = Vec::new();
-    for (name, dir, handle) in handles {
-        let outcome = match handle.join() {
-            Ok(r) => r,
-            Err(_) => Err(
-                "the engine thread panicked; what reached the disk is kept (run `skybearing check --repair`)"
-                    .to_string(),
-            ),
-        };
-        results.push(RigResult { name, dir, outcome });
+    Ok(join_engines(names, handles))
+}
+
+/// The live screen for several rigs ([`crate::tui::run_live_rigs`]) over the engines' snapshots.
+fn run_screen(rigs: Vec<NamedRig>, mono: bool) -> anyhow::Result<Vec<RigResult>> {
+    let Running {
+        names,
+        senders,
+        cells,
+        done,
+        handles,
+    } = start_engines(rigs, false)?;
+    let options = crate::tui::ScreenOptions {
+        mono,
+        ..Default::default()
+    };
+    let screen = crate::tui::run_live_rigs(names.clone(), cells, senders.clone(), done, options);
+    if screen.is_err() {
+        // The screen failed: end every session properly so nothing is lost.
+        for s in &senders {
+            let _ = s.send(Command::EndSession);
+        }
     }
+    let results = join_engines(names, handles);
+    screen.context("live screen")?;
     Ok(results)
 }
 

@@ -210,7 +210,9 @@ fn rig_names(paths: &[PathBuf]) -> Vec<Option<String>> {
     if distinct {
         stems
     } else {
-        (1..=paths.len()).map(|k| Some(format!("rig-{k}"))).collect()
+        (1..=paths.len())
+            .map(|k| Some(format!("rig-{k}")))
+            .collect()
     }
 }
 

@@ -729,8 +729,13 @@ pub const RIG_NAME_MAX_LEN: usize = 24;
 /// letter or digit, so it is safe in a folder name and keeps the `_`-separated fields of a
 /// session id apart. Returns the name, or why it is refused.
 pub fn validate_rig_name(name: &str) -> Result<&str, String> {
-    let ok_chars = name.chars().all(|ch| ch.is_ascii_alphanumeric() || ch == '-');
-    let first_ok = name.chars().next().is_some_and(|ch| ch.is_ascii_alphanumeric());
+    let ok_chars = name
+        .chars()
+        .all(|ch| ch.is_ascii_alphanumeric() || ch == '-');
+    let first_ok = name
+        .chars()
+        .next()
+        .is_some_and(|ch| ch.is_ascii_alphanumeric());
     if name.len() > RIG_NAME_MAX_LEN || !ok_chars || !first_ok {
         return Err(format!(
             "\"{}\" is not a rig name: 1 to {RIG_NAME_MAX_LEN} ASCII letters, digits and '-', starting with a letter or digit (such as \"rig-2\"); it becomes part of every session id",

@@ -179,7 +179,10 @@ fn rig_name_is_optional_short_and_filesystem_safe() {
     );
     // The template's commented line, uncommented, is a valid name.
     let t = good().replace("# name = \"rig-1\"", "name = \"rig-1\"");
-    assert_eq!(parse_rig(&t, "rig.toml").unwrap().name.as_deref(), Some("rig-1"));
+    assert_eq!(
+        parse_rig(&t, "rig.toml").unwrap().name.as_deref(),
+        Some("rig-1")
+    );
     for bad in ["", "rig 2", "rig_2", "../x", "-rig", "räg", &"r".repeat(25)] {
         let e = err(&format!("name = \"{bad}\"\n{}", good()));
         assert!(e.starts_with("rig.toml:1: name: \""), "{bad}: {e}");
