@@ -3,6 +3,7 @@
 //!
 //! - this file: the binary under test, running it, reading what it wrote;
 //! - [`demo`]: headless demo sessions at a fixed start;
+//! - [`figures`]: checks of figures for print (size in mm at 300 dpi, type, palette);
 //! - [`sessions`]: session folders written through the archive's own writer (also used by
 //!   `benches/batch.rs`, so it stands alone), and CSV reading;
 //! - [`sim`]: `skybearing sim` on pseudo-terminals, and `run` against it;
@@ -10,6 +11,7 @@
 #![allow(dead_code)]
 
 pub mod demo;
+pub mod figures;
 pub mod sessions;
 pub mod sim;
 pub mod tmux;
