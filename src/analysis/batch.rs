@@ -316,6 +316,7 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "site_longitude_deg",
     "site_elevation_m",
     "time_zone",
+    "rig",
 ];
 
 /// Columns of `epochs.csv`.
@@ -405,6 +406,11 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
                 .meta
                 .as_ref()
                 .map_or(Cell::Empty, |m| m.time_zone.as_str().into()),
+            s.info
+                .meta
+                .as_ref()
+                .and_then(|m| m.rig.get("name").and_then(|v| v.as_str()))
+                .map_or(Cell::Empty, Cell::from),
         ]);
     }
     t

@@ -103,7 +103,13 @@ impl Engine {
                 duration_s: e.duration_s,
             })
             .collect();
-        let id = archive::new_session_id(&setup.sessions_dir, date, &site.name, &setup.animal)?;
+        let id = archive::new_rig_session_id(
+            &setup.sessions_dir,
+            date,
+            &site.name,
+            setup.rig.name.as_deref(),
+            &setup.animal,
+        )?;
         let meta = setup.session_meta(id, mark_true_deg, declination, &planned);
         Ok(Self {
             meta,

@@ -25,6 +25,9 @@ pub enum BearingReference {
 /// A checked rig, ready to open devices.
 #[derive(Debug, Clone, Serialize)]
 pub struct Rig {
+    /// The rig's own name (top-level `name`, optional; [`validate_rig_name`]): it goes into
+    /// session ids so that sessions of rigs run side by side never collide.
+    pub name: Option<String>,
     /// Where the rig stands.
     pub site: Site,
     /// Time zone for local display (IANA name such as "Europe/Paris").
@@ -234,6 +237,7 @@ type S<T> = Spanned<T>;
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawRig {
+    name: Option<S<String>>,
     site: Option<S<RawSite>>,
     arena: Option<S<RawArena>>,
     sensor: Option<S<RawSensor>>,
@@ -705,12 +709,21 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
             "not a rig setting: the settle window is the protocol's settle_s (required in every protocol file)",
         ));
     }
+    let rig_name = match &raw.name {
+        None => None,
+        Some(v) => Some(
+            validate_rig_name(v.get_ref())
+                .map_err(|why| c.err(v.span().start, "name", why))?
+                .to_string(),
+        ),
+    };
     let sessions_dir = match &raw.sessions_dir {
         None => PathBuf::from("sessions"),
         Some(v) => c.path(v, "sessions_dir")?,
     };
 
     Ok(Rig {
+        name: rig_name,
         site: Site {
             name: name.get_ref().clone(),
             latitude_deg,
@@ -740,10 +753,34 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
     })
 }
 
+/// Longest rig name, characters (it is part of every session id of the rig).
+pub const RIG_NAME_MAX_LEN: usize = 24;
+
+/// Checks a rig name: 1 to [`RIG_NAME_MAX_LEN`] ASCII letters, digits and `-`, starting with a
+/// letter or digit, so it is safe in a folder name and keeps the `_`-separated fields of a
+/// session id apart. Returns the name, or why it is refused.
+pub fn validate_rig_name(name: &str) -> Result<&str, String> {
+    let ok_chars = name
+        .chars()
+        .all(|ch| ch.is_ascii_alphanumeric() || ch == '-');
+    let first_ok = name
+        .chars()
+        .next()
+        .is_some_and(|ch| ch.is_ascii_alphanumeric());
+    if name.len() > RIG_NAME_MAX_LEN || !ok_chars || !first_ok {
+        return Err(format!(
+            "\"{}\" is not a rig name: 1 to {RIG_NAME_MAX_LEN} ASCII letters, digits and '-', starting with a letter or digit (such as \"rig-2\"); it becomes part of every session id",
+            name.escape_debug()
+        ));
+    }
+    Ok(name)
+}
+
 /// The built-in demo rig: the demo site, time zone Europe/Paris, arena mark at true 0,
 /// simulated sensor and turntable.
 pub fn demo_rig() -> Rig {
     Rig {
+        name: None,
         site: crate::sky::demo_site(),
         time_zone: "Europe/Paris".to_string(),
         arena_mark_bearing_deg: 0.0,

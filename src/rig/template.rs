@@ -16,9 +16,9 @@ pub const TEMPLATE: &str = r#"# skybearing rig file: the hardware set-up for tet
 
 # Where session folders go (relative to the directory you run skybearing from).
 sessions_dir = "sessions"
+# name = "rig-1"                     # optional: 1-24 letters, digits, '-'; part of session ids
 # The settle window after each turn is not a rig setting: every protocol file sets its own
-# settle_s (required there, see docs/protocols.md), and sessions use the protocol's value.
-# The same rig can thus run protocols with different settle windows.
+# settle_s (required there, see docs/protocols.md), so one rig runs protocols with any.
 
 [site]
 name = "FILL IN"                     # REQUIRED: a name for people

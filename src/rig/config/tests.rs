@@ -212,3 +212,27 @@ fn gps_section_is_optional_read_and_checked_naming_file_line_field() {
     let rig = parse_rig(&with.replace("wait_s = 10.0 ", "# "), "rig.toml").unwrap();
     assert_eq!(rig.gps.unwrap().wait_s, crate::rig::gps::DEFAULT_WAIT_S);
 }
+
+#[test]
+fn rig_name_is_optional_short_and_filesystem_safe() {
+    assert_eq!(parse_rig(&good(), "rig.toml").unwrap().name, None);
+    let named = format!("name = \"rig-2\"\n{}", good());
+    assert_eq!(
+        parse_rig(&named, "rig.toml").unwrap().name.as_deref(),
+        Some("rig-2")
+    );
+    // The template's commented line, uncommented, is a valid name.
+    let t = good().replace("# name = \"rig-1\"", "name = \"rig-1\"");
+    assert_eq!(
+        parse_rig(&t, "rig.toml").unwrap().name.as_deref(),
+        Some("rig-1")
+    );
+    for bad in ["", "rig 2", "rig_2", "../x", "-rig", "räg", &"r".repeat(25)] {
+        let e = err(&format!("name = \"{bad}\"\n{}", good()));
+        assert!(e.starts_with("rig.toml:1: name: \""), "{bad}: {e}");
+        assert!(e.contains("is not a rig name"), "{e}");
+    }
+    // The site's name is another field.
+    let e = err(&good().replace("name = \"Larkfield Meadow (demo)\"", "name = \"\""));
+    assert!(e.contains("site.name"), "{e}");
+}
