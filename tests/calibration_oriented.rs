@@ -258,7 +258,8 @@ fn simulate(cell: &Cell, rng: &mut Rng, mut on: impl FnMut(Option<(f64, f64)>)) 
         } else {
             theta += walk_sd * rng.normal();
         }
-        jitter = jitter_a * jitter + (1.0 - jitter_a * jitter_a).sqrt() * cell.jitter_deg * rng.normal();
+        jitter =
+            jitter_a * jitter + (1.0 - jitter_a * jitter_a).sqrt() * cell.jitter_deg * rng.normal();
         let mut obs = theta.to_degrees()
             + jitter
             + cell.noise_deg * rng.normal()
@@ -434,8 +435,8 @@ fn lag1_effective_n_is_not_calibrated() {
     assert!(f05 < 0.09, "{f05}");
 }
 
-/// The full grid (several minutes): every combination of τ, noise, wobble, quantisation,
-/// jitter correlated over 0.3 s, rate and epoch length.
+/// The full grid (about 30 minutes on a shared 2-core machine): every combination of τ,
+/// noise, wobble, quantisation, jitter correlated over 0.3 s, rate and epoch length.
 #[test]
 #[ignore]
 fn null_false_positive_rates_full_grid() {
@@ -533,7 +534,8 @@ fn bins_and_r(cell: &Cell, rng: &mut Rng) -> (Vec<f64>, f64) {
     bins.push(bs.atan2(bc));
     let mut phi = bins.clone();
     for i in 1..phi.len() {
-        let d = (bins[i] - bins[i - 1] + std::f64::consts::PI).rem_euclid(TAU) - std::f64::consts::PI;
+        let d =
+            (bins[i] - bins[i - 1] + std::f64::consts::PI).rem_euclid(TAU) - std::f64::consts::PI;
         phi[i] = phi[i - 1] + d;
     }
     (phi, (sc * sc + ss * ss).sqrt() / n as f64)
@@ -543,7 +545,10 @@ fn bins_and_r(cell: &Cell, rng: &mut Rng) -> (Vec<f64>, f64) {
 fn msd_slope(phi: &[f64], a: usize, b: usize) -> f64 {
     let (mut k, mut sx, mut sy, mut sxx, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
     for lag in a..=b {
-        let m = phi.windows(lag + 1).map(|w| (w[lag] - w[0]).powi(2)).sum::<f64>()
+        let m = phi
+            .windows(lag + 1)
+            .map(|w| (w[lag] - w[0]).powi(2))
+            .sum::<f64>()
             / (phi.len() - lag) as f64;
         let x = lag as f64 * 0.1;
         (k, sx, sy, sxx, sxy) = (k + 1.0, sx + x, sy + m, sxx + x * x, sxy + x * m);

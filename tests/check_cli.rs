@@ -442,5 +442,8 @@ fn check_notes_p_oriented_of_the_earlier_lag_window() {
     let (code, out, err) = run(&["check", dir.to_str().unwrap()]);
     assert_eq!(code, 0, "{out}{err}");
     assert!(out.starts_with("ok "), "{out}");
-    assert!(out.contains("p_oriented was computed with an earlier lag window"), "{out}");
+    assert!(
+        out.contains("p_oriented was computed with an earlier lag window"),
+        "{out}"
+    );
 }
