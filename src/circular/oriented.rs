@@ -53,11 +53,11 @@
 //! quantisation, with flight stops, and with persistent turning, at 50 Hz and 1 kHz, for epochs
 //! of 1 to 5 minutes, and asserts that the false-positive rate lies in [2 %, 8 %] at α = 0.05
 //! and below 2.5 % at α = 0.01. The plug-in test alone (λ = D̂·T) is conservative in short
-//! epochs (1.5 % at α = 0.05 for a 1-minute epoch of a slow walk): an epoch whose walk happened
-//! to wander little has both a high r and a low D̂. λ is therefore multiplied by
-//! 1 + 3·LAG_MAX_S/T (1.125 for a minute, 1.025 for five), a factor fitted on that simulation
-//! (rates then 3–8 % at α = 0.05 over the grid; a larger factor put a fast walk's 1-minute
-//! epochs above 8 %).
+//! epochs (1.5 % at α = 0.05 for a 1-minute epoch of a slow walk, in the simulation the factor
+//! below was fitted on): an epoch whose walk happened to wander little has both a high r and a
+//! low D̂. λ is therefore multiplied by 1 + 3·LAG_MAX_S/T (1.125 for a minute, 1.025 for five)
+//! (rates then 2.4–7.9 % at α = 0.05 over the full grid; a factor of 1 + 5·LAG_MAX_S/T put a
+//! fast walk's 1-minute epochs near 9 %).
 //!
 //! **Where it loses power.** A heading held with a slow restoring force (time constant
 //! comparable to the epoch) looks like a slow walk: the MSD is still rising over 0.5–2.5 s and
