@@ -180,6 +180,17 @@ struct Cell {
     wobble_deg: f64,
     wobble_hz: f64,
     quant_deg: f64,
+    /// Jitter correlated over `jitter_s` (an Ornstein–Uhlenbeck process added to the heading,
+    /// as a slow sensor filter or a random oscillation would), degrees (sd).
+    jitter_deg: f64,
+    jitter_s: f64,
+    /// Persistent turning: the walk's angular velocity is an Ornstein–Uhlenbeck process with
+    /// this correlation time, s (0: a Brownian walk); its long-run diffusion is still 1/τ.
+    persist_s: f64,
+    /// Flight stops: every `stop_every_s` the animal stops for `stop_s` (heading frozen, nothing
+    /// pushed, the chain broken), as the demo's animal hangs still between marks.
+    stop_every_s: f64,
+    stop_s: f64,
 }
 
 const NULL: Cell = Cell {
@@ -192,43 +203,90 @@ const NULL: Cell = Cell {
     wobble_deg: 0.0,
     wobble_hz: 0.0,
     quant_deg: 0.0,
+    jitter_deg: 0.0,
+    jitter_s: 1.0,
+    persist_s: 0.0,
+    stop_every_s: 0.0,
+    stop_s: 0.0,
 };
+
+/// One simulated series of a cell: `on(Some((t_s, heading_deg)))` for each sample, `on(None)`
+/// where a flight stop breaks the series.
+fn simulate(cell: &Cell, rng: &mut Rng, mut on: impl FnMut(Option<(f64, f64)>)) {
+    let dt = 1.0 / cell.rate_hz;
+    let steps = (cell.epoch_s * cell.rate_hz).round() as usize;
+    let mut theta = rng.uniform() * TAU;
+    let goal = theta;
+    let phase = rng.uniform() * TAU;
+    let walk_sd = if cell.hold_s > 0.0 {
+        cell.hold_sigma_deg.to_radians() * dt.sqrt()
+    } else {
+        (2.0 * dt / cell.tau_s).sqrt()
+    };
+    let t0 = rng.uniform() * 1000.0;
+    // Angular velocity of a persistent walk: variance 1/(τ·τ_ω) gives diffusion 1/τ.
+    let omega_sd = if cell.persist_s > 0.0 {
+        (1.0 / (cell.tau_s * cell.persist_s)).sqrt()
+    } else {
+        0.0
+    };
+    let mut omega = omega_sd * rng.normal();
+    let omega_a = (-dt / cell.persist_s.max(1e-9)).exp();
+    let jitter_a = (-dt / cell.jitter_s).exp();
+    let mut jitter = cell.jitter_deg * rng.normal();
+    let stop_offset = rng.uniform() * cell.stop_every_s;
+    let mut stopped = false;
+    for k in 0..steps {
+        let t = t0 + k as f64 * dt;
+        if cell.stop_every_s > 0.0 {
+            let now_stopped = (k as f64 * dt + stop_offset) % cell.stop_every_s < cell.stop_s;
+            if now_stopped {
+                if !stopped {
+                    on(None);
+                }
+                stopped = true;
+                continue;
+            }
+            stopped = false;
+        }
+        if cell.hold_s > 0.0 {
+            theta -= (theta - goal).sin() * dt / cell.hold_s;
+        }
+        if cell.persist_s > 0.0 {
+            omega = omega_a * omega + (1.0 - omega_a * omega_a).sqrt() * omega_sd * rng.normal();
+            theta += omega * dt;
+        } else {
+            theta += walk_sd * rng.normal();
+        }
+        jitter =
+            jitter_a * jitter + (1.0 - jitter_a * jitter_a).sqrt() * cell.jitter_deg * rng.normal();
+        let mut obs = theta.to_degrees()
+            + jitter
+            + cell.noise_deg * rng.normal()
+            + cell.wobble_deg * (TAU * cell.wobble_hz * t + phase).sin();
+        if cell.quant_deg > 0.0 {
+            obs = (obs / cell.quant_deg).round() * cell.quant_deg;
+        }
+        let obs = obs.rem_euclid(360.0);
+        on(Some((t, obs)));
+    }
+}
 
 /// Runs `series` series of a cell and returns (fraction p_oriented ≤ 0.05, ≤ 0.01, fraction
 /// lag-1 `rayleigh_p_eff` ≤ 0.05, series without a p).
 fn run_cell(cell: Cell, series: usize, seed: u64) -> (f64, f64, f64, usize) {
     let mut rng = Rng::new(seed);
-    let dt = 1.0 / cell.rate_hz;
-    let steps = (cell.epoch_s * cell.rate_hz).round() as usize;
     let (mut n05, mut n01, mut old05, mut none) = (0usize, 0usize, 0usize, 0usize);
     for _ in 0..series {
         let mut tracker = OrientationTracker::new();
         let mut old = HeadingAccumulator::new();
-        let mut theta = rng.uniform() * TAU;
-        let goal = theta;
-        let phase = rng.uniform() * TAU;
-        let walk_sd = if cell.hold_s > 0.0 {
-            cell.hold_sigma_deg.to_radians() * dt.sqrt()
-        } else {
-            (2.0 * dt / cell.tau_s).sqrt()
-        };
-        let t0 = rng.uniform() * 1000.0;
-        for k in 0..steps {
-            let t = t0 + k as f64 * dt;
-            if cell.hold_s > 0.0 {
-                theta -= (theta - goal).sin() * dt / cell.hold_s;
+        simulate(&cell, &mut rng, |e| match e {
+            None => tracker.mark_gap(),
+            Some((t, obs)) => {
+                tracker.push_deg(t, obs);
+                old.push_deg(obs);
             }
-            theta += walk_sd * rng.normal();
-            let mut obs = theta.to_degrees()
-                + cell.noise_deg * rng.normal()
-                + cell.wobble_deg * (TAU * cell.wobble_hz * t + phase).sin();
-            if cell.quant_deg > 0.0 {
-                obs = (obs / cell.quant_deg).round() * cell.quant_deg;
-            }
-            let obs = obs.rem_euclid(360.0);
-            tracker.push_deg(t, obs);
-            old.push_deg(obs);
-        }
+        });
         match tracker.test() {
             Some(test) => {
                 n05 += usize::from(test.p <= 0.05);
@@ -261,7 +319,7 @@ fn with(f: impl FnOnce(&mut Cell)) -> Cell {
     c
 }
 
-/// The default grid: one cell of each kind (about 20 s in release).
+/// The default grid: one cell of each kind (about 30 s in release).
 #[test]
 fn null_false_positive_rates_default_grid() {
     let cells: Vec<(&str, Cell)> = vec![
@@ -307,9 +365,59 @@ fn null_false_positive_rates_default_grid() {
                 c.epoch_s = 60.0;
             }),
         ),
+        (
+            "walk τ 30 s + 8° jitter over 0.3 s, 3 min",
+            with(|c| {
+                c.tau_s = 30.0;
+                c.jitter_deg = 8.0;
+                c.jitter_s = 0.3;
+                c.epoch_s = 180.0;
+            }),
+        ),
+        (
+            "walk τ 30 s + 8° wobble at 1 Hz, 3 min",
+            with(|c| {
+                c.tau_s = 30.0;
+                c.wobble_deg = 8.0;
+                c.wobble_hz = 1.0;
+                c.epoch_s = 180.0;
+            }),
+        ),
+        (
+            "walk τ 5 s, 8 s stop every 40 s, 3 min",
+            with(|c| {
+                c.stop_every_s = 40.0;
+                c.stop_s = 8.0;
+                c.epoch_s = 180.0;
+            }),
+        ),
     ];
     for (k, (name, cell)) in cells.into_iter().enumerate() {
         assert_calibrated(name, cell, 1000 + k as u64);
+    }
+}
+
+/// Persistent turning (the angular velocity correlated over 2 s, long-run correlation time
+/// 10 s): the MSD rises faster than linearly over the fit's lags, so D̂ underestimates the
+/// long-run diffusion and the test is conservative; it must never exceed the level.
+#[test]
+fn persistent_turning_is_not_taken_for_holding() {
+    for (k, &(persist_s, epoch_s)) in [(2.0, 120.0), (5.0, 300.0)].iter().enumerate() {
+        let cell = with(|c| {
+            c.tau_s = 10.0;
+            c.persist_s = persist_s;
+            c.epoch_s = epoch_s;
+            c.noise_deg = 2.0;
+        });
+        let (f05, f01, _, none) = run_cell(cell, 800, 3000 + k as u64);
+        println!(
+            "persistent turning over {persist_s} s, τ 10 s, {epoch_s} s: p≤0.05 {:5.1}%  p≤0.01 {:4.1}%",
+            100.0 * f05,
+            100.0 * f01
+        );
+        assert_eq!(none, 0);
+        assert!(f05 <= 0.08, "{f05} at α = 0.05");
+        assert!(f01 < 0.025, "{f01} at α = 0.01");
     }
 }
 
@@ -327,8 +435,8 @@ fn lag1_effective_n_is_not_calibrated() {
     assert!(f05 < 0.09, "{f05}");
 }
 
-/// The full grid (several minutes): every combination of τ, noise, wobble, quantisation, rate
-/// and epoch length.
+/// The full grid (about 30 minutes on a shared 2-core machine): every combination of τ,
+/// noise, wobble, quantisation, jitter correlated over 0.3 s, rate and epoch length.
 #[test]
 #[ignore]
 fn null_false_positive_rates_full_grid() {
@@ -336,11 +444,12 @@ fn null_false_positive_rates_full_grid() {
     for &rate_hz in &[50.0, 1000.0] {
         for &epoch_s in &[60.0, 300.0] {
             for &tau_s in &[0.5, 2.0, 10.0, 30.0] {
-                for &(noise_deg, wobble_deg, quant_deg) in &[
-                    (0.0, 0.0, 0.0),
-                    (4.0, 0.0, 0.0),
-                    (3.0, 8.0, 0.0),
-                    (0.0, 0.0, 1.0),
+                for &(noise_deg, wobble_deg, quant_deg, jitter_deg) in &[
+                    (0.0, 0.0, 0.0, 0.0),
+                    (4.0, 0.0, 0.0, 0.0),
+                    (3.0, 8.0, 0.0, 0.0),
+                    (0.0, 0.0, 1.0, 0.0),
+                    (0.0, 0.0, 0.0, 8.0),
                 ] {
                     if rate_hz > 100.0 && epoch_s > 100.0 && tau_s != 10.0 {
                         continue; // 1 kHz × 5 min only at one τ (time)
@@ -353,10 +462,12 @@ fn null_false_positive_rates_full_grid() {
                         wobble_deg,
                         wobble_hz: 3.3,
                         quant_deg,
+                        jitter_deg,
+                        jitter_s: 0.3,
                         ..NULL
                     };
                     let name = format!(
-                        "{rate_hz} Hz {epoch_s} s τ {tau_s} noise {noise_deg} wob {wobble_deg} q {quant_deg}"
+                        "{rate_hz} Hz {epoch_s} s τ {tau_s} noise {noise_deg} wob {wobble_deg} q {quant_deg} jit {jitter_deg}"
                     );
                     seed += 1;
                     assert_calibrated(&name, cell, seed);
@@ -380,7 +491,7 @@ fn hold(hold_s: f64, epoch_s: f64) -> Cell {
 fn detects_a_held_heading() {
     let (f05, f01, _, _) = run_cell(hold(2.0, 180.0), 200, 4242);
     assert!(
-        f05 > 0.9 && f01 > 0.6,
+        f05 > 0.97 && f01 > 0.95,
         "power {f05} at α 0.05, {f01} at 0.01"
     );
 }
@@ -390,7 +501,7 @@ fn detects_a_held_heading() {
 #[ignore]
 fn power_table() {
     println!("hold τ (s) | epoch (s) | power α=0.05 | power α=0.01");
-    for &hold_s in &[1.0, 3.0, 10.0, 30.0] {
+    for &hold_s in &[0.3, 1.0, 2.0, 3.0, 10.0, 30.0] {
         for &epoch_s in &[60.0, 180.0, 300.0] {
             let (f05, f01, _, _) = run_cell(hold(hold_s, epoch_s), 400, 77);
             println!(
@@ -400,4 +511,106 @@ fn power_table() {
             );
         }
     }
+}
+
+// ---------------------------------------------------------------------------------------------
+// The design that was not adopted (the numbers quoted in `oriented.rs`, "Why 0.5–2.5 s").
+
+/// Unwrapped 0.1 s bin headings (radians) of one series without gaps, and r of all its samples.
+fn bins_and_r(cell: &Cell, rng: &mut Rng) -> (Vec<f64>, f64) {
+    let (mut bins, mut last) = (Vec::new(), None);
+    let (mut bc, mut bs, mut sc, mut ss, mut n) = (0.0f64, 0.0f64, 0.0f64, 0.0f64, 0usize);
+    simulate(cell, rng, |e| {
+        let Some((t, obs)) = e else { return };
+        let bin = skybearing::circular::bin_index(t);
+        if last.is_some_and(|b| b != bin) {
+            bins.push(bs.atan2(bc));
+            (bc, bs) = (0.0, 0.0);
+        }
+        last = Some(bin);
+        let (s, c) = obs.to_radians().sin_cos();
+        (bc, bs, sc, ss, n) = (bc + c, bs + s, sc + c, ss + s, n + 1);
+    });
+    bins.push(bs.atan2(bc));
+    let mut phi = bins.clone();
+    for i in 1..phi.len() {
+        let d =
+            (bins[i] - bins[i - 1] + std::f64::consts::PI).rem_euclid(TAU) - std::f64::consts::PI;
+        phi[i] = phi[i - 1] + d;
+    }
+    (phi, (sc * sc + ss * ss).sqrt() / n as f64)
+}
+
+/// Least-squares slope (per second) of the MSD of `phi` over lags `a..=b` bins.
+fn msd_slope(phi: &[f64], a: usize, b: usize) -> f64 {
+    let (mut k, mut sx, mut sy, mut sxx, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for lag in a..=b {
+        let m = phi
+            .windows(lag + 1)
+            .map(|w| (w[lag] - w[0]).powi(2))
+            .sum::<f64>()
+            / (phi.len() - lag) as f64;
+        let x = lag as f64 * 0.1;
+        (k, sx, sy, sxx, sxy) = (k + 1.0, sx + x, sy + m, sxx + x * x, sxy + x * m);
+    }
+    (k * sxy - sx * sy) / (k * sxx - sx * sx)
+}
+
+/// The saturation statistic S = MSD slope over 5–15 s / slope over 1–5 s (a variance ratio,
+/// Lo & MacKinlay 1988) with its null (a Brownian walk's S, scale-free, 4000 seeded walks of
+/// the same length), beside the 1–5 s r-test and combined with it by Bonferroni, against the
+/// shipped test (0.5–2.5 s), on a heading held with restoring time 2 s (12°/√s, 1° noise),
+/// 3-minute epochs. `-- --ignored --nocapture saturation_statistic_comparison`.
+#[test]
+#[ignore]
+fn saturation_statistic_comparison() {
+    let epoch_s = 180.0;
+    let ratio = |phi: &[f64]| msd_slope(phi, 50, 150) / msd_slope(phi, 10, 50);
+    let mut rng = Rng::new(606);
+    let bins = (epoch_s * 10.0) as usize;
+    let mut null: Vec<f64> = (0..4000)
+        .map(|_| {
+            let mut x = 0.0;
+            let walk: Vec<f64> = (0..bins)
+                .map(|_| {
+                    x += rng.normal();
+                    x
+                })
+                .collect();
+            ratio(&walk)
+        })
+        .collect();
+    null.sort_by(f64::total_cmp);
+    let p_s = |s: f64| (1 + null.partition_point(|&v| v <= s)) as f64 / (1 + null.len()) as f64;
+    let cell = hold(2.0, epoch_s);
+    let reps = 400;
+    let mut hits = [[0usize; 2]; 4];
+    for _ in 0..reps {
+        let (phi, r) = bins_and_r(&cell, &mut rng);
+        let d15 = (msd_slope(&phi, 10, 50) / 2.0).max(0.0);
+        let p_r15 = walk_null_p(r, d15 * epoch_s * (1.0 + 15.0 / epoch_s));
+        let p_sat = p_s(ratio(&phi));
+        let d05 = (msd_slope(&phi, 5, 25) / 2.0).max(0.0);
+        let p_r05 = walk_null_p(r, d05 * epoch_s * (1.0 + 7.5 / epoch_s));
+        let ps = [p_r15, p_sat, (2.0 * p_r15.min(p_sat)).min(1.0), p_r05];
+        for (h, p) in hits.iter_mut().zip(ps) {
+            h[0] += usize::from(p <= 0.05);
+            h[1] += usize::from(p <= 0.01);
+        }
+    }
+    let names = [
+        "r-test, D over 1–5 s (before)",
+        "saturation S alone",
+        "Bonferroni of the two",
+        "r-test, D over 0.5–2.5 s (shipped)",
+    ];
+    for (name, h) in names.iter().zip(hits) {
+        println!(
+            "{name:<36} power α=0.05 {:5.1}%  α=0.01 {:5.1}%",
+            100.0 * h[0] as f64 / reps as f64,
+            100.0 * h[1] as f64 / reps as f64
+        );
+    }
+    // The shipped window must not lose to the design it replaced.
+    assert!(hits[3][1] >= hits[2][1] && hits[3][1] >= hits[0][1]);
 }

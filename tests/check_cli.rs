@@ -432,3 +432,18 @@ fn check_compares_p_oriented_and_turn_test_unless_the_archive_predates_them() {
     assert_eq!(code, 0, "{out}{err}");
     assert!(out.starts_with("ok "), "{out}");
 }
+
+/// The committed demo archive was written while `p_oriented` fitted its diffusion over 1–5 s:
+/// check keeps it ok, says so, and does not compare those figures with today's 0.5–2.5 s test.
+#[test]
+fn check_notes_p_oriented_of_the_earlier_lag_window() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data/sessions/2026-06-21_larkfield-meadow-demo_lm-01_001");
+    let (code, out, err) = run(&["check", dir.to_str().unwrap()]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.starts_with("ok "), "{out}");
+    assert!(
+        out.contains("p_oriented was computed with an earlier lag window"),
+        "{out}"
+    );
+}

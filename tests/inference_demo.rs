@@ -54,8 +54,10 @@ fn p_oriented(s: &serde_json::Value) -> Vec<f64> {
 fn sky_arena_and_unoriented_animals() {
     let sky = demo("sky", 3);
     let p = p_oriented(&sky);
+    // Issue 11: a sky-compass animal is detected at p < 0.01 in nearly every epoch (the README
+    // gives 100 % over seeds 1–40).
     assert!(
-        p.iter().filter(|&&p| p < 0.05).count() >= p.len() - 1,
+        p.iter().filter(|&&p| p < 0.01).count() >= p.len() - 1,
         "{p:?}"
     );
     let tt = &sky["turn_test"];

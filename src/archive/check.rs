@@ -468,6 +468,13 @@ pub fn check_session(dir: &Path) -> CheckReport {
             match read_stored_summary(&summary_path) {
                 Err(e) => r.problems.push(e.to_string()),
                 Ok((stored, keys)) => {
+                    if keys.p_oriented_other_window {
+                        r.notes.push(
+                            "summary.json: p_oriented was computed with an earlier lag window \
+                             (1–5 s; see p_oriented_lags_s in docs/files.md); not compared"
+                                .into(),
+                        );
+                    }
                     if let Some(computed) = pass.as_ref().and_then(|p| p.summary.as_ref()) {
                         let mut computed = computed.clone();
                         super::summary::drop_unscored_turns(&mut computed, &unscored);

@@ -1,6 +1,8 @@
 //! Comparing a stored `summary.json` with the summary recomputed from `samples.csv` (used by
 //! `check` and `check --repair`). Keys added after the first archives (`p_oriented`,
-//! `window_shift_deg`, `turn_test`) are compared only when the stored file holds them.
+//! `window_shift_deg`, `turn_test`) are compared only when the stored file holds them;
+//! `p_oriented` only when the file's `p_oriented_lags_s` is this program's lag window (an
+//! archive written with the earlier 1–5 s window keeps its figures and is not faulted).
 
 use std::path::Path;
 
@@ -42,8 +44,10 @@ fn close_opt(a: Option<f64>, b: Option<f64>) -> bool {
 /// existed lack it; a missing key is not compared (it is not a difference).
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct StoredKeys {
-    /// Per stored epoch: has `p_oriented`.
+    /// Per stored epoch: has `p_oriented` computed with this program's lag window.
     pub p_oriented: Vec<bool>,
+    /// The file holds `p_oriented` computed with another lag window (not compared).
+    pub p_oriented_other_window: bool,
     /// Per stored turn: has `window_shift_deg`.
     pub window_shift_deg: Vec<bool>,
     /// The stored `turn_test`, when there is one.
@@ -55,6 +59,7 @@ impl StoredKeys {
     pub fn all(s: &Summary) -> Self {
         StoredKeys {
             p_oriented: vec![true; s.epochs.len()],
+            p_oriented_other_window: false,
             window_shift_deg: vec![true; s.turns.len()],
             turn_test: Some(s.turn_test()),
         }
@@ -68,8 +73,14 @@ impl StoredKeys {
                 .map(|l| l.iter().map(|x| x.get(key).is_some()).collect())
                 .unwrap_or_default()
         };
+        let window: Option<[f64; 2]> = v
+            .get("p_oriented_lags_s")
+            .and_then(|w| serde_json::from_value(w.clone()).ok());
+        let current = window == Some(super::P_ORIENTED_LAGS_S);
+        let p_oriented = has("epochs", "p_oriented");
         StoredKeys {
-            p_oriented: has("epochs", "p_oriented"),
+            p_oriented_other_window: !current && p_oriented.iter().any(|&h| h),
+            p_oriented: p_oriented.into_iter().map(|h| h && current).collect(),
             window_shift_deg: has("turns", "window_shift_deg"),
             turn_test: v
                 .get("turn_test")
@@ -321,5 +332,21 @@ mod tests {
         assert!(compare_stored_summary(&old, &keys, &computed).is_empty());
         // compare_summaries compares every key.
         assert!(!compare_summaries(&old, &computed).is_empty());
+    }
+
+    #[test]
+    fn p_oriented_of_the_earlier_lag_window_is_not_compared() {
+        let computed = summary(Some(0.004), Some(3.0));
+        // Written while the window was 1–5 s: p_oriented without p_oriented_lags_s.
+        let (old, keys) = stored(&summary(Some(0.3), Some(3.0)), &["p_oriented_lags_s"]);
+        assert!(keys.p_oriented_other_window);
+        assert_eq!(keys.p_oriented, vec![false, false]);
+        assert!(compare_stored_summary(&old, &keys, &computed).is_empty());
+        // Another window written down is not this one either.
+        let mut v = serde_json::to_value(&computed).unwrap();
+        assert_eq!(v["p_oriented_lags_s"], serde_json::json!([0.5, 2.5]));
+        v["p_oriented_lags_s"] = serde_json::json!([1.0, 5.0]);
+        let keys = StoredKeys::of(&v);
+        assert!(keys.p_oriented_other_window && keys.p_oriented == vec![false, false]);
     }
 }

@@ -271,7 +271,15 @@ struct SummaryFile {
     r_arena: f64,
     #[serde(default)]
     turn_test: TurnTest,
+    /// The lag window, seconds, of the diffusion fit behind every `p_oriented`
+    /// ([`crate::circular::LAG_MIN_S`], [`crate::circular::LAG_MAX_S`]); absent in archives
+    /// written while the window was 1–5 s.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    p_oriented_lags_s: Option<[f64; 2]>,
 }
+
+/// The lag window of the diffusion fit behind `p_oriented` as this program computes it.
+pub const P_ORIENTED_LAGS_S: [f64; 2] = [crate::circular::LAG_MIN_S, crate::circular::LAG_MAX_S];
 
 impl From<Summary> for SummaryFile {
     fn from(s: Summary) -> Self {
@@ -282,6 +290,7 @@ impl From<Summary> for SummaryFile {
             r_world: s.r_world,
             r_arena: s.r_arena,
             turn_test,
+            p_oriented_lags_s: Some(P_ORIENTED_LAGS_S),
         }
     }
 }

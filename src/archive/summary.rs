@@ -117,7 +117,7 @@ pub struct EpochCache {
 /// Builds a [`Summary`] from sample rows, O(1) per sample.
 ///
 /// Only `scored` samples with finite headings count. Per-epoch `r`, `rayleigh_p` and
-/// `p_oriented` ([`OrientationTracker`], O(1) per sample, O(40) to evaluate) are of world
+/// `p_oriented` ([`OrientationTracker`], O(1) per sample, O(20) to evaluate) are of world
 /// headings; an epoch with no scored sample has null for every statistic; an epoch's `arena_bearing_deg` is the bearing of its
 /// first scored sample (else its first sample, else the previous epoch's bearing plus the
 /// planned turn, else NaN, written `null`). Turn k lies between epochs k and k + 1, one per
