@@ -166,6 +166,8 @@ pub struct SessionPass {
     duration_s: f64,
     /// Scored world headings summed per [`TREND_BIN_S`] bin: (bin, Σt_s, Σcos, Σsin, count).
     bins: Vec<(i64, f64, f64, f64, u64)>,
+    /// [k, k + 1): the quotients t_s / TREND_BIN_S of the last bin (k its floor).
+    bin_q: (f64, f64),
     /// Sun azimuth: (first t_s, last t_s, last azimuth, unwrapped change since the first).
     sun: Option<(f64, f64, f64, f64)>,
 }
@@ -204,6 +206,7 @@ impl SessionPass {
             flying_s: 0.0,
             duration_s: 0.0,
             bins: Vec::new(),
+            bin_q: (f64::NAN, f64::NAN),
             sun: None,
         }
     }
@@ -237,9 +240,16 @@ impl SessionPass {
             });
         }
         if counts && s.t_s.is_finite() {
-            let bin = (s.t_s / TREND_BIN_S).floor() as i64;
-            if self.bins.last().is_none_or(|b| b.0 != bin) {
-                self.bins.push((bin, 0.0, 0.0, 0.0, 0));
+            // The bin is floor(t_s / TREND_BIN_S); the floor (a library call on x86-64's
+            // baseline) is taken only when the quotient leaves the last bin's [k, k + 1).
+            let q = s.t_s / TREND_BIN_S;
+            if !(q >= self.bin_q.0 && q < self.bin_q.1) {
+                let k = q.floor();
+                self.bin_q = (k, k + 1.0);
+                let bin = k as i64;
+                if self.bins.last().is_none_or(|b| b.0 != bin) {
+                    self.bins.push((bin, 0.0, 0.0, 0.0, 0));
+                }
             }
             if let Some(b) = self.bins.last_mut() {
                 let (sn, cs) = s.world_heading_deg.to_radians().sin_cos();
