@@ -41,6 +41,7 @@ pub use second_order::{
     hotelling_one_sample_test_with, moore_rayleigh_test, moore_rayleigh_test_with,
     second_order_mean, watson_williams_test, watson_williams_test_with,
 };
+pub(crate) use trig::sin_cos_deg;
 pub use turn_test::{
     EXACT_MAX_N, MIN_TURNS, TurnTestResult, turn_compensation_test, v_test_p_small_n,
 };
