@@ -354,3 +354,20 @@ fn series_without_time_or_rate_is_an_error() {
     assert!(!out.status.success());
     assert!(String::from_utf8_lossy(&out.stderr).contains("line 3"));
 }
+
+/// With few angles the p come from the exact null of uniform directions: two angles 4° apart
+/// have p = 4/180 exactly (the difference of two uniform directions is uniform; derived in
+/// `circular::small_n`), where Zar's approximation could not go below e^−2 ≈ 0.135; three
+/// angles near the expected direction give a small V-test p.
+#[test]
+fn few_angles_get_the_exact_null() {
+    let out = run_with_stdin(&["stats", "-", "--json"], b"10\n14\n");
+    let j = json_of(&out);
+    let p = j["rayleigh_p"].as_f64().unwrap();
+    assert!((p - 4.0 / 180.0).abs() < 0.005, "{p}");
+    let out = run_with_stdin(&["stats", "-", "--json", "--expect", "90"], b"85\n92\n95\n");
+    let j = json_of(&out);
+    let v_p = j["v_p"].as_f64().unwrap();
+    // Exact: P(Σcos ≥ 2.98) for three uniform angles is small (well under 0.01).
+    assert!(v_p < 0.01 && v_p > 0.0, "{v_p}");
+}

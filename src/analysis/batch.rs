@@ -10,6 +10,7 @@ use super::population::{
 };
 use super::session::{SessionStats, analyse_session};
 use super::table::{Cell, Table};
+use super::turn_population::{turns_by_animal_table, turns_population_table};
 use chrono::NaiveDate;
 use rayon::prelude::*;
 use std::path::{Path, PathBuf};
@@ -589,6 +590,8 @@ pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, Ana
         ("paired.csv", paired),
         ("paired_changes.csv", changes),
         ("animals.csv", animals_table(&refs)),
+        ("turns_by_animal.csv", turns_by_animal_table(&refs)),
+        ("turns_population.csv", turns_population_table(&refs)),
         ("skipped.csv", skipped_table(&result.skipped)),
     ];
     let mut names = Vec::new();

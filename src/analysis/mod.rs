@@ -15,6 +15,7 @@ pub mod report;
 pub mod scan;
 pub mod session;
 pub mod table;
+pub mod turn_population;
 
 use std::path::{Path, PathBuf};
 

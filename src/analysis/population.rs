@@ -15,14 +15,15 @@ use super::table::{Cell, Table};
 use crate::circular::{
     HeadingAccumulator, bootstrap_mean_ci95_deg, describe_deg, hermans_rasson_test,
     hotelling_one_sample_test, hotelling_paired_test, moore_paired_test, moore_rayleigh_test,
-    rao_spacing_test, rayleigh_test, second_order_mean, v_test_deg, watson_williams_test,
+    rao_spacing_test, rayleigh_p_few, rayleigh_test, second_order_mean, v_test_deg,
+    v_test_p_small_n, watson_williams_test,
 };
 use crate::frames::signed_difference_deg;
 use std::collections::BTreeMap;
 
 /// A p-value cell written so that it cannot be taken for an integer: always with a decimal
 /// point or an exponent ("1.0", "0.0156", "1e-6"); empty when there is no p.
-fn p_cell(p: Option<f64>) -> Cell {
+pub(super) fn p_cell(p: Option<f64>) -> Cell {
     match p {
         Some(x) if x.is_finite() => {
             let t = super::table::format_cell(&Cell::Num(x));
@@ -203,7 +204,8 @@ pub const POPULATION_COLUMNS: &[&str] = &[
 ];
 
 /// `population.csv`: one row per condition. `rayleigh_*` test the animals' mean directions
-/// (unit vectors); `moore_*` and `hotelling_*` use their vector lengths too, and their p are
+/// (unit vectors; p from the simulated exact null with up to 12 animals,
+/// [`crate::circular::rayleigh_p_few`]); `moore_*` and `hotelling_*` use their vector lengths too, and their p are
 /// the seeded randomization p of [`crate::circular::moore_rayleigh_test`] and
 /// [`crate::circular::hotelling_one_sample_test`] (calibrated for 4 to 30 animals in
 /// `circular::calibration`; the F tail of Hotelling's test is not reported). `rao_spacing_*`
@@ -217,9 +219,9 @@ pub fn population_table(vectors: &AnimalVectors) -> Table {
         let n = d.len();
         let sessions: usize = vs.values().map(|v| v.sessions).sum();
         let (mean, r) = mean_and_r(&d);
+        // Rayleigh's z; its p from the exact null with up to 12 animals (`rayleigh_p_few`).
         let (z, p) = if n > 0 {
-            let (z, p) = rayleigh_test(n as f64, r);
-            (Some(z), Some(p))
+            (Some(rayleigh_test(n as f64, r).0), rayleigh_p_few(n, r))
         } else {
             (None, None)
         };
@@ -370,7 +372,8 @@ pub fn protocol_order(sessions: &[&SessionStats]) -> Vec<String> {
 /// `paired.csv` (one row per pair of conditions, a before b in protocol order
 /// ([`protocol_order`]): the change of preferred heading of each
 /// animal seen under both, b − a in (-180, 180], with a V-test toward 0, i.e. "the heading
-/// did not change") and `paired_changes.csv` (one row per animal and pair).
+/// did not change"; its null is changes uniform on the circle, its p from the simulated exact
+/// null up to 12 animals ([`crate::circular::v_test_p_small_n`]), none below 3) and `paired_changes.csv` (one row per animal and pair).
 ///
 /// The same row carries Zar's paired-sample tests of the animals' preferred headings under the
 /// two conditions (Zar 2010 §27.13): the Hotelling-type test on the differences of the unit
@@ -415,7 +418,10 @@ pub fn paired_tables(vectors: &AnimalVectors, order: &[String]) -> (Table, Table
                     continue;
                 }
                 let (mean, r) = mean_and_r(&changes);
+                // V and u as the textbook gives them; p from the exact null up to 12 animals
+                // (as the session turn test), none below 3.
                 let v = Some(v_test_deg(&changes, 0.0));
+                let v_p = v_test_p_small_n(&changes);
                 let hot = hotelling_paired_test(&heads_a, &heads_b).ok();
                 let moore = moore_paired_test(&heads_a, &heads_b).ok();
                 t.push(vec![
@@ -427,7 +433,7 @@ pub fn paired_tables(vectors: &AnimalVectors, order: &[String]) -> (Table, Table
                     r.into(),
                     v.map(|v| v.v).into(),
                     v.map(|v| v.u).into(),
-                    p_cell(v.map(|v| v.p)),
+                    p_cell(v_p),
                     hot.map(|h| h.statistic).into(),
                     p_cell(hot.map(|h| h.p)),
                     moore.map(|m| m.statistic).into(),
@@ -455,7 +461,9 @@ pub const ANIMAL_COLUMNS: &[&str] = &[
 /// `animals.csv`: how consistent each animal's heading is across its sessions, one row per
 /// animal and frame: the sessions' mean headings in that frame (all scored samples of a
 /// session in epochs) as unit vectors, their mean direction and length, and a Rayleigh test
-/// when there are at least two sessions. The columns keep their world names
+/// when there are at least two sessions (null: the session means independent and uniform, the
+/// animal picking a new heading each session; p from the simulated exact null up to 12
+/// sessions, [`crate::circular::rayleigh_p_few`]). The columns keep their world names
 /// (`mean_world_deg`, `mean_r_world`); in `sun` rows they hold sun-relative values.
 pub fn animals_table(sessions: &[&SessionStats]) -> Table {
     let mut by: BTreeMap<String, Vec<&SessionStats>> = BTreeMap::new();
@@ -490,7 +498,7 @@ pub fn animals_table(sessions: &[&SessionStats]) -> Table {
                 .collect();
             let means: Vec<f64> = per_session.iter().filter_map(|a| a.mean_deg()).collect();
             let (mean, r) = mean_and_r(&means);
-            let p = (means.len() >= 2).then(|| rayleigh_test(means.len() as f64, r).1);
+            let p = rayleigh_p_few(means.len(), r);
             let mean_r = per_session.iter().map(|a| a.r()).sum::<f64>() / ss.len() as f64;
             t.push(vec![
                 animal.as_str().into(),

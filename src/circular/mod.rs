@@ -21,6 +21,7 @@ mod paired;
 pub mod randomization;
 mod regression;
 mod second_order;
+mod small_n;
 mod sum;
 mod trig;
 mod turn_test;
@@ -41,6 +42,7 @@ pub use second_order::{
     hotelling_one_sample_test_with, moore_rayleigh_test, moore_rayleigh_test_with,
     second_order_mean, watson_williams_test, watson_williams_test_with,
 };
+pub use small_n::{RAYLEIGH_EXACT_MAX_N, rayleigh_p_few};
 pub(crate) use trig::sin_cos_deg;
 pub use turn_test::{
     EXACT_MAX_N, MIN_TURNS, TurnTestResult, turn_compensation_test, v_test_p_small_n,

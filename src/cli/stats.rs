@@ -16,7 +16,9 @@ use std::path::PathBuf;
 blank lines and text after '#' are ignored). Reads standard input when FILE is '-' or missing.\n\
 --json prints n, mean_deg, r, rayleigh_z, rayleigh_p, circular_sd_deg, angular_deviation_deg \
 (and v, v_u, v_p with --expect), plus kappa, ci95_deg, circular_variance and \
-`independent` (true: every angle is taken as an independent observation).\n\
+`independent` (true: every angle is taken as an independent observation). With 2 to 12 \
+angles the Rayleigh p (and with 3 to 12 the V-test p) comes from the exact null of uniform \
+directions, simulated with a fixed seed.\n\
 With --series the lines are headings in time order, either `angle` (sampled at --rate-hz) or \
 `t_s,angle` (seconds, non-decreasing; a step longer than 0.1 s breaks the series); the output \
 adds p_oriented, the test that the animal held a heading, calibrated for autocorrelated \
@@ -180,11 +182,18 @@ struct Report {
 }
 
 fn compute(angles_deg: &[f64], axial: bool, expect_deg: Option<f64>) -> Report {
-    let summary = if axial {
+    let mut summary = if axial {
         describe_axial_deg(angles_deg)
     } else {
         describe_deg(angles_deg)
     };
+    // With 2 to 12 angles the Rayleigh p comes from the exact null (Zar's approximation cannot
+    // reject with 2 and is conservative with 3; `circular::calibration`).
+    if summary.n <= crate::circular::RAYLEIGH_EXACT_MAX_N
+        && let Some(p) = crate::circular::rayleigh_p_few(summary.n, summary.r)
+    {
+        summary.rayleigh_p = p;
+    }
     let n = summary.n as f64;
     // The CI is computed on the (doubled, for axes) angles and halved back for axes.
     let ci95_deg = if axial {
@@ -215,6 +224,18 @@ fn compute(angles_deg: &[f64], axial: bool, expect_deg: Option<f64>) -> Report {
             (Some(e), Some(v_test(n, summary.r, summary.mean_deg, e)))
         }
         None => (None, None),
+    };
+    // With 3 to 12 angles the V-test p too comes from the exact null (as the turn test's).
+    let v = match (v, expect_deg) {
+        (Some(mut v), Some(e)) if summary.n <= crate::circular::EXACT_MAX_N => {
+            let k = if axial { 2.0 } else { 1.0 };
+            let toward_0: Vec<f64> = angles_deg.iter().map(|a| k * (a - e)).collect();
+            if let Some(p) = crate::circular::v_test_p_small_n(&toward_0) {
+                v.p = p;
+            }
+            Some(v)
+        }
+        (v, _) => v,
     };
     Report {
         axial,

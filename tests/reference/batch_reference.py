@@ -6,6 +6,7 @@ them out), recomputes the per-epoch, per-turn, per-session and population statis
 scipy, astropy and pycircstat2, and writes the expected tables into OUT_DIR:
 
     sessions.csv epochs.csv turns.csv population.csv comparisons.csv paired.csv animals.csv
+    turns_by_animal.csv turns_population.csv
     versions.csv   (the library versions used)
 
 Usage: python3 tests/reference/batch_reference.py tests/data tests/fixtures/batch_reference
@@ -28,7 +29,13 @@ Sources of each number:
   with disjoint sets of animals; its p is a permutation p of that F (numpy);
 - paired tests (Zar 2010 27.13): Hotelling on the differences of unit vectors and Moore's
   paired R*, both with the exact sign-flip p (all 2^n flips enumerated, n <= 12);
-- V-test: pycircstat2.hypothesis.V_test.
+- V-test: pycircstat2.hypothesis.V_test (V and u; its p for more than 12 directions);
+- Rayleigh and V-test p with few directions (population and animals Rayleigh p, 2-12
+  directions; paired and turn V-test p, 3-12): the exact null of n uniform directions, by
+  numpy Monte Carlo (400,000 draws), as the program does with its own 40,000 draws;
+- the turn test across animals (turns_by_animal.csv, turns_population.csv): per animal the
+  mean of its sessions' mean unit vectors of the whole-epoch world shifts (and shift - turn),
+  V-tests of the animals' directions toward 0.
 
 Rule shared with the program (design choices, not statistics): an animal's vector under a
 condition, per frame (world headings; sun-relative = samples.csv's sun_relative_heading_deg),
@@ -89,6 +96,52 @@ def rayleigh_p(n, r):
     if n <= 0:
         return None
     return float(rayleigh_test(r=min(max(r, 0.0), 1.0), n=n).pval)
+
+
+EXACT_MAX_N = 12
+_NULL_DRAWS = 400_000
+_null_cache = {}
+
+
+def _null(kind, n):
+    """Sorted resultant length R (kind "R") or V = sum of cosines (kind "V") of n uniform
+    directions: the exact null of the Rayleigh and V-tests, drawn with numpy's PCG64 (the
+    program draws its own 40,000 with SplitMix64, so the two agree within Monte Carlo error)."""
+    key = (kind, n)
+    if key not in _null_cache:
+        rng = np.random.default_rng(1000 + n + (0 if kind == "R" else 100))
+        a = rng.uniform(0.0, 2 * math.pi, size=(_NULL_DRAWS, n))
+        c = np.cos(a).sum(axis=1)
+        v = np.hypot(c, np.sin(a).sum(axis=1)) if kind == "R" else c
+        _null_cache[key] = np.sort(v)
+    return _null_cache[key]
+
+
+def _mc_tail(kind, n, observed):
+    d = _null(kind, n)
+    ge = len(d) - np.searchsorted(d, observed - 1e-9, side="left")
+    return float((1 + ge) / (1 + len(d)))
+
+
+def rayleigh_p_few(n, r):
+    """Rayleigh p of n directions: the exact null (Monte Carlo) for 2 <= n <= 12, else Zar's
+    approximation (pycircstat2); None below 2."""
+    if n < 2:
+        return None
+    if n > EXACT_MAX_N:
+        return rayleigh_p(n, r)
+    return _mc_tail("R", n, n * min(max(r, 0.0), 1.0))
+
+
+def v_p_few(angles_deg):
+    """V-test p toward 0: the exact null (Monte Carlo) for 3 <= n <= 12, else pycircstat2's
+    normal approximation; None below 3."""
+    n = len(angles_deg)
+    if n < 3:
+        return None
+    if n > EXACT_MAX_N:
+        return float(V_test(angle=0.0, alpha=np.deg2rad(angles_deg)).pval)
+    return _mc_tail("V", n, float(np.cos(np.deg2rad(angles_deg)).sum()))
 
 
 def n_eff(deg, chain_id):
@@ -396,7 +449,7 @@ def main():
                 mean_deg=m,
                 r=r if n else None,
                 rayleigh_z=float(rt.z) if rt else None,
-                rayleigh_p=float(rt.pval) if rt else None,
+                rayleigh_p=rayleigh_p_few(n, r) if rt else None,
                 moore_r_star=ms,
                 moore_p=mp,
                 hotelling_f=hf,
@@ -442,7 +495,7 @@ def main():
                 paired.append(
                     dict(frame=frame, condition_a=a[1], condition_b=b[1], animals=len(changes),
                          mean_change_deg=signed(m) if m is not None else None, r=r,
-                         v=float(vt.V), v_u=float(vt.u), v_p=float(vt.pval),
+                         v=float(vt.V), v_u=float(vt.u), v_p=v_p_few(changes),
                          hotelling_f=pf, hotelling_p=pp, moore_r_star=pr, moore_p=pm)
                 )
     pd.DataFrame(
@@ -461,10 +514,55 @@ def main():
             animals.append(
                 dict(animal=a, frame=frame, sessions=len(g), mean_world_deg=m,
                      r_between_sessions=r if n >= 2 else None,
-                     rayleigh_p_between_sessions=rayleigh_p(n, r) if n >= 2 else None,
+                     rayleigh_p_between_sessions=rayleigh_p_few(n, r) if n >= 2 else None,
                      mean_r_world=float(g[rcol].mean()))
             )
     pd.DataFrame(animals).to_csv(out / "animals.csv", index=False)
+
+    # The turn test across animals: per animal, the mean of its sessions' mean unit vectors of
+    # the world shifts (and of shift - turn), each session weighing equally; V-tests of the
+    # animals' directions toward 0 (pycircstat2 V_test for V and u; p as v_p_few).
+    tdf = pd.DataFrame(turns).dropna(subset=["world_shift_deg", "turn_deg"])
+    tdf["residual"] = [signed(d - t) for d, t in zip(tdf["world_shift_deg"], tdf["turn_deg"])]
+
+    def equal_weight(groups):
+        xs, ys = [], []
+        for g in groups:
+            _, m, r = circ_desc(g)
+            xs.append(r * math.cos(math.radians(m)) if m is not None else 0.0)
+            ys.append(r * math.sin(math.radians(m)) if m is not None else 0.0)
+        x, y = np.mean(xs), np.mean(ys)
+        ln = math.hypot(x, y)
+        return (signed(math.degrees(math.atan2(y, x))) if ln > 1e-12 else None), ln
+
+    by_animal, world_dirs, arena_dirs = [], [], []
+    for a, g in tdf.groupby("animal", sort=True):
+        ws = [gg["world_shift_deg"].to_numpy() for _, gg in g.groupby("session_id", sort=True)]
+        rs = [gg["residual"].to_numpy() for _, gg in g.groupby("session_id", sort=True)]
+        mw, lw = equal_weight(ws)
+        mr, lr = equal_weight(rs)
+        if mw is not None:
+            world_dirs.append(mw)
+        if mr is not None:
+            arena_dirs.append(mr)
+        by_animal.append(
+            dict(animal=a, sessions=len(ws), turns=len(g), mean_world_shift_deg=mw,
+                 r_world_shift=lw, mean_arena_residual_deg=mr, r_arena_residual=lr,
+                 p_world_kept=v_p_few(g["world_shift_deg"].to_numpy()),
+                 p_arena_kept=v_p_few(g["residual"].to_numpy()))
+        )
+    pd.DataFrame(by_animal).to_csv(out / "turns_by_animal.csv", index=False)
+    row = dict(animals=len(by_animal), sessions=int(tdf["session_id"].nunique()), turns=len(tdf))
+    for side, dirs in (("world", world_dirs), ("arena", arena_dirs)):
+        name = "world_shift" if side == "world" else "arena_residual"
+        _, m, r = circ_desc(dirs)
+        vt = V_test(angle=0.0, alpha=np.deg2rad(dirs))
+        row[f"mean_{name}_deg"] = signed(m) if m is not None else None
+        row[f"r_{name}"] = r
+        row[f"v_{side}"] = float(vt.V)
+        row[f"v_u_{side}"] = float(vt.u)
+        row[f"p_{side}_kept"] = v_p_few(dirs)
+    pd.DataFrame([row]).to_csv(out / "turns_population.csv", index=False)
 
     pd.DataFrame(
         [
