@@ -38,6 +38,7 @@ fn meta(id: &str) -> SessionMeta {
             latitude_deg: 52.1,
             longitude_deg: 0.4,
             elevation_m: 30.0,
+            source: None,
         },
         time_zone: "UTC".into(),
         arena_mark_bearing_deg: 12.5,
@@ -52,6 +53,8 @@ fn meta(id: &str) -> SessionMeta {
         seed: None,
         end_reason: None,
         notes: 0,
+        clock_offset_s: None,
+        gps: None,
     }
 }
 

@@ -136,6 +136,7 @@ fn setup_with(dir: &std::path::Path, epochs: Vec<EpochPlan>) -> SessionSetup {
         speed: Speed::Max,
         seed: None,
         extra: serde_json::Value::Null,
+        gps: None,
     }
 }
 

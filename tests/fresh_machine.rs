@@ -157,25 +157,38 @@ fn docs_files_names_every_file_column_and_field_the_program_writes() {
         .output()
         .unwrap();
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // Every file written, and the files of its folders (batch's `figures/`).
+    let mut written: Vec<PathBuf> = Vec::new();
     for out in [&report, &batch] {
         for e in std::fs::read_dir(out).unwrap() {
             let p = e.unwrap().path();
-            let name = p.file_name().unwrap().to_string_lossy().into_owned();
-            let stem = name
-                .rsplit_once('.')
-                .map_or(name.as_str(), |(s, _)| s)
-                .to_string();
-            if !named(&name) && !doc.contains(&format!("`{stem}.svg`")) {
-                missing.push(format!("output file {name}"));
+            if p.is_dir() {
+                written.extend(std::fs::read_dir(&p).unwrap().map(|e| e.unwrap().path()));
+            } else {
+                written.push(p);
             }
-            if name.ends_with(".csv") {
-                missing.extend(
-                    header(&p)
-                        .into_iter()
-                        .filter(|c| !named(c))
-                        .map(|c| format!("{name}: {c}")),
-                );
-            }
+        }
+    }
+    assert!(
+        written.iter().any(|p| p.starts_with(batch.join("figures"))),
+        "batch wrote no figures"
+    );
+    for p in written {
+        let name = p.file_name().unwrap().to_string_lossy().into_owned();
+        let stem = name
+            .rsplit_once('.')
+            .map_or(name.as_str(), |(s, _)| s)
+            .to_string();
+        if !named(&name) && !doc.contains(&format!("`{stem}.svg`")) {
+            missing.push(format!("output file {name}"));
+        }
+        if name.ends_with(".csv") {
+            missing.extend(
+                header(&p)
+                    .into_iter()
+                    .filter(|c| !named(c))
+                    .map(|c| format!("{name}: {c}")),
+            );
         }
     }
     missing.sort();

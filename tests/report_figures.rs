@@ -1,72 +1,12 @@
 //! `skybearing report` as a user runs it: tables, summary and figures that are valid SVG/PNG
-//! with the expected content (checked loosely: element counts and labels, not bytes).
+//! with the expected content (checked loosely: element counts and labels, not bytes), printable
+//! at one or two journal columns (85 / 180 mm at 300 dpi, type of at least 7 pt, the Okabe–Ito
+//! palette: `support::figures::check_print_figure`), legends outside the data.
 
 mod support;
 use support::bin;
+use support::figures::{check_print_figure, text_y, xml_elements};
 use support::sessions::{Mode, col, read_csv, write_session};
-
-use std::path::Path;
-
-/// A small XML well-formedness check: every tag closes in order, and the root is <svg>.
-/// Returns the element names in document order and the (trimmed) text between tags.
-fn xml_elements(text: &str) -> (Vec<String>, Vec<String>) {
-    let mut stack: Vec<String> = Vec::new();
-    let mut names = Vec::new();
-    let mut texts = Vec::new();
-    let mut rest = text;
-    while let Some(i) = rest.find('<') {
-        let between = rest[..i].trim();
-        if !between.is_empty() {
-            texts.push(between.to_string());
-        }
-        rest = &rest[i + 1..];
-        let end = rest.find('>').expect("unclosed tag");
-        let tag = &rest[..end];
-        rest = &rest[end + 1..];
-        if tag.starts_with('?') || tag.starts_with('!') {
-            continue;
-        }
-        if let Some(close) = tag.strip_prefix('/') {
-            assert_eq!(
-                stack.pop().as_deref(),
-                Some(close.trim()),
-                "mismatched </{close}>"
-            );
-            continue;
-        }
-        let name: String = tag
-            .chars()
-            .take_while(|c| !c.is_whitespace() && *c != '/')
-            .collect();
-        if names.is_empty() {
-            assert_eq!(name, "svg", "root element");
-        }
-        names.push(name.clone());
-        if !tag.ends_with('/') {
-            stack.push(name);
-        }
-    }
-    assert!(stack.is_empty(), "unclosed elements {stack:?}");
-    (names, texts)
-}
-
-/// Decodes a PNG; returns (width, height, share of pixels that are not white).
-fn png_info(path: &Path) -> (u32, u32, f64) {
-    let bytes = std::fs::read(path).unwrap();
-    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "PNG signature");
-    let decoder = png::Decoder::new(std::io::Cursor::new(bytes));
-    let mut reader = decoder.read_info().unwrap();
-    let mut buf = vec![0; reader.output_buffer_size()];
-    let info = reader.next_frame(&mut buf).unwrap();
-    let px = info.color_type.samples();
-    let data = &buf[..info.buffer_size()];
-    let n = data.len() / px;
-    let dark = data
-        .chunks(px)
-        .filter(|p| p.iter().take(3).any(|&v| v < 250))
-        .count();
-    (info.width, info.height, dark as f64 / n as f64)
-}
 
 #[test]
 fn report_writes_tables_summary_and_figures() {
@@ -102,49 +42,93 @@ fn report_writes_tables_summary_and_figures() {
     let (_, rows) = read_csv(&out.join("turns.csv"));
     assert_eq!(rows.len(), 2);
 
-    // Epoch histograms: 3 epochs × 2 frames, each with 4 direction labels and a stats line.
-    let svg = std::fs::read_to_string(out.join("epoch_histograms.svg")).unwrap();
-    let (names, texts) = xml_elements(&svg);
     let count = |t: &[String], s: &str| t.iter().filter(|x| x.contains(s)).count();
-    assert_eq!(count(&texts, "arena frame"), 3);
-    assert_eq!(count(&texts, "world frame"), 3);
-    assert_eq!(count(&texts, "mean="), 6);
-    assert_eq!(texts.iter().filter(|t| *t == "N").count(), 3);
-    assert_eq!(texts.iter().filter(|t| *t == "0 mark").count(), 3);
-    // One filled wedge per non-empty 10° bin: the ±27° wobble fills several bins per panel.
+    let exact = |t: &[String], s: &str| t.iter().filter(|x| *x == s).count();
+    for name in [
+        "heading_trace_2col",
+        "epoch_roses_2col",
+        "sun_relative_1col",
+        "turn_responses_1col",
+    ] {
+        check_print_figure(&out, name);
+    }
+
+    // Epoch roses: 3 epochs × 2 frames in one grid (5 per row: one row per frame, not a strip
+    // of 6 rows), each rose with its compass labels and n, r and mean below it.
+    let svg = std::fs::read_to_string(out.join("epoch_roses_2col.svg")).unwrap();
+    let (names, texts) = xml_elements(&svg);
+    assert_eq!(exact(&texts, "E1 open sky"), 2);
+    assert_eq!(exact(&texts, "E2 diffuser"), 2);
+    assert_eq!(count(&texts, "mean "), 6);
+    assert_eq!(count(&texts, "r = "), 6);
+    assert_eq!(exact(&texts, "N"), 3);
+    assert_eq!(exact(&texts, "0 mark"), 3);
+    assert_eq!(exact(&texts, "World frame (0 = true north)"), 1);
+    assert_eq!(exact(&texts, "Arena frame (0 = arena mark)"), 1);
+    // Rings labelled with their count of samples: 280 scored samples per epoch in ±27°, so
+    // the fullest 10° bin holds fewer than 280 and the outer ring is a round number above it.
+    let rings: Vec<f64> = texts.iter().filter_map(|t| t.parse().ok()).collect();
+    assert!(rings.iter().any(|r| *r > 20.0 && *r <= 500.0), "{rings:?}");
+    // One filled wedge per non-empty 10° bin: the ±27° wobble fills several bins per rose.
     let polygons = names.iter().filter(|n| *n == "polygon").count();
     assert!(polygons >= 6 * 4, "{polygons} wedges");
+    let (_, rose_h) = support::figures::svg_size(&svg).0;
+    assert!(
+        rose_h < 120.0,
+        "a compact grid, not a strip: {rose_h} mm high"
+    );
 
-    let svg = std::fs::read_to_string(out.join("heading_trace.svg")).unwrap();
+    // Heading trace: y ticks at exactly 0/90/180/270/360 in both panels, the legend in its own
+    // strip above the data.
+    let svg = std::fs::read_to_string(out.join("heading_trace_2col.svg")).unwrap();
     let (_, texts) = xml_elements(&svg);
-    assert_eq!(count(&texts, "time since start (min)"), 2);
-    assert_eq!(count(&texts, "world heading (° from true north)"), 1);
-    assert_eq!(count(&texts, "arena heading (° from arena mark)"), 1);
-    assert_eq!(count(&texts, "turn +90°"), 4, "2 turns × 2 panels");
-    assert_eq!(count(&texts, "E2 diffuser"), 1);
-    assert!(texts.iter().any(|t| t == "not scored"));
+    for tick in ["0", "90", "180", "270", "360"] {
+        assert!(exact(&texts, tick) >= 2, "y tick {tick}: {texts:?}");
+    }
+    assert_eq!(count(&texts, "time since start (min)"), 1);
+    assert_eq!(count(&texts, "world heading (° from N)"), 1);
+    assert_eq!(count(&texts, "arena heading (° from 0 mark)"), 1);
+    assert_eq!(exact(&texts, "turn +90°"), 2, "2 turns, labelled once");
+    assert_eq!(exact(&texts, "E2 diffuser"), 1);
+    let layout = skybearing::analysis::figures::report::trace_layout();
+    for p in &layout.panels {
+        assert!(!layout.legend.intersects(p), "{layout:?}");
+    }
+    for label in [
+        "scored sample",
+        "sample not scored",
+        "not scored (settle, turn, flight stop)",
+        "arena turn",
+    ] {
+        let ys = text_y(&svg, label);
+        assert_eq!(ys.len(), 1, "{label}");
+        assert!(
+            ys[0] >= layout.legend.y0 as f64 && ys[0] < layout.legend.y1 as f64,
+            "legend entry {label} at y {} outside the legend strip {:?}",
+            ys[0],
+            layout.legend
+        );
+        assert!(ys[0] < layout.panels[0].y0 as f64);
+    }
 
-    let svg = std::fs::read_to_string(out.join("turn_responses.svg")).unwrap();
+    let svg = std::fs::read_to_string(out.join("turn_responses_1col.svg")).unwrap();
     let (names, texts) = xml_elements(&svg);
     assert_eq!(count(&texts, "arena turn (°, clockwise +)"), 1);
-    assert_eq!(count(&texts, "heading shift across the turn (°)"), 1);
-    // 2 turns: 2 circles (world) + the legend's circle.
-    assert_eq!(names.iter().filter(|n| *n == "circle").count(), 3);
-
-    let svg = std::fs::read_to_string(out.join("sun_relative.svg")).unwrap();
-    let (_, texts) = xml_elements(&svg);
-    assert_eq!(texts.iter().filter(|t| *t == "sun").count(), 1);
-
-    for (name, w, h) in [
-        ("epoch_histograms", 900, 1320),
-        ("heading_trace", 1400, 900),
-        ("sun_relative", 600, 620),
-        ("turn_responses", 800, 760),
-    ] {
-        let (pw, ph, ink) = png_info(&out.join(format!("{name}.png")));
-        assert_eq!((pw, ph), (w, h), "{name}");
-        assert!(ink > 0.01 && ink < 0.6, "{name}: {ink} of pixels drawn");
+    assert_eq!(count(&texts, "world heading shift (°)"), 1);
+    assert_eq!(exact(&texts, "world heading kept: shift = 0"), 1);
+    assert_eq!(exact(&texts, "arena heading kept: shift = turn"), 1);
+    for tick in ["-180", "-90", "0", "90", "180"] {
+        assert_eq!(exact(&texts, tick), 2, "tick {tick} on both axes");
     }
+    // 2 turns and the legend's marker, each a filled circle with its outline.
+    assert_eq!(names.iter().filter(|n| *n == "circle").count(), 2 * 3);
+    let layout = skybearing::analysis::figures::report::turns_layout();
+    let ys = text_y(&svg, "one turn");
+    assert!(ys[0] < layout.panels[0].y0 as f64, "{ys:?} {layout:?}");
+
+    let svg = std::fs::read_to_string(out.join("sun_relative_1col.svg")).unwrap();
+    let (_, texts) = xml_elements(&svg);
+    assert_eq!(exact(&texts, "sun"), 1);
 }
 
 #[test]

@@ -834,3 +834,34 @@ fn epoch_table_shows_p_held_from_the_snapshot() {
         dump(&lines)
     );
 }
+
+#[test]
+fn a_gps_note_stands_beside_the_site_and_a_clock_warning_is_flagged() {
+    let mut snap = SnapshotBuilder::new().build();
+    snap.site_note = Some(skybearing::rig::gps::SiteNote {
+        text: "GPS; laptop clock +3.5 s off".into(),
+        warning: true,
+    });
+    let ui = UiState::default();
+    for (w, h) in [(80, 24), (160, 48)] {
+        let lines = screen(&snap, &ui, w, h);
+        let y = must_find(&lines, "Larkfield Meadow (demo)");
+        let buf = buffer(&snap, &ui, w, h);
+        let x = lines[y].find("GPS; laptop clock +3.5 s off");
+        let x = x.unwrap_or_else(|| panic!("no note at {w}x{h}:\n{}", dump(&lines)));
+        // Flagged: reverse video in every theme (theme.flag).
+        let col = lines[y][..x].chars().count() as u16;
+        let cell = &buf[(col, y as u16)];
+        assert!(
+            cell.bg != Color::Reset || cell.modifier.contains(Modifier::REVERSED),
+            "the clock warning is not flagged at {w}x{h}: {cell:?}"
+        );
+    }
+    // A fix with a good clock: the plain word.
+    snap.site_note = Some(skybearing::rig::gps::SiteNote {
+        text: "GPS".into(),
+        warning: false,
+    });
+    let lines = screen(&snap, &ui, 80, 24);
+    must_find(&lines, "Larkfield Meadow (demo) GPS");
+}

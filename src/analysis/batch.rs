@@ -316,6 +316,7 @@ pub const SESSION_COLUMNS: &[&str] = &[
     "site_longitude_deg",
     "site_elevation_m",
     "time_zone",
+    "rig",
 ];
 
 /// Columns of `epochs.csv`.
@@ -405,6 +406,11 @@ pub fn sessions_table(sessions: &[SessionStats]) -> Table {
                 .meta
                 .as_ref()
                 .map_or(Cell::Empty, |m| m.time_zone.as_str().into()),
+            s.info
+                .meta
+                .as_ref()
+                .and_then(|m| m.rig.get("name").and_then(|v| v.as_str()))
+                .map_or(Cell::Empty, Cell::from),
         ]);
     }
     t
@@ -492,16 +498,18 @@ fn epoch_cue(s: &SessionStats, index: usize) -> crate::archive::cue_scores::Epoc
         .unwrap_or_default()
 }
 
+/// The turns `turns.csv` lists: those between adjacent epochs (after a condition filter,
+/// consecutive kept epochs may not be adjacent).
+pub fn listed_turns(s: &SessionStats) -> impl Iterator<Item = &super::session::TurnStats> {
+    s.turns.iter().filter(|tr| tr.to_epoch == tr.from_epoch + 1)
+}
+
 /// `turns.csv` (a turn is listed when both its epochs are kept).
 pub fn turns_table(sessions: &[SessionStats]) -> Table {
     let mut t = Table::new(TURN_COLUMNS);
     for s in sessions {
         let animal = animal_key(s);
-        for tr in &s.turns {
-            // After a condition filter, consecutive kept epochs may not be adjacent.
-            if tr.to_epoch != tr.from_epoch + 1 {
-                continue;
-            }
+        for tr in listed_turns(s) {
             let cond = |i: usize| {
                 s.epochs
                     .iter()
@@ -579,7 +587,8 @@ pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, Ana
     std::fs::create_dir_all(out).map_err(|e| AnalysisError::io(out, e))?;
     let refs: Vec<&SessionStats> = result.sessions.iter().collect();
     let vectors = animal_vectors(&refs);
-    let (paired, changes) = paired_tables(&vectors, &protocol_order(&refs));
+    let order = protocol_order(&refs);
+    let (paired, changes) = paired_tables(&vectors, &order);
     let tables: Vec<(&str, Table)> = vec![
         ("sessions.csv", sessions_table(&result.sessions)),
         ("epochs.csv", epochs_table(&result.sessions)),
@@ -599,5 +608,11 @@ pub fn write_tables(result: &BatchResult, out: &Path) -> Result<Vec<String>, Ana
         t.write(&out.join(name))?;
         names.push(name.to_string());
     }
+    let turns: Vec<(&SessionStats, f64, f64)> = refs
+        .iter()
+        .flat_map(|s| listed_turns(s).filter_map(|t| Some((*s, t.turn_deg?, t.world_shift_deg?))))
+        .collect();
+    super::figures::write_batch_figures(&out.join("figures"), &refs, &vectors, &order, &turns)?;
+    names.push("figures/".to_string());
     Ok(names)
 }

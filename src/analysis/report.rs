@@ -83,26 +83,22 @@ fn figure_data(stats: &SessionStats, trace: &[TracePoint]) -> FigureData {
                 .map(f)
                 .collect()
         };
-        let cond = if e.condition.is_empty() {
-            String::new()
-        } else {
-            format!(" ({})", e.condition)
-        };
+        let title = format!("E{} {}", e.index, e.condition).trim().to_string();
         data.epoch_panels.push((
             CircularPanel {
-                title: format!("Epoch {}{} - arena frame", e.index, cond),
+                title: title.clone(),
                 headings_deg: pick(|p| p.arena),
                 zero_label: "0 mark".into(),
             },
             CircularPanel {
-                title: format!("Epoch {}{} - world frame", e.index, cond),
+                title,
                 headings_deg: pick(|p| p.world),
                 zero_label: "N".into(),
             },
         ));
     }
     data.sun = CircularPanel {
-        title: "Sun-relative heading (scored samples)".into(),
+        title: "Sun-relative heading, scored samples".into(),
         headings_deg: trace.iter().filter(|p| p.scored).map(|p| p.sun).collect(),
         zero_label: "sun".into(),
     };

@@ -484,9 +484,23 @@ pub fn new_session_id(
     site_name: &str,
     animal: &str,
 ) -> Result<String, ArchiveError> {
+    new_rig_session_id(sessions_dir, date, site_name, None, animal)
+}
+
+/// [`new_session_id`] for a named rig: `<date>_<site slug>_<rig>_<animal>_<NNN>`, so sessions
+/// of rigs run side by side (the same day, site and animal id) never share an id, even when
+/// their archives are merged later. Without a rig name, the id of [`new_session_id`].
+pub fn new_rig_session_id(
+    sessions_dir: &Path,
+    date: NaiveDate,
+    site_name: &str,
+    rig_name: Option<&str>,
+    animal: &str,
+) -> Result<String, ArchiveError> {
     validate_animal_id(animal)?;
+    let rig = rig_name.map(|r| format!("_{r}")).unwrap_or_default();
     let prefix = format!(
-        "{}_{}_{}",
+        "{}_{}{rig}_{}",
         date.format("%Y-%m-%d"),
         site_slug(site_name),
         animal
@@ -563,6 +577,10 @@ pub struct SiteMeta {
     pub longitude_deg: f64,
     /// Elevation above sea level, metres.
     pub elevation_m: f64,
+    /// Where the coordinates came from: "gps" (a fix at the session start), "rig_file" or
+    /// "built_in" (the demo rig). `None` in sessions written before it was recorded.
+    #[serde(default)]
+    pub source: Option<String>,
 }
 
 /// `session.json`: everything about a session except its samples and events.
@@ -614,6 +632,14 @@ pub struct SessionMeta {
     /// Notes taken during the session.
     #[serde(default)]
     pub notes: u64,
+    /// The laptop clock minus GPS time at the start, seconds (positive: the laptop was
+    /// ahead); `None` when no GPS fix measured it.
+    #[serde(default)]
+    pub clock_offset_s: Option<f64>,
+    /// What the rig's GPS gave at the start ([`crate::rig::gps::GpsStart`]); absent for a rig
+    /// without `[gps]`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gps: Option<serde_json::Value>,
 }
 
 impl SessionMeta {
@@ -751,6 +777,10 @@ mod tests {
         let id2 = new_session_id(&sessions, date, "Larkfield Meadow", "lm-07").unwrap();
         assert_eq!(id2, "2026-06-14_larkfield-meadow_lm-07_006");
         assert!(new_session_id(&sessions, date, "x", "../x").is_err());
+        // A named rig puts its name between the site and the animal; its counter is its own.
+        let named = new_rig_session_id(&sessions, date, "Larkfield Meadow", Some("rig-2"), "lm-07")
+            .unwrap();
+        assert_eq!(named, "2026-06-14_larkfield-meadow_rig-2_lm-07_001");
     }
 
     #[test]

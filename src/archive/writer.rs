@@ -402,6 +402,7 @@ pub(crate) mod tests {
                 latitude_deg: 52.1,
                 longitude_deg: 0.4,
                 elevation_m: 30.0,
+                source: None,
             },
             time_zone: "UTC".into(),
             arena_mark_bearing_deg: 12.5,
@@ -429,6 +430,8 @@ pub(crate) mod tests {
             seed: Some(7),
             end_reason: None,
             notes: 0,
+            clock_offset_s: None,
+            gps: None,
         }
     }
 

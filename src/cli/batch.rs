@@ -15,8 +15,9 @@ use std::path::PathBuf;
 per-epoch statistics from samples.csv and writes tidy CSV tables: sessions.csv, epochs.csv, \
 turns.csv, population.csv (second-order tests, one row per condition), comparisons.csv \
 (Watson-Williams between conditions), paired.csv and paired_changes.csv (same animal, two \
-conditions, V-test toward no change), animals.csv (consistency across sessions) and \
-skipped.csv (folders left out, and why)."
+conditions, V-test toward no change), animals.csv (consistency across sessions), \
+skipped.csv (folders left out, and why) and figures/ (SVG and PNG for print: the animals' \
+vectors per condition and frame, paired changes, turn responses across animals)."
 )]
 pub struct BatchArgs {
     /// Session folders, or folders holding session folders.

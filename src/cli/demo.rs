@@ -199,6 +199,7 @@ pub fn run(args: DemoArgs) -> anyhow::Result<i32> {
         speed: args.speed,
         seed: Some(args.seed),
         extra: serde_json::json!({ "simulator": sim_settings }),
+        gps: None,
     };
     for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
         eprintln!("skybearing: warning: {w}");

@@ -7,6 +7,7 @@ pub mod launch;
 pub mod plan;
 pub mod report;
 pub mod rig;
+pub mod rigs;
 pub mod run;
 pub mod sim;
 pub mod stats;

@@ -9,9 +9,10 @@ use std::path::PathBuf;
 #[derive(Debug, Args)]
 #[command(
     long_about = "Recomputes one session's statistics from samples.csv and writes epochs.csv, \
-turns.csv, session.csv, summary.txt (also printed) and figures as SVG and PNG: \
-epoch_histograms (arena and world frame per epoch), heading_trace (turns and not-scored \
-stretches marked), sun_relative and turn_responses."
+turns.csv, session.csv, notes.csv, summary.txt (also printed) and figures for print as SVG \
+and PNG (300 dpi; _1col 85 mm or _2col 180 mm wide): heading_trace_2col (turns and \
+not-scored stretches marked), epoch_roses_2col (world and arena frame per epoch), \
+sun_relative_1col and turn_responses_1col."
 )]
 pub struct ReportArgs {
     /// The session folder.

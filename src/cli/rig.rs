@@ -71,6 +71,13 @@ pub fn run(args: RigArgs) -> anyhow::Result<i32> {
                 drop(crate::rig::polarizer::open_polarizer(&rig, clock)?);
             }
             print!("{}", describe_rig(&file.display().to_string(), &rig));
+            // --open with a GPS: read it as a session start would, and say what it gave.
+            if open && let Some(g) = &rig.gps {
+                let start = crate::rig::gps::acquire(g, &rig.site, &rig.source_name);
+                for (kind, detail) in start.events() {
+                    println!("  {kind}: {detail}");
+                }
+            }
             Ok(0)
         }
     }
@@ -84,7 +91,7 @@ pub fn describe_rig(file: &str, rig: &Rig) -> String {
         BearingReference::True => "true",
     };
     format!(
-        "{file}: ok\n  site       {} ({:.4}, {:.4}, {} m), time zone {}\n  arena      0 mark at {} deg {reference}\n  sensor     {}\n  turntable  {}\n{}  sessions   {}\n",
+        "{file}: ok\n  site       {} ({:.4}, {:.4}, {} m), time zone {}\n  arena      0 mark at {} deg {reference}\n  sensor     {}\n  turntable  {}\n{}{}  sessions   {}\n",
         site.name,
         site.latitude_deg,
         site.longitude_deg,
@@ -106,6 +113,15 @@ pub fn describe_rig(file: &str, rig: &Rig) -> String {
             }) => format!(
                 "  polarizer  serial port {} at {baud} baud, reply within {timeout_s} s\n",
                 path.display()
+            ),
+        },
+        match &rig.gps {
+            None => String::new(),
+            Some(g) => format!(
+                "  gps        serial port {} at {} baud: site and UTC from its fix, awaited up to {} s at each start (else the site above)\n",
+                g.path.display(),
+                g.baud,
+                g.wait_s
             ),
         },
         rig.sessions_dir.display(),

@@ -8,28 +8,31 @@ use crate::rig::config::{ReplayPace, Rig, SensorSource};
 use anyhow::Context;
 use chrono::{DateTime, SubsecRound, Utc};
 use clap::Args;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
 /// Flags of `skybearing run`.
 #[derive(Debug, Args)]
 pub struct RunArgs {
-    /// Rig file (TOML; `skybearing rig init FILE` writes a template).
-    #[arg(long)]
-    pub rig: PathBuf,
+    /// Rig file (TOML; `skybearing rig init FILE` writes a template). Repeat `--rig FILE
+    /// --animal ID` to run several rigs at once from this one process (the first animal on the
+    /// first rig, and so on); each such rig file needs its own `name`.
+    #[arg(long, required = true)]
+    pub rig: Vec<PathBuf>,
     /// Protocol file (TOML; see protocols/).
     #[arg(long)]
     pub protocol: PathBuf,
     /// Animal id written into the archive (letters, digits, - _ .). Required: a session
     /// without the animal's own id cannot be told apart from the others later.
-    #[arg(long, value_name = "ID")]
-    pub animal: String,
+    #[arg(long, value_name = "ID", required = true)]
+    pub animal: Vec<String>,
     /// Sessions folder (default: the rig file's, else ./sessions).
     #[arg(long)]
     pub sessions: Option<PathBuf>,
     /// No screen: progress lines on stdout; operator words on stdin (ok, stop, fly, note TEXT,
     /// pause, resume, skip, end; at a turn prompt `cannot` = could not turn; `hand` = every
-    /// later turn by hand).
+    /// later turn by hand). With several rigs every line starts with `[RIG]`, and a word is
+    /// for one rig when it follows its name (`rig-2 ok`), for every rig otherwise.
     #[arg(long)]
     pub headless: bool,
     /// Monochrome screen (also when NO_COLOR is set).
@@ -50,8 +53,12 @@ pub struct RunArgs {
 
 /// Checks the flags of a replay at full speed against the rig; returns the UTC anchor and the
 /// rig with its replay paced by the file's own clock. `Ok(None)` for a live run.
-fn full_speed_replay(args: &RunArgs, rig: &Rig) -> anyhow::Result<Option<(DateTime<Utc>, Rig)>> {
-    let file = args.rig.display();
+fn full_speed_replay(
+    args: &RunArgs,
+    rig_file: &Path,
+    rig: &Rig,
+) -> anyhow::Result<Option<(DateTime<Utc>, Rig)>> {
+    let file = rig_file.display();
     match args.speed {
         Speed::Times(1.0) => {
             if args.start.is_some() {
@@ -90,25 +97,61 @@ fn full_speed_replay(args: &RunArgs, rig: &Rig) -> anyhow::Result<Option<(DateTi
     Ok(Some((start, rig)))
 }
 
-/// Runs the command; returns the exit status.
-pub fn run(args: RunArgs) -> anyhow::Result<i32> {
-    let mut rig = crate::rig::config::load_rig(&args.rig)?;
+/// One rig's session, ready to run: the engine, its devices and clock, and how to show it.
+pub struct Prepared {
+    /// The engine (its session folder not made yet).
+    pub engine: Engine,
+    /// The heading sensor.
+    pub sensor: Box<dyn crate::rig::HeadingSource>,
+    /// The turntable.
+    pub turntable: Box<dyn crate::rig::Turntable>,
+    /// The engine's own clock.
+    pub clock: EngineClock,
+    /// Confirm prompts at once (a replay at full speed).
+    pub auto_confirm_after_s: Option<f64>,
+    /// Standard input may carry operator words (false when the sensor reads it).
+    pub stdin_commands: bool,
+    /// The sun below the horizon during the session ([`crate::cli::launch::no_sun_warnings`]).
+    pub no_sun: Vec<String>,
+}
+
+/// Reads the rig file and the protocol, opens the devices and prepares the engine of one
+/// rig. `label` starts every warning (`"[rig-2] "` beside other rigs, else empty).
+pub fn prepare(
+    args: &RunArgs,
+    rig_file: &Path,
+    animal: &str,
+    label: &str,
+) -> anyhow::Result<Prepared> {
+    let mut rig = crate::rig::config::load_rig(rig_file)?;
     if args.headless && matches!(rig.sensor.source, SensorSource::Stdin) {
         eprintln!(
-            "skybearing: the sensor reads standard input, so operator words are not read from it; end with Ctrl-C"
+            "skybearing: {label}the sensor reads standard input, so operator words are not read from it; end with Ctrl-C"
         );
     }
     let (protocol, warnings) = crate::protocol::load_protocol(&args.protocol)?;
     for w in warnings {
-        eprintln!("skybearing: warning: {w}");
+        eprintln!("skybearing: warning: {label}{w}");
     }
     let sessions_dir = args
         .sessions
         .clone()
         .unwrap_or_else(|| rig.sessions_dir.clone());
-    let replay = full_speed_replay(&args, &rig)?;
+    let replay = full_speed_replay(args, rig_file, &rig)?;
     if let Some((_, r)) = &replay {
         rig = r.clone();
+    }
+    // A GPS in the rig file is read for at most gps.wait_s; its fix gives the site and the UTC
+    // (a replay keeps the rig file's: the recording was not made now).
+    let gps = match (&rig.gps, &replay) {
+        (Some(cfg), None) => Some(crate::rig::gps::acquire(cfg, &rig.site, &rig.source_name)),
+        _ => None,
+    };
+    if let Some(g) = &gps {
+        for w in g.warnings() {
+            eprintln!("skybearing: warning: {label}{w}");
+        }
+        rig.site = g.site();
     }
     // Live: the UTC anchor is read once, at session second 0; after that only the monotonic
     // clock stamps samples, so a wall-clock step cannot bend t_s. Replay at full speed: the
@@ -122,13 +165,14 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
             let c = RealClock::start();
             let shared: Arc<dyn Clock> = Arc::new(c.clone());
             (
-                Utc::now().trunc_subsecs(3),
+                crate::rig::gps::utc_now(gps.as_ref().and_then(|g| g.clock_offset_s()))
+                    .trunc_subsecs(3),
                 EngineClock::Real(Box::new(c)),
                 shared,
             )
         }
     };
-    let mut extra = serde_json::json!({ "rig_file": args.rig.display().to_string() });
+    let mut extra = serde_json::json!({ "rig_file": rig_file.display().to_string() });
     if replay.is_some() {
         extra["replay"] = serde_json::json!({
             "speed": "max",
@@ -138,7 +182,7 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
     }
     let setup = SessionSetup {
         mode: "run".into(),
-        animal: args.animal.clone(),
+        animal: animal.to_string(),
         sessions_dir,
         protocol,
         rig: rig.clone(),
@@ -146,38 +190,63 @@ pub fn run(args: RunArgs) -> anyhow::Result<i32> {
         speed: args.speed,
         seed: None,
         extra,
+        gps,
     };
     for w in super::launch::sun_view_warnings(&setup.protocol, &setup.rig, setup.start_utc) {
-        eprintln!("skybearing: warning: {w}");
+        eprintln!("skybearing: warning: {label}{w}");
     }
     let no_sun = crate::cli::launch::no_sun_warnings(&setup.protocol, &setup.rig, start_utc)?;
     let mut engine = Engine::new(setup)?;
     let sensor = crate::rig::open_sensor(&rig, shared.clone())
-        .with_context(|| format!("{}: sensor", args.rig.display()))?;
+        .with_context(|| format!("{}: sensor", rig_file.display()))?;
     let turntable: Box<dyn crate::rig::Turntable> = if replay.is_some() {
         Box::new(crate::rig::turntable::ReplayTurntable::default())
     } else {
         crate::rig::open_turntable(&rig, shared.clone())
-            .with_context(|| format!("{}: turntable", args.rig.display()))?
+            .with_context(|| format!("{}: turntable", rig_file.display()))?
     };
     // Re-scoring a recording: the filter axes are in the recording too; no polarizer is opened.
     if replay.is_none()
         && let Some(p) = crate::rig::polarizer::open_polarizer(&rig, shared)
-            .with_context(|| format!("{}: polarizer", args.rig.display()))?
+            .with_context(|| format!("{}: polarizer", rig_file.display()))?
     {
         engine = engine.with_polarizer(p);
     }
-    let outcome = launch(
+    Ok(Prepared {
         engine,
         sensor,
         turntable,
         clock,
+        auto_confirm_after_s: replay.as_ref().map(|_| 0.0),
+        stdin_commands: !matches!(rig.sensor.source, SensorSource::Stdin),
+        no_sun,
+    })
+}
+
+/// Runs the command; returns the exit status.
+pub fn run(args: RunArgs) -> anyhow::Result<i32> {
+    if args.rig.len() != args.animal.len() {
+        anyhow::bail!(
+            "{} --rig and {} --animal: give them in pairs, one animal per rig (the first animal on the first rig, and so on)",
+            args.rig.len(),
+            args.animal.len()
+        );
+    }
+    if args.rig.len() > 1 {
+        return super::rigs::run_rigs(&args);
+    }
+    let p = prepare(&args, &args.rig[0], &args.animal[0], "")?;
+    let outcome = launch(
+        p.engine,
+        p.sensor,
+        p.turntable,
+        p.clock,
         Display {
             headless: args.headless,
             mono: args.mono,
-            auto_confirm_after_s: replay.as_ref().map(|_| 0.0),
-            stdin_commands: !matches!(rig.sensor.source, SensorSource::Stdin),
-            no_sun,
+            auto_confirm_after_s: p.auto_confirm_after_s,
+            stdin_commands: p.stdin_commands,
+            no_sun: p.no_sun,
             allow_no_sun: args.allow_no_sun,
         },
         None,

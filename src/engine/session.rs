@@ -103,7 +103,13 @@ impl Engine {
                 duration_s: e.duration_s,
             })
             .collect();
-        let id = archive::new_session_id(&setup.sessions_dir, date, &site.name, &setup.animal)?;
+        let id = archive::new_rig_session_id(
+            &setup.sessions_dir,
+            date,
+            &site.name,
+            setup.rig.name.as_deref(),
+            &setup.animal,
+        )?;
         let meta = setup.session_meta(id, mark_true_deg, declination, &planned);
         Ok(Self {
             meta,
@@ -376,6 +382,9 @@ struct Buffers {
 /// Event kinds that also go to the progress output.
 const PROGRESS_KINDS: &[&str] = &[
     "session_start",
+    "gps_fix",
+    "gps_no_fix",
+    "clock_offset",
     "epoch_start",
     "turn_done",
     "turn_fault",
@@ -463,6 +472,15 @@ impl Engine {
                 self.turntable_desc
             ),
         )?;
+        let gps_events = self
+            .setup
+            .gps
+            .as_ref()
+            .map(|g| g.events())
+            .unwrap_or_default();
+        for (kind, detail) in gps_events {
+            self.event(0.0, kind, detail)?;
+        }
         self.begin_epoch(0, 0.0, false)?;
         self.drive_turn(turntable)?;
 

@@ -74,6 +74,9 @@ pub struct SessionSetup {
     pub seed: Option<u64>,
     /// Extra fields to record in session.json (simulator settings...).
     pub extra: serde_json::Value,
+    /// What the rig's GPS gave at the start (`run` with a `[gps]` section); with a fix,
+    /// `rig.site` and `start_utc` already come from it.
+    pub gps: Option<crate::rig::gps::GpsStart>,
 }
 
 impl SessionSetup {
@@ -131,6 +134,7 @@ impl SessionSetup {
                 latitude_deg: site.latitude_deg,
                 longitude_deg: site.longitude_deg,
                 elevation_m: site.elevation_m,
+                source: Some(self.site_source().into()),
             },
             time_zone: self.rig.time_zone.clone(),
             arena_mark_bearing_deg: mark_true_deg,
@@ -156,6 +160,19 @@ impl SessionSetup {
             seed: self.seed,
             end_reason: None,
             notes: 0,
+            clock_offset_s: self.gps.as_ref().and_then(|g| g.clock_offset_s()),
+            gps: self.gps.as_ref().and_then(|g| serde_json::to_value(g).ok()),
+        }
+    }
+
+    /// Where the site's coordinates come from (`site.source` in session.json).
+    pub fn site_source(&self) -> &'static str {
+        if self.gps.as_ref().is_some_and(|g| g.fix.is_some()) {
+            "gps"
+        } else if self.rig.source_name == crate::rig::config::demo_rig().source_name {
+            "built_in"
+        } else {
+            "rig_file"
         }
     }
 }

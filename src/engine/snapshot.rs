@@ -312,6 +312,9 @@ pub struct Snapshot {
     pub animal: String,
     /// Site name.
     pub site_name: String,
+    /// Where the site and the UTC came from, shown beside the site name: `None` for a rig
+    /// without a GPS ([`crate::rig::gps::GpsStart::note`]).
+    pub site_note: Option<crate::rig::gps::SiteNote>,
     /// Protocol name.
     pub protocol_name: String,
     /// UTC now (anchor + monotonic).

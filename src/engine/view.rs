@@ -173,6 +173,7 @@ impl Engine {
             session_dir: self.session_dir(),
             animal: self.setup.animal.clone(),
             site_name: self.setup.rig.site.name.clone(),
+            site_note: self.setup.gps.as_ref().map(|g| g.note()),
             protocol_name: self.setup.protocol.name.clone(),
             now_utc: self.stamper.utc_at(now),
             local_offset: self.local_offset,

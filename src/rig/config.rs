@@ -25,6 +25,9 @@ pub enum BearingReference {
 /// A checked rig, ready to open devices.
 #[derive(Debug, Clone, Serialize)]
 pub struct Rig {
+    /// The rig's own name (top-level `name`, optional; [`validate_rig_name`]): it goes into
+    /// session ids so that sessions of rigs run side by side never collide.
+    pub name: Option<String>,
     /// Where the rig stands.
     pub site: Site,
     /// Time zone for local display (IANA name such as "Europe/Paris").
@@ -46,6 +49,8 @@ pub struct Rig {
     pub turntable: TurntableConfig,
     /// The motorized polarizer that sets a filter's axis between epochs, if the rig has one.
     pub polarizer: Option<PolarizerConfig>,
+    /// A GPS receiver read at session start for the site and the UTC (`[gps]`, optional).
+    pub gps: Option<super::gps::GpsConfig>,
     /// The file the rig was read from (for error messages), "built-in demo rig" otherwise.
     #[serde(skip)]
     pub source_name: String,
@@ -232,11 +237,13 @@ type S<T> = Spanned<T>;
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawRig {
+    name: Option<S<String>>,
     site: Option<S<RawSite>>,
     arena: Option<S<RawArena>>,
     sensor: Option<S<RawSensor>>,
     turntable: Option<S<RawTurntable>>,
     polarizer: Option<S<RawTurntable>>,
+    gps: Option<S<RawGps>>,
     settle_s: Option<S<toml::Value>>,
     sessions_dir: Option<S<String>>,
 }
@@ -285,6 +292,14 @@ struct RawTurntable {
     path: Option<S<String>>,
     baud: Option<S<i64>>,
     timeout_s: Option<S<f64>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawGps {
+    path: Option<S<String>>,
+    baud: Option<S<i64>>,
+    wait_s: Option<S<f64>>,
 }
 
 mod checker;
@@ -668,6 +683,25 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         }
     };
 
+    // [gps] (optional): a serial NMEA 0183 receiver.
+    let gps = match raw.gps.as_ref() {
+        None => None,
+        Some(g_s) => {
+            let at = g_s.span().start;
+            let g = g_s.get_ref();
+            let p = c.req(&g.path, at, "gps.path")?;
+            Some(super::gps::GpsConfig {
+                path: c.path(p, "gps.path")?,
+                baud: c.baud(c.req(&g.baud, at, "gps.baud")?, "gps.baud")?,
+                wait_s: match &g.wait_s {
+                    None => super::gps::DEFAULT_WAIT_S,
+                    Some(v) => c.range(v, "gps.wait_s", 0.0, 600.0)?,
+                },
+                path_line: Some(line_of(text, p.span().start)),
+            })
+        }
+    };
+
     if let Some(v) = &raw.settle_s {
         return Err(c.err(
             v.span().start,
@@ -675,12 +709,21 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
             "not a rig setting: the settle window is the protocol's settle_s (required in every protocol file)",
         ));
     }
+    let rig_name = match &raw.name {
+        None => None,
+        Some(v) => Some(
+            validate_rig_name(v.get_ref())
+                .map_err(|why| c.err(v.span().start, "name", why))?
+                .to_string(),
+        ),
+    };
     let sessions_dir = match &raw.sessions_dir {
         None => PathBuf::from("sessions"),
         Some(v) => c.path(v, "sessions_dir")?,
     };
 
     Ok(Rig {
+        name: rig_name,
         site: Site {
             name: name.get_ref().clone(),
             latitude_deg,
@@ -705,14 +748,39 @@ fn check(raw: RawRig, text: &str, file: &str) -> Result<Rig, RigFileError> {
         },
         turntable,
         polarizer,
+        gps,
         source_name: file.to_string(),
     })
+}
+
+/// Longest rig name, characters (it is part of every session id of the rig).
+pub const RIG_NAME_MAX_LEN: usize = 24;
+
+/// Checks a rig name: 1 to [`RIG_NAME_MAX_LEN`] ASCII letters, digits and `-`, starting with a
+/// letter or digit, so it is safe in a folder name and keeps the `_`-separated fields of a
+/// session id apart. Returns the name, or why it is refused.
+pub fn validate_rig_name(name: &str) -> Result<&str, String> {
+    let ok_chars = name
+        .chars()
+        .all(|ch| ch.is_ascii_alphanumeric() || ch == '-');
+    let first_ok = name
+        .chars()
+        .next()
+        .is_some_and(|ch| ch.is_ascii_alphanumeric());
+    if name.len() > RIG_NAME_MAX_LEN || !ok_chars || !first_ok {
+        return Err(format!(
+            "\"{}\" is not a rig name: 1 to {RIG_NAME_MAX_LEN} ASCII letters, digits and '-', starting with a letter or digit (such as \"rig-2\"); it becomes part of every session id",
+            name.escape_debug()
+        ));
+    }
+    Ok(name)
 }
 
 /// The built-in demo rig: the demo site, time zone Europe/Paris, arena mark at true 0,
 /// simulated sensor and turntable.
 pub fn demo_rig() -> Rig {
     Rig {
+        name: None,
         site: crate::sky::demo_site(),
         time_zone: "Europe/Paris".to_string(),
         arena_mark_bearing_deg: 0.0,
@@ -731,6 +799,7 @@ pub fn demo_rig() -> Rig {
         },
         turntable: TurntableConfig::Sim,
         polarizer: None,
+        gps: None,
         source_name: "built-in demo rig".to_string(),
     }
 }

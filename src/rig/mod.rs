@@ -7,6 +7,8 @@
 
 pub mod config;
 pub mod decoder;
+pub mod gps;
+pub mod nmea;
 pub mod polarizer;
 pub mod pty;
 pub mod sim;

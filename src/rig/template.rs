@@ -16,9 +16,9 @@ pub const TEMPLATE: &str = r#"# skybearing rig file: the hardware set-up for tet
 
 # Where session folders go (relative to the directory you run skybearing from).
 sessions_dir = "sessions"
+# name = "rig-1"                     # optional: 1-24 letters, digits, '-'; part of session ids
 # The settle window after each turn is not a rig setting: every protocol file sets its own
-# settle_s (required there, see docs/protocols.md), and sessions use the protocol's value.
-# The same rig can thus run protocols with different settle windows.
+# settle_s (required there, see docs/protocols.md), so one rig runs protocols with any.
 
 [site]
 name = "FILL IN"                     # REQUIRED: a name for people
@@ -82,6 +82,16 @@ kind = "manual"                      # REQUIRED
 # path = "/dev/ttyACM1"
 # baud = 115200
 # timeout_s = 30                     # wait for a reply, retry once, then fault
+
+# Optional: a GPS receiver sending NMEA 0183 (RMC and GGA sentences) on a serial port. At
+# each session start `run` reads it for at most wait_s seconds: a fix gives the session's
+# latitude, longitude, elevation and UTC (the site above keeps its name and is used when no
+# fix comes in time), and the laptop clock's offset from GPS time is recorded and warned
+# about beyond 1 s. The port is closed before the session's first sample.
+# [gps]
+# path = "/dev/ttyACM2"
+# baud = 9600                        # NMEA 0183 receivers: 4800 or 9600 usually
+# wait_s = 10.0                      # longest wait for a fix at session start, [0, 600]
 "#;
 
 /// The template with every placeholder filled in with the demo site's values (Larkfield

@@ -409,6 +409,107 @@ pub fn run_live(
     }
 }
 
+/// The live screen for several rigs ([`crate::tui::rigs`]): one snapshot cell and one command
+/// channel per rig, in the same order as `names`. Runs until every rig's session has ended,
+/// then shows the rows with every session's end until a key (or `options.final_frame_s`). A
+/// termination signal or a hung-up terminal ends every session properly first.
+pub fn run_live_rigs(
+    names: Vec<String>,
+    cells: Vec<SnapshotCell>,
+    commands: Vec<Sender<Command>>,
+    done: Vec<Arc<AtomicBool>>,
+    options: ScreenOptions,
+) -> anyhow::Result<()> {
+    let signals = signal_flags();
+    if let Some(s) = signals {
+        s.term_seen.store(false, Ordering::SeqCst);
+    }
+    let _signals_idle = SignalsIdle(signals);
+    let mut ui = crate::tui::rigs::RigsUi::new(names, options.starting_theme(no_color_requested()));
+    let (_guard, mut terminal) = TerminalGuard::enter()?;
+    let frame_dt = Duration::from_secs_f64(1.0 / f64::from(options.max_fps.clamp(1, 120)));
+    let final_frame = (options.final_frame_s.is_finite())
+        .then(|| Duration::from_secs_f64(options.final_frame_s.clamp(0.0, 3600.0)));
+    let mut ended_at: Option<Instant> = None;
+    let mut end_sent = false;
+    let mut flash_at = Instant::now();
+    // A rig whose engine has gone away (its channel closed) is not an error of the screen: the
+    // other rigs go on.
+    let send_to = |k: usize, c: Command| {
+        if let Some(tx) = commands.get(k) {
+            let _ = tx.send(c);
+        }
+    };
+    loop {
+        if !TERMINAL_ACTIVE.load(Ordering::SeqCst) {
+            return Err(anyhow!(
+                "the screen closed after a panic (see the message above)"
+            ));
+        }
+        if let Some(stop) = &options.stop
+            && stop.load(Ordering::SeqCst)
+        {
+            return Ok(());
+        }
+        let snaps: Vec<Option<Arc<Snapshot>>> = cells.iter().map(SnapshotCell::latest).collect();
+        // A rig whose engine stopped without an ended snapshot (an error) counts as ended.
+        ui.stopped = done.iter().map(|d| d.load(Ordering::SeqCst)).collect();
+        let all_ended = snaps
+            .iter()
+            .zip(&ui.stopped)
+            .all(|(s, &stopped)| stopped || s.as_ref().is_some_and(|s| s.ended));
+        if all_ended && ended_at.is_none() {
+            ended_at = Some(Instant::now());
+            ui.focus = None;
+        }
+        if let (Some(t), Some(f)) = (ended_at, final_frame)
+            && t.elapsed() >= f
+        {
+            return Ok(());
+        }
+        if ui.flash.is_some() && flash_at.elapsed() > Duration::from_secs(4) {
+            ui.flash = None;
+        }
+        for v in &mut ui.views {
+            v.tick(frame_dt.as_secs_f64());
+        }
+        let hung_up = terminal_hung_up();
+        let signalled = signals.is_some_and(|s| s.term_seen.load(Ordering::SeqCst));
+        if (hung_up || signalled) && !end_sent {
+            end_sent = true;
+            for k in 0..commands.len() {
+                send_to(k, Command::EndSession);
+            }
+        }
+        if hung_up {
+            if ended_at.is_some() {
+                return Ok(());
+            }
+            std::thread::sleep(frame_dt);
+            continue;
+        }
+        terminal
+            .draw(|f| crate::tui::rigs::draw_rigs(f, &snaps, &ui))
+            .context("cannot draw the screen")?;
+        wait_for_input(frame_dt);
+        while !terminal_hung_up()
+            && event::poll(Duration::ZERO).context("cannot read the keyboard")?
+        {
+            if let Event::Key(key) = event::read().context("cannot read the keyboard")?
+                && key.kind != KeyEventKind::Release
+            {
+                if ended_at.is_some() {
+                    return Ok(());
+                }
+                for (k, c) in ui.handle_key(key, &snaps) {
+                    send_to(k, c);
+                }
+                flash_at = Instant::now();
+            }
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -6,6 +6,8 @@
 //!   half-block dots) are the drawing helpers they share;
 //! - [`UiState::handle_key`] turns keys into [`Command`](crate::engine::snapshot::Command)s (a
 //!   pure state machine);
+//! - [`rigs`]: the same for several rigs run at once (a row per rig, one rig's full view
+//!   forward on a key, the asking rig named on every view), [`run_live_rigs`] its terminal loop;
 //! - [`run_live`] owns the terminal: raw mode, alternate screen, at most ~30 frames per second,
 //!   and restores the terminal on every exit path.
 
@@ -15,11 +17,12 @@ pub mod live;
 pub mod panels;
 pub mod raster;
 pub mod render;
+pub mod rigs;
 pub mod sample;
 pub mod state;
 pub mod theme;
 
-pub use live::{ScreenOptions, no_color_requested, run_live};
+pub use live::{ScreenOptions, no_color_requested, run_live, run_live_rigs};
 pub use render::draw;
 pub use state::{HeadingFrame, Mode, UiState};
 pub use theme::{Theme, ThemeKind};

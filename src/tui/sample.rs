@@ -273,6 +273,7 @@ impl SnapshotBuilder {
             session_dir: PathBuf::from("sessions").join(session_id),
             animal: "lm-07".to_string(),
             site_name: "Larkfield Meadow (demo)".to_string(),
+            site_note: None,
             protocol_name: "demo turns".to_string(),
             now_utc,
             local_offset,

@@ -3,14 +3,18 @@
 //!
 //! - this file: the binary under test, running it, reading what it wrote;
 //! - [`demo`]: headless demo sessions at a fixed start;
+//! - [`figures`]: checks of figures for print (size in mm at 300 dpi, type, palette);
 //! - [`sessions`]: session folders written through the archive's own writer (also used by
 //!   `benches/batch.rs`, so it stands alone), and CSV reading;
-//! - [`sim`]: `skybearing sim` on pseudo-terminals, and `run` against it.
+//! - [`sim`]: `skybearing sim` on pseudo-terminals, and `run` against it;
+//! - [`tmux`]: a private tmux server that runs the live screen, reads it and sends keys.
 #![allow(dead_code)]
 
 pub mod demo;
+pub mod figures;
 pub mod sessions;
 pub mod sim;
+pub mod tmux;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};

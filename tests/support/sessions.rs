@@ -26,6 +26,7 @@ pub fn session_meta(id: &str, epochs: Vec<PlannedEpoch>) -> SessionMeta {
             latitude_deg: 52.1,
             longitude_deg: 0.4,
             elevation_m: 30.0,
+            source: None,
         },
         time_zone: "UTC".into(),
         arena_mark_bearing_deg: 0.0,
@@ -40,6 +41,8 @@ pub fn session_meta(id: &str, epochs: Vec<PlannedEpoch>) -> SessionMeta {
         seed: None,
         end_reason: None,
         notes: 0,
+        clock_offset_s: None,
+        gps: None,
     }
 }
 

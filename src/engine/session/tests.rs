@@ -25,6 +25,7 @@ fn engine(dir: &std::path::Path, epochs: Vec<EpochPlan>, flight: FlightRules) ->
         speed: Speed::Max,
         seed: None,
         extra: serde_json::Value::Null,
+        gps: None,
     };
     Engine::new(setup).expect("engine")
 }

@@ -168,3 +168,71 @@ fn sky_view_limit_is_read_and_checked() {
         0.0
     );
 }
+
+#[test]
+fn gps_section_is_optional_read_and_checked_naming_file_line_field() {
+    assert_eq!(parse_rig(&good(), "rig.toml").unwrap().gps, None);
+    // The template's commented [gps] section, uncommented.
+    let with = good()
+        .replace("# [gps]", "[gps]")
+        .replace("# path = \"/dev/ttyACM2\"", "path = \"/dev/ttyACM2\"")
+        .replace("# baud = 9600 ", "baud = 9600 ")
+        .replace("# wait_s = 10.0 ", "wait_s = 10.0 ");
+    let line = with
+        .lines()
+        .position(|l| l.starts_with("path = \"/dev/ttyACM2\""))
+        .unwrap()
+        + 1;
+    let rig = parse_rig(&with, "rig.toml").unwrap();
+    assert_eq!(
+        rig.gps,
+        Some(crate::rig::gps::GpsConfig {
+            path: "/dev/ttyACM2".into(),
+            baud: 9600,
+            wait_s: 10.0,
+            path_line: Some(line),
+        })
+    );
+    let e = err(&with.replace("wait_s = 10.0 ", "wait_s = 900.0 "));
+    assert_eq!(
+        e,
+        format!("rig.toml:{}: gps.wait_s: 900 is outside [0, 600]", line + 2)
+    );
+    let e = err(&with.replace("baud = 9600 ", "# baud"));
+    assert_eq!(
+        e,
+        format!("rig.toml:{}: gps.baud: missing (required)", line - 1)
+    );
+    let e = err(&with.replace("wait_s = 10.0 ", "timeout = 1 "));
+    assert!(
+        e.starts_with(&format!("rig.toml:{}: gps.timeout: unknown key", line + 2)),
+        "{e}"
+    );
+    // Without wait_s: the default.
+    let rig = parse_rig(&with.replace("wait_s = 10.0 ", "# "), "rig.toml").unwrap();
+    assert_eq!(rig.gps.unwrap().wait_s, crate::rig::gps::DEFAULT_WAIT_S);
+}
+
+#[test]
+fn rig_name_is_optional_short_and_filesystem_safe() {
+    assert_eq!(parse_rig(&good(), "rig.toml").unwrap().name, None);
+    let named = format!("name = \"rig-2\"\n{}", good());
+    assert_eq!(
+        parse_rig(&named, "rig.toml").unwrap().name.as_deref(),
+        Some("rig-2")
+    );
+    // The template's commented line, uncommented, is a valid name.
+    let t = good().replace("# name = \"rig-1\"", "name = \"rig-1\"");
+    assert_eq!(
+        parse_rig(&t, "rig.toml").unwrap().name.as_deref(),
+        Some("rig-1")
+    );
+    for bad in ["", "rig 2", "rig_2", "../x", "-rig", "räg", &"r".repeat(25)] {
+        let e = err(&format!("name = \"{bad}\"\n{}", good()));
+        assert!(e.starts_with("rig.toml:1: name: \""), "{bad}: {e}");
+        assert!(e.contains("is not a rig name"), "{e}");
+    }
+    // The site's name is another field.
+    let e = err(&good().replace("name = \"Larkfield Meadow (demo)\"", "name = \"\""));
+    assert!(e.contains("site.name"), "{e}");
+}

@@ -17,6 +17,7 @@
 //! [`in_process_with_operator`] returns it.
 
 mod animal;
+pub mod gps;
 
 use super::config::DecoderConfig;
 use super::decoder::Pipeline;

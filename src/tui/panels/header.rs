@@ -80,7 +80,18 @@ fn session_items<'a>(snap: &'a Snapshot, theme: &Theme, wide: bool) -> Vec<Item<
             Span::styled("animal ", theme.base()),
             Span::styled(snap.animal.as_str(), theme.strong()),
         ],
-        vec![Span::styled(snap.site_name.as_str(), theme.strong())],
+        {
+            let mut site = vec![Span::styled(snap.site_name.as_str(), theme.strong())];
+            if let Some(n) = &snap.site_note {
+                site.push(Span::styled(" ", theme.base()));
+                site.push(if n.warning {
+                    Span::styled(format!(" {} ", n.text), theme.flag(theme.caution))
+                } else {
+                    Span::styled(n.text.clone(), theme.base())
+                });
+            }
+            site
+        },
         vec![
             Span::styled(local.format("%H:%M:%S").to_string(), theme.strong()),
             Span::styled(
