@@ -16,7 +16,18 @@ use serde::{Deserialize, Serialize};
 ///
 /// Plain modular reduction; the result is never 360.0 even when rounding would give it.
 pub fn wrap_360_deg(angle_deg: f64) -> f64 {
-    let w = angle_deg.rem_euclid(360.0);
+    // `rem_euclid` is `x % 360`, plus 360 when that is negative; for |x| < 360 the remainder
+    // is x itself (exactly), so the usual case needs no remainder call: the same arithmetic,
+    // the same result to the bit (checked in the tests).
+    let w = if angle_deg.abs() < 360.0 {
+        if angle_deg < 0.0 {
+            angle_deg + 360.0
+        } else {
+            angle_deg
+        }
+    } else {
+        angle_deg.rem_euclid(360.0)
+    };
     if w >= 360.0 { 0.0 } else { w }
 }
 
@@ -151,6 +162,44 @@ pub fn arena_bearing_after_rotation_deg(start_bearing_deg: f64, rotation_deg: f6
 mod tests {
     use super::*;
     use proptest::prelude::*;
+
+    #[test]
+    fn wrap_360_is_rem_euclid_to_the_bit() {
+        // The definition before the fast path, kept here as the reference.
+        let reference = |x: f64| {
+            let w = x.rem_euclid(360.0);
+            if w >= 360.0 { 0.0 } else { w }
+        };
+        let mut cases = vec![
+            0.0,
+            -0.0,
+            1e-300,
+            -1e-300,
+            -1e-14,
+            -5e-324,
+            359.999_999_999_999_94,
+            -359.999_999_999_999_94,
+            360.0,
+            -360.0,
+            720.0,
+            -720.5,
+            1e20,
+            -1e20,
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+        ];
+        let mut x = 0x9E37_79B9_7F4A_7C15u64;
+        for _ in 0..100_000 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            cases.push((x >> 11) as f64 / (1u64 << 53) as f64 * 1500.0 - 750.0);
+        }
+        for a in cases {
+            assert_eq!(wrap_360_deg(a).to_bits(), reference(a).to_bits(), "{a:e}");
+        }
+    }
 
     #[test]
     fn wraps_follow_the_conventions() {

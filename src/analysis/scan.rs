@@ -13,9 +13,10 @@
 //! parses every column of every row (t_utc, sun-relative heading, e-vector...). This scanner
 //! finds the needed columns by header name and reads the file 64 bytes at a time: byte
 //! compares mark the commas, newlines and quotes of a block at once, a walk over the marks
-//! notes where each field ends, and only the needed fields are parsed. A number in the
-//! archive's own form (`[-]digits[.digits]`, up to eight digits) is parsed without a loop
-//! and bit for bit as the archive's parser does; a field that repeats the row above it (the
+//! notes where each needed field ends (the commas after them are only counted), and only the
+//! needed fields are parsed. A number in the archive's own form (`[-]digits[.digits]`, up to
+//! fifteen digits, so also `t_s` with its six decimals) is parsed without a loop and bit for
+//! bit as the archive's parser does; a field that repeats the row above it (the
 //! sun's position, the arena's bearing, on any sensor) is not parsed again. It handles only
 //! the plain case: every line complete and unquoted, every needed field a plain number. On
 //! anything else it gives up with [`ScanOutcome::Fallback`], and the caller reads the file
@@ -86,8 +87,10 @@ const NEEDED: [&str; 9] = [
     "scored",
 ];
 
-/// Bytes read from the file at a time (a longer line doubles the buffer).
-const CHUNK: usize = 1 << 20;
+/// Bytes read from the file at a time (a longer line doubles the buffer): small enough that
+/// the kernel's copy into the buffer is still in the core's cache (1 MB of L2 on the build
+/// machine) when the scan reads it.
+const CHUNK: usize = 1 << 17;
 /// Bytes kept past the filled part of the buffer, so that a 64-byte block or a 16-byte field
 /// window that starts inside it never runs off its end (their bytes past the filled part are
 /// masked off).
@@ -230,29 +233,37 @@ impl Layout {
             {
                 return None;
             }
-            let mut seps = (commas | newlines) & valid;
-            while seps != 0 {
-                let bit = seps.trailing_zeros();
-                let at = base + bit as usize;
-                seps &= seps - 1;
-                if (newlines >> bit) & 1 == 0 {
-                    if col < self.need {
-                        bounds[(col + 1) & BOUNDS_MASK] = at;
-                    }
+            let (mut commas, mut newlines) = (commas & valid, newlines & valid);
+            loop {
+                // The current line's commas in this block: those before its newline (all of
+                // them when the line goes on past the block).
+                let nl = newlines.trailing_zeros();
+                let before = if nl < 64 { (1u64 << nl) - 1 } else { u64::MAX };
+                let mut line_commas = commas & before;
+                // Where the first `need` fields end is noted; the fields after are counted.
+                while line_commas != 0 && col < self.need {
+                    bounds[(col + 1) & BOUNDS_MASK] = base + line_commas.trailing_zeros() as usize;
+                    line_commas &= line_commas - 1;
                     col += 1;
-                } else {
-                    if col < self.need {
-                        let cr = at > line_start && buf[at - 1] == b'\r';
-                        bounds[(col + 1) & BOUNDS_MASK] = at - usize::from(cr);
-                    }
-                    if col + 1 != self.ncols {
-                        return None;
-                    }
-                    bounds[0] = line_start.wrapping_sub(1);
-                    emit(&self.row(buf, &bounds, memo)?);
-                    col = 0;
-                    line_start = at + 1;
                 }
+                col += line_commas.count_ones() as usize;
+                if nl >= 64 {
+                    break;
+                }
+                let at = base + nl as usize;
+                if col < self.need {
+                    let cr = at > line_start && buf[at - 1] == b'\r';
+                    bounds[(col + 1) & BOUNDS_MASK] = at - usize::from(cr);
+                }
+                if col + 1 != self.ncols {
+                    return None;
+                }
+                bounds[0] = line_start.wrapping_sub(1);
+                emit(&self.row(buf, &bounds, memo)?);
+                col = 0;
+                line_start = at + 1;
+                commas &= !before;
+                newlines &= newlines - 1;
             }
             base += 64;
         }
@@ -396,12 +407,14 @@ fn padded_words(buf: &[u8], start: usize) -> (u64, u64) {
     (word(lo), word(hi))
 }
 
-/// The archive's common number form, `[-]digits[.digits]` with one to eight digits, parsed
-/// without a loop: the digits are gathered into one 64-bit word and combined pairwise in
-/// three multiply-and-mask steps (the SWAR eight-digit parse, common practice in fast number
-/// parsers; the tests below check it against the archive's parser). The value is the same integer mantissa divided by the same power of ten
-/// as in the archive's parser, so the two agree bit for bit. `lo` and `hi` hold the field's
-/// bytes (see [`field_words`]), `len` its length; None for any other form.
+/// The archive's common number form, `[-]digits[.digits]` with one to fifteen digits, parsed
+/// without a loop: the field's sixteen bytes are two 64-bit words, the dot is taken out by a
+/// mask and a shift, and each word of up to eight digits is combined pairwise in three
+/// multiply-and-mask steps (the SWAR eight-digit parse, common practice in fast number
+/// parsers; the tests below check it against the archive's parser). The value is the same
+/// integer mantissa (below 10^15, so exact in an f64) divided by the same power of ten as in
+/// the archive's parser, so the two agree bit for bit. `lo` and `hi` hold the field's bytes
+/// (see [`field_words`]), `len` its length; None for any other form.
 #[inline(always)]
 fn fixed_decimal(lo: u64, hi: u64, len: usize) -> Option<f64> {
     let neg = lo as u8 == b'-';
@@ -410,40 +423,70 @@ fn fixed_decimal(lo: u64, hi: u64, len: usize) -> Option<f64> {
     } else {
         (lo, hi, len)
     };
-    if len == 0 || len > 9 {
+    if len == 0 || len > 16 {
         return None;
     }
-    let dot = byte_mask(lo, b'.');
-    let (digits, n_digits, decimals) = if dot == 0 {
-        if len > 8 {
-            return None; // nine digits, or a dot in ninth place
-        }
-        (lo, len, 0)
-    } else {
-        if dot & (dot - 1) != 0 {
+    // Bytes past the field are zero, never a dot. With the dot taken out, `d0` holds the
+    // first eight digits and `d1` the rest.
+    let (dot_lo, dot_hi) = (byte_mask(lo, b'.'), byte_mask(hi, b'.'));
+    let (d0, d1, n_digits, decimals) = if dot_lo | dot_hi == 0 {
+        (lo, hi, len, 0)
+    } else if dot_hi == 0 {
+        if dot_lo & (dot_lo - 1) != 0 {
             return None;
         }
-        let d = (dot.trailing_zeros() / 8) as usize; // 0..=7
+        let d = (dot_lo.trailing_zeros() / 8) as usize; // 0..=7
         let below = (1u64 << (8 * d)) - 1;
-        // The dot taken out; a ninth byte moves into eighth place.
-        let digits = (lo & below) | ((lo >> 8) & !below) | ((hi & 0xff) << 56);
-        (digits, len - 1, len - 1 - d)
+        let d0 = (lo & below) | ((lo >> 8) & !below) | (hi << 56);
+        (d0, hi >> 8, len - 1, len - 1 - d)
+    } else {
+        if dot_lo != 0 || dot_hi & (dot_hi - 1) != 0 {
+            return None;
+        }
+        let d = (dot_hi.trailing_zeros() / 8) as usize; // 0..=7, counted from byte 8
+        let below = (1u64 << (8 * d)) - 1;
+        (
+            lo,
+            (hi & below) | ((hi >> 8) & !below),
+            len - 1,
+            len - 9 - d,
+        )
     };
-    if n_digits == 0 {
+    if n_digits == 0 || n_digits > 15 {
         return None;
     }
-    let x = digits ^ (0x3030_3030_3030_3030 & KEEP[n_digits]);
+    const ZEROS: u64 = 0x3030_3030_3030_3030;
+    const SIXES: u64 = 0x0606_0606_0606_0606;
     const HI4: u64 = 0xf0f0_f0f0_f0f0_f0f0;
-    if (x & HI4) | (x.wrapping_add(0x0606_0606_0606_0606) & HI4) != 0 {
-        return None; // a byte that is not a digit
+    let x0 = d0 ^ (ZEROS & KEEP[n_digits.min(8)]);
+    let x1 = d1 ^ (ZEROS & KEEP[n_digits.saturating_sub(8)]);
+    // A byte that is not a digit (bytes past the digits are zero in both words).
+    if (x0 & HI4) | (x0.wrapping_add(SIXES) & HI4) | (x1 & HI4) | (x1.wrapping_add(SIXES) & HI4)
+        != 0
+    {
+        return None;
     }
-    // First digit in the lowest byte; shift so the last one sits in the highest.
-    let v = x << (8 * (8 - n_digits));
+    let m = if n_digits <= 8 {
+        eight_digits(x0, n_digits)
+    } else {
+        eight_digits(x0, 8) * POW10_U64[n_digits - 8] + eight_digits(x1, n_digits - 8)
+    };
+    // m < 10^15: as a signed integer it converts in one instruction, to the same exact value.
+    let x = m as i64 as f64 / POW10[decimals];
+    Some(if neg { -x } else { x })
+}
+
+/// 10^0..=10^7 as integers.
+const POW10_U64: [u64; 8] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000, 10_000_000];
+
+/// The value of the `n` (1..=8) digits 0..=9 in the low bytes of `x`, first digit lowest.
+#[inline(always)]
+fn eight_digits(x: u64, n: usize) -> u64 {
+    // Shift so the last digit sits in the highest byte.
+    let v = x << (8 * (8 - n));
     let v = (v.wrapping_mul(10).wrapping_add(v >> 8)) & 0x00ff_00ff_00ff_00ff;
     let v = (v.wrapping_mul(100).wrapping_add(v >> 16)) & 0x0000_ffff_0000_ffff;
-    let m = (v.wrapping_mul(10_000).wrapping_add(v >> 32)) & 0xffff_ffff;
-    let x = m as f64 / POW10[decimals];
-    Some(if neg { -x } else { x })
+    (v.wrapping_mul(10_000).wrapping_add(v >> 32)) & 0xffff_ffff
 }
 
 /// The text and value of each numeric column in the row before. The sun's position and the
@@ -672,20 +715,35 @@ mod tests {
             "359.999",
             "1800.0000",
             "-180.000",
+            "1799.990304",
+            "-1799.990304",
+            "123456789012345",
+            "1234567890123456",
+            "12345678.9012345",
+            "-1234567.89012345",
+            "999999999999999.",
+            ".999999999999999",
+            "0.000000000000001",
+            "12345678.90123x5",
+            "1234567.89.12345",
             "",
         ]
         .iter()
         .map(|s| s.to_string())
         .collect();
-        // Every mix of digits, one dot and a sign up to nine characters, sampled.
+        // Every mix of digits, one dot and a sign up to eighteen characters, sampled.
         let mut x = 0x2545_f491_4f6c_dd1du64;
-        for _ in 0..20_000 {
+        let mut next = move || {
             x ^= x << 13;
             x ^= x >> 7;
             x ^= x << 17;
-            let len = (x % 11) as usize;
+            x
+        };
+        for _ in 0..40_000 {
+            let x = next();
+            let len = (x % 18) as usize;
             let mut t: String = (0..len)
-                .map(|i| char::from(b'0' + ((x >> (4 * i + 8)) % 10) as u8))
+                .map(|_| char::from(b'0' + (next() % 10) as u8))
                 .collect();
             if len > 0 && x & (1 << 60) != 0 {
                 let at = ((x >> 50) as usize) % (len + 1);
@@ -720,6 +778,9 @@ mod tests {
             "-12.345",
             "7",
             "99999999",
+            "1799.990304",
+            "123456789012345",
+            "-1234567.8901234",
         ] {
             assert!(quick(t).is_some(), "{t}");
         }

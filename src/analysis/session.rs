@@ -5,13 +5,17 @@
 //! epoch's bearing is that of its first scored sample; turn k lies between epochs k and k + 1),
 //! so a batch agrees with the sessions' own summaries. The builder is not used here because it
 //! computes each heading's sine and cosine twice (epoch and session) and batch must be fast;
-//! this pass adds flying time, each epoch's time span and the sun's mean azimuth and elevation.
+//! this pass adds flying time, each epoch's time span, the sun's mean azimuth and elevation,
+//! the sun-relative headings and the time bins of the heading trend. Each scored sample costs
+//! two sines and cosines (its world and arena heading): the time bins reuse the world
+//! heading's unit vector, and the sun-relative one is that vector rotated back by the sun's
+//! azimuth, whose own sine and cosine are computed only when it changes (a few times a second).
 
 use super::AnalysisError;
 use super::meta::{SessionInfo, read_session_info};
 use super::scan::{Row, ScanOutcome, scan_samples};
 use crate::archive::read::{RowOrder, for_each_valid_sample};
-use crate::circular::HeadingAccumulator;
+use crate::circular::{HeadingAccumulator, sin_cos_deg};
 use crate::frames::{signed_difference_deg, sun_relative_heading_deg};
 use std::path::Path;
 
@@ -152,7 +156,7 @@ impl SessionStats {
 }
 
 /// Streaming per-session accumulation: O(1) per sample, two sines and cosines per scored
-/// sample (world and arena heading of its epoch). The session totals are the
+/// sample (world and arena heading of its epoch; see the module notes). The session totals are the
 /// merged epoch accumulators (plus scored samples outside any epoch).
 pub struct SessionPass {
     info: SessionInfo,
@@ -166,8 +170,49 @@ pub struct SessionPass {
     duration_s: f64,
     /// Scored world headings summed per [`TREND_BIN_S`] bin: (bin, Σt_s, Σcos, Σsin, count).
     bins: Vec<(i64, f64, f64, f64, u64)>,
+    /// [k, k + 1): the quotients t_s / TREND_BIN_S of the last bin (k its floor).
+    bin_q: (f64, f64),
     /// Sun azimuth: (first t_s, last t_s, last azimuth, unwrapped change since the first).
     sun: Option<(f64, f64, f64, f64)>,
+    /// The unit vector of the last sun azimuth seen.
+    sun_unit: SunUnit,
+}
+
+/// The unit vector (cos, sin) of the sun's azimuth, recomputed only when the azimuth differs
+/// from the row before (the archive writes it with three decimals, so it changes a few times a
+/// second while headings change every sample). Exact: the same azimuth gives the same vector.
+struct SunUnit {
+    /// Bits of the azimuth (a NaN's at first: no finite azimuth has them).
+    azimuth_bits: u64,
+    unit: (f64, f64),
+}
+
+impl Default for SunUnit {
+    fn default() -> Self {
+        Self {
+            azimuth_bits: f64::NAN.to_bits(),
+            unit: (1.0, 0.0),
+        }
+    }
+}
+
+impl SunUnit {
+    /// (cos, sin) of `azimuth_deg`; None when it is not finite.
+    #[inline(always)]
+    fn of(&mut self, azimuth_deg: f64) -> Option<(f64, f64)> {
+        if !azimuth_deg.is_finite() {
+            return None;
+        }
+        // Bits, not values: -0 and +0 have sines of different sign.
+        if azimuth_deg.to_bits() != self.azimuth_bits {
+            let (s, c) = sin_cos_deg(azimuth_deg);
+            *self = Self {
+                azimuth_bits: azimuth_deg.to_bits(),
+                unit: (c, s),
+            };
+        }
+        Some(self.unit)
+    }
 }
 
 /// Width of the time bins of the heading-on-time regression, seconds.
@@ -204,7 +249,9 @@ impl SessionPass {
             flying_s: 0.0,
             duration_s: 0.0,
             bins: Vec::new(),
+            bin_q: (f64::NAN, f64::NAN),
             sun: None,
+            sun_unit: SunUnit::default(),
         }
     }
 
@@ -225,6 +272,13 @@ impl SessionPass {
         }
         self.prev = Some((s.t_s, s.flying, s.epoch, s.scored));
         let counts = s.scored && s.world_heading_deg.is_finite() && s.arena_heading_deg.is_finite();
+        // The world heading's unit vector, computed once for its epoch, the session, the time
+        // bins and the sun-relative frame.
+        let (world_s, world_c) = if counts {
+            sin_cos_deg(s.world_heading_deg)
+        } else {
+            (0.0, 0.0)
+        };
         if s.sun_azimuth_deg.is_finite() && s.t_s.is_finite() {
             self.sun = Some(match self.sun {
                 None => (s.t_s, s.t_s, s.sun_azimuth_deg, 0.0),
@@ -237,21 +291,27 @@ impl SessionPass {
             });
         }
         if counts && s.t_s.is_finite() {
-            let bin = (s.t_s / TREND_BIN_S).floor() as i64;
-            if self.bins.last().is_none_or(|b| b.0 != bin) {
-                self.bins.push((bin, 0.0, 0.0, 0.0, 0));
+            // The bin is floor(t_s / TREND_BIN_S); the floor (a library call on x86-64's
+            // baseline) is taken only when the quotient leaves the last bin's [k, k + 1).
+            let q = s.t_s / TREND_BIN_S;
+            if !(q >= self.bin_q.0 && q < self.bin_q.1) {
+                let k = q.floor();
+                self.bin_q = (k, k + 1.0);
+                let bin = k as i64;
+                if self.bins.last().is_none_or(|b| b.0 != bin) {
+                    self.bins.push((bin, 0.0, 0.0, 0.0, 0));
+                }
             }
             if let Some(b) = self.bins.last_mut() {
-                let (sn, cs) = s.world_heading_deg.to_radians().sin_cos();
                 b.1 += s.t_s;
-                b.2 += cs;
-                b.3 += sn;
+                b.2 += world_c;
+                b.3 += world_s;
                 b.4 += 1;
             }
         }
         if s.epoch == 0 {
             if counts {
-                self.outside_world.push_deg(s.world_heading_deg);
+                self.outside_world.push_unit(world_c, world_s);
                 self.outside_arena.push_deg(s.arena_heading_deg);
             }
             return;
@@ -289,12 +349,16 @@ impl SessionPass {
                 e.arena.mark_gap();
                 e.sun_relative.mark_gap();
             }
-            e.world.push_deg(s.world_heading_deg);
+            e.world.push_unit(world_c, world_s);
             e.arena.push_deg(s.arena_heading_deg);
-            e.sun_relative.push_deg(sun_relative_heading_deg(
-                s.world_heading_deg,
-                s.sun_azimuth_deg,
-            ));
+            // θw − azimuth by rotating the world heading's unit vector back by the sun's.
+            match self.sun_unit.of(s.sun_azimuth_deg) {
+                Some((sun_c, sun_s)) => e.sun_relative.push_unit(
+                    world_c * sun_c + world_s * sun_s,
+                    world_s * sun_c - world_c * sun_s,
+                ),
+                None => e.sun_relative.push_deg(f64::NAN),
+            }
             let r = *e.sun_azimuth_ref_deg.get_or_insert(s.sun_azimuth_deg);
             e.sum_sun_azimuth_offset_deg += offset_deg(r, s.sun_azimuth_deg);
             e.sum_sun_elevation_deg += s.sun_elevation_deg;
@@ -457,6 +521,72 @@ mod tests {
         assert!((trend.slope_deg_per_h - 15.0).abs() < 0.1, "{trend:?}");
         let rate = st.sun_azimuth_rate_deg_per_h.unwrap();
         assert!((rate - 15.0).abs() < 1e-6, "{rate}");
+    }
+
+    #[test]
+    fn rotated_sun_frame_and_bins_agree_with_the_headings_computed_directly() {
+        // Headings that do not repeat (0.001° steps), a sun azimuth that changes every 37
+        // samples and wraps through 0, a gap of unscored samples and a missing azimuth.
+        let mut pass = SessionPass::new(SessionInfo::default());
+        let mut direct = HeadingAccumulator::new();
+        let mut world = HeadingAccumulator::new();
+        let (mut sum_c, mut sum_s) = (0.0, 0.0);
+        let mut prev_scored = false;
+        for i in 0..20_000u32 {
+            let t_s = f64::from(i) * 0.01;
+            let w = f64::from((i * 7_919) % 360_000) / 1000.0;
+            let sun = match i {
+                5_000 => f64::NAN,
+                _ => f64::from((359_900 + (i / 37) * 3) % 360_000) / 1000.0,
+            };
+            let scored = !(8_000..8_100).contains(&i);
+            if scored {
+                if !prev_scored {
+                    direct.mark_gap();
+                }
+                direct.push_deg(sun_relative_heading_deg(w, sun));
+                world.push_deg(w);
+                let (sn, cs) = w.to_radians().sin_cos();
+                sum_c += cs;
+                sum_s += sn;
+            }
+            prev_scored = scored;
+            pass.push(&Row {
+                t_s,
+                epoch: 1,
+                world_heading_deg: w,
+                arena_heading_deg: w,
+                arena_bearing_deg: 0.0,
+                sun_azimuth_deg: sun,
+                sun_elevation_deg: 30.0,
+                flying: true,
+                scored,
+            });
+        }
+        let (bins_c, bins_s, bins_n) = pass
+            .bins
+            .iter()
+            .fold((0.0, 0.0, 0), |(c, s, n), b| (c + b.2, s + b.3, n + b.4));
+        let st = pass.finish(false);
+        let rotated = &st.epochs[0].sun_relative;
+        assert_eq!(
+            (rotated.n(), rotated.rejected(), rotated.lag_pairs()),
+            (direct.n(), direct.rejected(), direct.lag_pairs())
+        );
+        assert_eq!(rotated.rejected(), 1);
+        let close = |a: (f64, f64), b: (f64, f64)| (a.0 - b.0).abs() + (a.1 - b.1).abs() < 1e-9;
+        assert!(close(rotated.resultant(), direct.resultant()));
+        assert!((rotated.r() - direct.r()).abs() < 1e-13);
+        assert!((rotated.mean_deg().unwrap() - direct.mean_deg().unwrap()).abs() < 1e-9);
+        // The world accumulator is the one fed its own sines and cosines, to the bit.
+        assert_eq!(
+            format!("{:?}", st.epochs[0].world.resultant()),
+            format!("{:?}", world.resultant())
+        );
+        // The bins hold every scored world heading once.
+        assert_eq!(bins_n, world.n());
+        let bins = (bins_c, bins_s);
+        assert!(close(bins, world.resultant()) && close(bins, (sum_c, sum_s)));
     }
 
     #[test]

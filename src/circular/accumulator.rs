@@ -95,9 +95,10 @@ impl HeadingAccumulator {
     }
 
     /// Adds one heading given as its unit vector (cos θ, sin θ) of a finite θ: the part of
-    /// [`HeadingAccumulator::push_deg`] after the sine and cosine.
+    /// [`HeadingAccumulator::push_deg`] after the sine and cosine (for a caller that needs the
+    /// sine and cosine itself, or derives them by rotating another unit vector).
     #[inline(always)]
-    fn push_unit(&mut self, c: f64, s: f64) {
+    pub(crate) fn push_unit(&mut self, c: f64, s: f64) {
         self.n += 1;
         self.blk_c += c;
         self.blk_s += s;

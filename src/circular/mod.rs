@@ -43,6 +43,7 @@ pub use second_order::{
     second_order_mean, watson_williams_test, watson_williams_test_with,
 };
 pub use small_n::{RAYLEIGH_EXACT_MAX_N, rayleigh_p_few};
+pub(crate) use trig::sin_cos_deg;
 pub use turn_test::{
     EXACT_MAX_N, MIN_TURNS, TurnTestResult, turn_compensation_test, v_test_p_small_n,
 };

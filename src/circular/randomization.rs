@@ -26,6 +26,14 @@ impl Rng {
         Self(seed)
     }
 
+    /// Skips the next `k` outputs in one step (SplitMix64's state is a counter that each output
+    /// advances by the same increment), as if `next_u64` had been called `k` times.
+    pub fn skip(&mut self, k: u64) {
+        self.0 = self
+            .0
+            .wrapping_add(0x9E37_79B9_7F4A_7C15u64.wrapping_mul(k));
+    }
+
     /// The next 64-bit output.
     pub fn next_u64(&mut self) -> u64 {
         self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);

@@ -24,33 +24,43 @@ use std::sync::OnceLock;
 pub const RAYLEIGH_EXACT_MAX_N: usize = 12;
 const DRAWS: usize = 40_000;
 
-/// Sorted R of n uniform directions, for n = 2..=RAYLEIGH_EXACT_MAX_N (seeded, made once per
-/// process: 40 000 × 77 sines and cosines).
-fn null_r() -> &'static Vec<Vec<f64>> {
-    static TABLE: OnceLock<Vec<Vec<f64>>> = OnceLock::new();
-    TABLE.get_or_init(|| {
-        let mut rng = Rng::new(0x5EED_0A11_7A61);
-        (0..=RAYLEIGH_EXACT_MAX_N)
-            .map(|n| {
-                if n < 2 {
-                    return Vec::new();
-                }
-                let mut r: Vec<f64> = (0..DRAWS)
-                    .map(|_| {
-                        let (mut c, mut s) = (0.0, 0.0);
-                        for _ in 0..n {
-                            let (si, co) = rng.angle_deg().to_radians().sin_cos();
-                            c += co;
-                            s += si;
-                        }
-                        c.hypot(s)
-                    })
-                    .collect();
-                r.sort_by(f64::total_cmp);
-                r
-            })
-            .collect()
-    })
+/// Sorted R of n uniform directions for one n in 2..=RAYLEIGH_EXACT_MAX_N (seeded; each n made
+/// once per process, when first needed: 40 000 × n sines and cosines).
+///
+/// The draws are those of one generator that runs through n = 2, 3, ... in turn (DRAWS·n
+/// directions each); the table of n starts where the smaller n's end, which the generator
+/// reaches in one step ([`Rng::skip`]), so a batch pays only for the n it meets (the tables are
+/// the same to the bit either way; a test below checks it against the stream drawn in order).
+fn null_r(n: usize) -> &'static [f64] {
+    static TABLES: [OnceLock<Vec<f64>>; RAYLEIGH_EXACT_MAX_N + 1] =
+        [const { OnceLock::new() }; RAYLEIGH_EXACT_MAX_N + 1];
+    match TABLES.get(n) {
+        Some(cell) if n >= 2 => cell.get_or_init(|| {
+            let mut rng = Rng::new(SEED);
+            rng.skip((2..n).map(|m| (DRAWS * m) as u64).sum());
+            null_r_draws(&mut rng, n)
+        }),
+        _ => &[],
+    }
+}
+
+const SEED: u64 = 0x5EED_0A11_7A61;
+
+/// DRAWS resultant lengths of n uniform directions from `rng`, sorted.
+fn null_r_draws(rng: &mut Rng, n: usize) -> Vec<f64> {
+    let mut r: Vec<f64> = (0..DRAWS)
+        .map(|_| {
+            let (mut c, mut s) = (0.0, 0.0);
+            for _ in 0..n {
+                let (si, co) = rng.angle_deg().to_radians().sin_cos();
+                c += co;
+                s += si;
+            }
+            c.hypot(s)
+        })
+        .collect();
+    r.sort_by(f64::total_cmp);
+    r
 }
 
 /// p of the Rayleigh test of n directions with mean vector length r: the simulated exact null
@@ -64,7 +74,7 @@ pub fn rayleigh_p_few(n: usize, r: f64) -> Option<f64> {
         return Some(rayleigh_test(n as f64, r).1);
     }
     let big_r = n as f64 * r.clamp(0.0, 1.0);
-    let sorted = &null_r()[n];
+    let sorted = null_r(n);
     // Draws with R ≥ the observed (a hair of tolerance for rounding in the sums).
     let below = sorted.partition_point(|&x| x < big_r - 1e-9);
     Some((1 + sorted.len() - below) as f64 / (1 + sorted.len()) as f64)
@@ -94,5 +104,25 @@ mod tests {
         assert!(rayleigh_p_few(3, 1.0).unwrap() < 1e-4);
         assert_eq!(rayleigh_p_few(20, 0.3), Some(rayleigh_test(20.0, 0.3).1));
         assert!(rayleigh_p_few(5, 0.0).unwrap() > 0.999);
+    }
+
+    #[test]
+    fn each_null_table_is_the_stretch_of_the_one_stream_drawn_in_order() {
+        // One generator through n = 2, 3, ... in turn: how the tables were made before each
+        // n was computed on its own.
+        let mut rng = Rng::new(SEED);
+        for n in 2..=RAYLEIGH_EXACT_MAX_N {
+            let in_order = null_r_draws(&mut rng, n);
+            let table = null_r(n);
+            assert_eq!(table.len(), DRAWS, "n = {n}");
+            assert!(
+                in_order
+                    .iter()
+                    .zip(table)
+                    .all(|(a, b)| a.to_bits() == b.to_bits()),
+                "n = {n}"
+            );
+        }
+        assert!(null_r(1).is_empty() && null_r(RAYLEIGH_EXACT_MAX_N + 1).is_empty());
     }
 }

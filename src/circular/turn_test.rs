@@ -39,37 +39,52 @@ pub struct TurnTestResult {
     pub p_arena_kept: Option<f64>,
 }
 
-/// Sorted V = Σ cos φ of n uniform angles, for n = MIN_TURNS..=EXACT_MAX_N (seeded, computed
-/// once per process: 40 000 × 75 cosines).
-fn null_v() -> &'static Vec<Vec<f64>> {
-    static TABLE: OnceLock<Vec<Vec<f64>>> = OnceLock::new();
-    TABLE.get_or_init(|| {
-        let mut state: u64 = 0x005E_ED0F_7E57;
-        let mut uniform = move || {
-            // SplitMix64 (Steele, Lea & Flood 2014).
-            state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
-            let mut z = state;
-            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-        };
-        (0..=EXACT_MAX_N)
-            .map(|n| {
-                if n < MIN_TURNS {
-                    return Vec::new();
-                }
-                let mut v: Vec<f64> = (0..DRAWS)
-                    .map(|_| {
-                        (0..n)
-                            .map(|_| (std::f64::consts::TAU * uniform()).cos())
-                            .sum()
-                    })
-                    .collect();
-                v.sort_by(f64::total_cmp);
-                v
-            })
-            .collect()
-    })
+/// SplitMix64's increment (Steele, Lea & Flood 2014): its state after k draws is the seed plus
+/// k times this, so any point of its stream can be reached without drawing what comes before.
+const GAMMA: u64 = 0x9E37_79B9_7F4A_7C15;
+const SEED: u64 = 0x005E_ED0F_7E57;
+
+/// Sorted V = Σ cos φ of n uniform angles for one n in MIN_TURNS..=EXACT_MAX_N (seeded; each
+/// n computed once per process, when first needed: 40 000 × n cosines).
+///
+/// The draws are those of one SplitMix64 stream that runs through n = MIN_TURNS, MIN_TURNS + 1,
+/// ... in turn (DRAWS·n uniforms each); the table of n starts where the smaller n's end, which
+/// the counter-based state reaches in one step, so a batch whose sessions all made nine turns
+/// pays for the 360 000 cosines of n = 9 and not for the 3 million of every n (the tables are
+/// the same to the bit either way; a test below checks it against the stream drawn in order).
+fn null_v(n: usize) -> &'static [f64] {
+    static TABLES: [OnceLock<Vec<f64>>; EXACT_MAX_N + 1] =
+        [const { OnceLock::new() }; EXACT_MAX_N + 1];
+    match TABLES.get(n) {
+        Some(cell) if n >= MIN_TURNS => cell.get_or_init(|| null_v_table(n)),
+        _ => &[],
+    }
+}
+
+/// The uniforms drawn for the tables of every n below this one.
+fn draws_before(n: usize) -> u64 {
+    (MIN_TURNS..n).map(|m| (DRAWS * m) as u64).sum()
+}
+
+fn null_v_table(n: usize) -> Vec<f64> {
+    let mut state = SEED.wrapping_add(GAMMA.wrapping_mul(draws_before(n)));
+    let mut uniform = move || {
+        // SplitMix64 (Steele, Lea & Flood 2014).
+        state = state.wrapping_add(GAMMA);
+        let mut z = state;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+    };
+    let mut v: Vec<f64> = (0..DRAWS)
+        .map(|_| {
+            (0..n)
+                .map(|_| (std::f64::consts::TAU * uniform()).cos())
+                .sum()
+        })
+        .collect();
+    v.sort_by(f64::total_cmp);
+    v
 }
 
 /// One-sided p of the V-test of angles (degrees) toward 0: the simulated exact null for
@@ -84,7 +99,7 @@ pub fn v_test_p_small_n(angles_deg: &[f64]) -> Option<f64> {
     if n > EXACT_MAX_N {
         return Some(v_test(n as f64, s.r, s.mean_deg, 0.0).p);
     }
-    let sorted = &null_v()[n];
+    let sorted = null_v(n);
     // Draws with V ≥ v (a hair of tolerance for rounding in the sums).
     let below = sorted.partition_point(|&x| x < v - 1e-12);
     let at_least = sorted.len() - below;
@@ -132,5 +147,36 @@ mod tests {
         let r = turn_compensation_test(&arena, &turns);
         assert!(r.p_arena_kept.unwrap() < 0.01);
         assert!(r.p_world_kept.unwrap() > 0.2);
+    }
+
+    #[test]
+    fn each_null_table_is_the_stretch_of_the_one_stream_drawn_in_order() {
+        // The stream drawn from the seed in order, as one table after another (how the
+        // tables were made before each n was computed on its own).
+        let mut state = SEED;
+        let mut uniform = move || {
+            state = state.wrapping_add(GAMMA);
+            let mut z = state;
+            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+            ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+        };
+        for n in MIN_TURNS..=EXACT_MAX_N {
+            let mut v: Vec<f64> = (0..DRAWS)
+                .map(|_| {
+                    (0..n)
+                        .map(|_| (std::f64::consts::TAU * uniform()).cos())
+                        .sum()
+                })
+                .collect();
+            v.sort_by(f64::total_cmp);
+            let table = null_v(n);
+            assert_eq!(table.len(), DRAWS, "n = {n}");
+            assert!(
+                v.iter().zip(table).all(|(a, b)| a.to_bits() == b.to_bits()),
+                "n = {n}"
+            );
+        }
+        assert!(null_v(MIN_TURNS - 1).is_empty() && null_v(EXACT_MAX_N + 1).is_empty());
     }
 }
