@@ -108,3 +108,25 @@ fn sim_flags_are_checked() {
         "skybearing: error: --garbage: 1.5 is outside [0, 1]"
     );
 }
+
+/// A rig file in a folder that does not exist: a one-line error naming the folder, before any
+/// terminal is opened.
+#[test]
+fn sim_names_a_missing_folder() {
+    let dir = tempfile::tempdir().unwrap();
+    let missing = dir.path().join("no-such-folder");
+    let out = bin()
+        .arg("sim")
+        .arg("--write-rig")
+        .arg(missing.join("r.toml"))
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(err.trim().lines().count(), 1, "{err}");
+    assert!(
+        err.contains(&format!("folder {} does not exist", missing.display())),
+        "{err}"
+    );
+    assert!(!missing.exists());
+}

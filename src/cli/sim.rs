@@ -161,6 +161,16 @@ pub fn run(args: SimArgs) -> anyhow::Result<i32> {
         if paths[..k].contains(p) {
             bail!("--write-rig {}: given twice", p.display());
         }
+        // The terminals' links are made beside the rig file, so its folder must exist.
+        if let Some(dir) = p.parent()
+            && !dir.is_dir()
+        {
+            bail!(
+                "--write-rig {}: folder {} does not exist",
+                p.display(),
+                dir.display()
+            );
+        }
         if let Ok(old) = std::fs::read_to_string(p)
             && !old.starts_with(SIM_RIG_MARKER)
         {
