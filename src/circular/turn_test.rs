@@ -41,6 +41,7 @@ pub struct TurnTestResult {
 
 /// SplitMix64's increment (Steele, Lea & Flood 2014): its state after k draws is the seed plus
 /// k times this, so any point of its stream can be reached without drawing what comes before.
+#[cfg(test)]
 const GAMMA: u64 = 0x9E37_79B9_7F4A_7C15;
 const SEED: u64 = 0x005E_ED0F_7E57;
 
@@ -67,19 +68,13 @@ fn draws_before(n: usize) -> u64 {
 }
 
 fn null_v_table(n: usize) -> Vec<f64> {
-    let mut state = SEED.wrapping_add(GAMMA.wrapping_mul(draws_before(n)));
-    let mut uniform = move || {
-        // SplitMix64 (Steele, Lea & Flood 2014).
-        state = state.wrapping_add(GAMMA);
-        let mut z = state;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    };
+    // The circular core's SplitMix64, moved on to where this n's draws start.
+    let mut rng = super::randomization::Rng::new(SEED);
+    rng.skip(draws_before(n));
     let mut v: Vec<f64> = (0..DRAWS)
         .map(|_| {
             (0..n)
-                .map(|_| (std::f64::consts::TAU * uniform()).cos())
+                .map(|_| (std::f64::consts::TAU * rng.uniform()).cos())
                 .sum()
         })
         .collect();
