@@ -8,7 +8,7 @@ use super::population::{
     animal_key, animal_vectors, animals_table, comparisons_table, paired_tables, population_table,
     protocol_order,
 };
-use super::session::{SessionStats, analyse_session};
+use super::session::{SampleSource, SessionStats, analyse_session};
 use super::table::{Cell, Table};
 use super::turn_population::{turns_by_animal_table, turns_population_table};
 use chrono::NaiveDate;
@@ -221,12 +221,13 @@ fn drop_duplicates(
     Ok(out)
 }
 
-/// Reads every session under `roots` (in parallel), drops sessions found twice (see
+/// Reads every session under `roots` (in parallel, samples as `source` allows), drops sessions found twice (see
 /// [`drop_duplicates`]), applies the filters.
 /// `progress` is called once per session folder finished (from worker threads).
 pub fn run_batch(
     roots: &[PathBuf],
     filters: &Filters,
+    source: SampleSource,
     progress: &(dyn Fn() + Sync),
     found: &dyn Fn(usize),
 ) -> Result<BatchResult, AnalysisError> {
@@ -236,7 +237,7 @@ pub fn run_batch(
     let results: Vec<(PathBuf, Result<SessionStats, AnalysisError>)> = dirs
         .par_iter()
         .map(|d| {
-            let r = analyse_session(d);
+            let r = analyse_session(d, source);
             progress();
             (d.clone(), r)
         })

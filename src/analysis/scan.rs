@@ -27,44 +27,7 @@ use crate::archive::fmt::{POW10, parse_f64};
 use std::io::Read;
 use std::path::Path;
 
-/// The fields of one sample that the analysis uses.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
-pub struct Row {
-    /// Seconds since the session started.
-    pub t_s: f64,
-    /// Epoch index (0 before the first epoch).
-    pub epoch: usize,
-    /// Heading relative to the arena's 0 mark.
-    pub arena_heading_deg: f64,
-    /// True bearing of the arena's 0 mark.
-    pub arena_bearing_deg: f64,
-    /// Heading relative to true north.
-    pub world_heading_deg: f64,
-    /// Sun azimuth.
-    pub sun_azimuth_deg: f64,
-    /// Sun elevation.
-    pub sun_elevation_deg: f64,
-    /// Flying.
-    pub flying: bool,
-    /// Scored.
-    pub scored: bool,
-}
-
-impl From<&crate::archive::read::SampleFields<'_>> for Row {
-    fn from(s: &crate::archive::read::SampleFields<'_>) -> Self {
-        Row {
-            t_s: s.t_s,
-            epoch: s.epoch,
-            arena_heading_deg: s.arena_heading_deg,
-            arena_bearing_deg: s.arena_bearing_deg,
-            world_heading_deg: s.world_heading_deg,
-            sun_azimuth_deg: s.sun_azimuth_deg,
-            sun_elevation_deg: s.sun_elevation_deg,
-            flying: s.flying,
-            scored: s.scored,
-        }
-    }
-}
+pub use crate::archive::columns::Row;
 
 /// How a fast scan ended.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -14,6 +14,7 @@
 use super::AnalysisError;
 use super::meta::{SessionInfo, read_session_info};
 use super::scan::{Row, ScanOutcome, scan_samples};
+use crate::archive::columns::{ColumnsRead, read_columns};
 use crate::archive::read::{RowOrder, for_each_valid_sample};
 use crate::circular::{HeadingAccumulator, sin_cos_deg};
 use crate::frames::{signed_difference_deg, sun_relative_heading_deg};
@@ -119,6 +120,8 @@ pub struct SessionStats {
     pub duration_s: f64,
     /// samples.csv ended in a torn line that was left out.
     pub torn_tail: bool,
+    /// Where the samples were read from.
+    pub read_from: ReadFrom,
     /// Circular–linear regression of the scored world headings on time (10-s bins).
     pub heading_trend: Option<crate::circular::HeadingTrend>,
     /// The sun's mean azimuth rate over the session, degrees per hour.
@@ -413,6 +416,7 @@ impl SessionPass {
             flying_s: self.flying_s,
             duration_s: self.duration_s,
             torn_tail,
+            read_from: ReadFrom::Csv(None),
         }
     }
 }
@@ -435,10 +439,36 @@ fn offset_deg(from_deg: f64, to_deg: f64) -> f64 {
     }
 }
 
-/// Reads a session folder: session.json, then one streaming pass over samples.csv (memory does
-/// not grow with the file).
-pub fn analyse_session(dir: &Path) -> Result<SessionStats, AnalysisError> {
-    analyse(dir, false, |_| {})
+/// Where [`analyse_session`] read a session's samples from.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum ReadFrom {
+    /// `samples.columns`, the compact copy that matched `samples.csv`.
+    Columns,
+    /// `samples.csv`; with the reason when a `samples.columns` was there and not used (None:
+    /// there was none, or it was not to be read).
+    Csv(Option<String>),
+}
+
+impl Default for ReadFrom {
+    fn default() -> Self {
+        ReadFrom::Csv(None)
+    }
+}
+
+/// Which file [`analyse_session`] may take the samples from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SampleSource {
+    /// `samples.columns` when it matches `samples.csv` (see [`crate::archive::columns`]),
+    /// else `samples.csv`.
+    ColumnsIfValid,
+    /// Always `samples.csv`, the archive of record.
+    CsvOnly,
+}
+
+/// Reads a session folder: session.json, then one streaming pass over its samples (memory
+/// does not grow with the file), from `samples.columns` when it matches `samples.csv`.
+pub fn analyse_session(dir: &Path, source: SampleSource) -> Result<SessionStats, AnalysisError> {
+    analyse(dir, source, false, |_| {})
 }
 
 /// Like [`analyse_session`], also handing every sample to `also`, in order, once the file is
@@ -447,11 +477,12 @@ pub fn analyse_session_with(
     dir: &Path,
     also: impl FnMut(&Row),
 ) -> Result<SessionStats, AnalysisError> {
-    analyse(dir, true, also)
+    analyse(dir, SampleSource::ColumnsIfValid, true, also)
 }
 
 fn analyse(
     dir: &Path,
+    source: SampleSource,
     want_rows: bool,
     mut also: impl FnMut(&Row),
 ) -> Result<SessionStats, AnalysisError> {
@@ -460,14 +491,47 @@ fn analyse(
         return Err(AnalysisError::Missing { path: samples });
     }
     let info = read_session_info(dir)?;
-    let mut pass = SessionPass::new(info.clone());
-    let mut seen: Vec<Row> = Vec::new();
     let keep = want_rows;
+    let mut seen: Vec<Row> = Vec::new();
+    let mut unused = None;
+    if source == SampleSource::ColumnsIfValid {
+        let mut pass = SessionPass::new(info.clone());
+        match read_columns(dir, |r| {
+            pass.push(r);
+            if keep {
+                seen.push(*r);
+            }
+        }) {
+            ColumnsRead::Done(_) => {
+                seen.iter().for_each(&mut also);
+                let mut stats = pass.finish(false);
+                stats.read_from = ReadFrom::Columns;
+                return Ok(stats);
+            }
+            ColumnsRead::Missing => {}
+            ColumnsRead::Unused(why) => unused = Some(why),
+        }
+        seen.clear();
+    }
+    let mut stats = analyse_csv(&samples, info, keep, &mut seen, also)?;
+    stats.read_from = ReadFrom::Csv(unused);
+    Ok(stats)
+}
+
+/// One pass over `samples.csv`: the fast scan, or the archive's general reader.
+fn analyse_csv(
+    samples: &Path,
+    info: SessionInfo,
+    keep: bool,
+    seen: &mut Vec<Row>,
+    mut also: impl FnMut(&Row),
+) -> Result<SessionStats, AnalysisError> {
+    let mut pass = SessionPass::new(info.clone());
     // The archive's rule on the order of rows, as `check` applies it: a row that breaks it
     // sends the file to the general reader, whose error names the line.
     let mut order = RowOrder::default();
     let mut in_order = true;
-    if let ScanOutcome::Done(_) = scan_samples(&samples, |r| {
+    if let ScanOutcome::Done(_) = scan_samples(samples, |r| {
         in_order &= order.next(r.t_s).is_ok();
         pass.push(r);
         if keep {
@@ -482,7 +546,7 @@ fn analyse(
     // that is not UTF-8, rows out of order, and the error message naming the line) from the
     // start.
     let mut pass = SessionPass::new(info);
-    let stats = for_each_valid_sample(&samples, |s| {
+    let stats = for_each_valid_sample(samples, |s| {
         let r = Row::from(s);
         pass.push(&r);
         also(&r);

@@ -40,6 +40,9 @@ pub struct CheckReport {
     pub problems: Vec<String>,
     /// Remarks that do not make the folder bad.
     pub notes: Vec<String>,
+    /// `samples.columns` is missing or out of step with `samples.csv`: `--repair` writes it.
+    #[serde(skip)]
+    pub columns_to_write: bool,
 }
 
 impl CheckReport {
@@ -55,6 +58,7 @@ impl CheckReport {
             interrupted: false,
             problems: Vec::new(),
             notes: vec!["removed by --repair: nothing was recorded in it".into()],
+            columns_to_write: false,
         }
     }
 
@@ -298,6 +302,7 @@ pub fn check_session(dir: &Path) -> CheckReport {
         interrupted: false,
         problems: Vec::new(),
         notes: Vec::new(),
+        columns_to_write: false,
     };
     if !dir.is_dir() {
         r.problems.push("not a folder".into());
@@ -424,6 +429,10 @@ pub fn check_session(dir: &Path) -> CheckReport {
             }
         }
     }
+    let closed = meta.as_ref().is_some_and(|m| m.status.is_closed());
+    if closed && !r.live && pass.as_ref().is_some_and(|p| p.stats.torn.is_none()) {
+        super::columns::check_into(dir, &mut r);
+    }
     // events.csv
     let mut unscored = Vec::new();
     match read::read_events(&dir.join(EVENTS_FILE)) {
@@ -450,7 +459,6 @@ pub fn check_session(dir: &Path) -> CheckReport {
                     r.problems.push(what);
                 }
             }
-            let closed = meta.as_ref().is_some_and(|m| m.status.is_closed());
             if closed && !ev.iter().any(|e| e.kind == "session_end") {
                 r.notes.push("events.csv has no session_end event".into());
             }
@@ -786,5 +794,6 @@ pub fn repair_session(dir: &Path) -> Result<RepairOutcome, ArchiveError> {
         sync_dir(dir)?;
         out.actions.push("removed the stale lock".into());
     }
+    out.actions.extend(super::columns::refresh_columns(dir)?);
     Ok(out)
 }

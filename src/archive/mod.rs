@@ -27,6 +27,7 @@
 
 pub mod atomic;
 pub mod check;
+pub mod columns;
 mod compare;
 pub mod cue_scores;
 pub mod fmt;

@@ -1,6 +1,7 @@
 //! `skybearing batch`.
 
 use crate::analysis::batch::{Filters, run_batch, write_tables};
+use crate::analysis::session::{ReadFrom, SampleSource, SessionStats};
 use anyhow::Context;
 use chrono::NaiveDate;
 use clap::Args;
@@ -44,6 +45,10 @@ pub struct BatchArgs {
     /// Also include sessions that did not end normally (interrupted, recovered, aborted).
     #[arg(long)]
     pub include_incomplete: bool,
+    /// Read every session's samples.csv, even where a samples.columns made from it is there
+    /// (slower; the same tables).
+    #[arg(long)]
+    pub csv_only: bool,
     /// Worker threads (default: all cores).
     #[arg(long, value_name = "N")]
     pub jobs: Option<usize>,
@@ -96,7 +101,12 @@ pub fn run(args: BatchArgs) -> anyhow::Result<i32> {
         b.build().context("starting worker threads")?
     };
     let result = pool.install(|| {
-        run_batch(&args.dirs, &filters, &|| bar.inc(1), &|n| {
+        let source = if args.csv_only {
+            SampleSource::CsvOnly
+        } else {
+            SampleSource::ColumnsIfValid
+        };
+        run_batch(&args.dirs, &filters, source, &|| bar.inc(1), &|n| {
             bar.set_length(n as u64)
         })
     });
@@ -139,6 +149,41 @@ pub fn run(args: BatchArgs) -> anyhow::Result<i32> {
         duplicates,
         errors
     );
+    report_sources(&result.sessions, args.csv_only);
     println!("wrote {} to {}", names.join(", "), args.out.display());
     Ok(0)
+}
+
+/// Says where the samples came from: each session whose `samples.columns` was there but not
+/// used, and how many were read from each file.
+fn report_sources(sessions: &[SessionStats], csv_only: bool) {
+    if csv_only {
+        eprintln!(
+            "batch: samples of {} sessions from samples.csv (--csv-only)",
+            sessions.len()
+        );
+        return;
+    }
+    let mut columns = 0;
+    let mut without = 0;
+    for s in sessions {
+        match &s.read_from {
+            ReadFrom::Columns => columns += 1,
+            ReadFrom::Csv(None) => without += 1,
+            ReadFrom::Csv(Some(why)) => {
+                without += 1;
+                eprintln!(
+                    "note: {}: samples.columns not used ({why}); read samples.csv instead",
+                    s.info.dir.display()
+                );
+            }
+        }
+    }
+    if without > 0 {
+        eprintln!(
+            "batch: samples of {columns} sessions from samples.columns, {without} from samples.csv (`skybearing check --repair` writes samples.columns where it is missing or out of date)"
+        );
+    } else {
+        eprintln!("batch: samples of {columns} sessions from samples.columns");
+    }
 }

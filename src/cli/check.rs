@@ -107,7 +107,21 @@ fn check_one(dir: &Path, repair: bool) -> FolderResult {
     if repair {
         let before = check_session(dir);
         if before.ok() {
-            repair_out = Some(RepairOutcome::default());
+            // Only the column file (a copy of samples.csv for batch) may be left to write.
+            let columns = if before.columns_to_write {
+                crate::archive::columns::refresh_columns(dir)
+            } else {
+                Ok(None)
+            };
+            match columns {
+                Ok(line) => {
+                    repair_out = Some(RepairOutcome {
+                        actions: line.into_iter().collect(),
+                        removed: false,
+                    })
+                }
+                Err(e) => repair_error = Some(e.to_string()),
+            }
         } else {
             match repair_session(dir) {
                 Ok(o) => repair_out = Some(o),

@@ -754,7 +754,20 @@ impl Engine {
         self.meta.ended_utc = Some(self.stamper.utc_at(t_end));
         self.meta.end_reason = Some(reason.to_string());
         let dir = match self.writer.take() {
-            Some(w) => w.finish(&self.meta, &summary)?,
+            Some(w) => {
+                let dir = w.finish(&self.meta, &summary)?;
+                // The session is closed and whole; the compact copy for batch is a
+                // convenience: if it cannot be written, batch reads samples.csv and `check`
+                // says so.
+                match archive::columns::write_columns(&dir) {
+                    Ok(archive::columns::Written::Rows(_)) => {}
+                    Ok(archive::columns::Written::Not(why)) => {
+                        progress(&format!("samples.columns not written: {why}"));
+                    }
+                    Err(e) => progress(&format!("samples.columns not written: {e}")),
+                }
+                dir
+            }
             None => self.session_dir(),
         };
         progress(&format!(
