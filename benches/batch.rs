@@ -3,6 +3,7 @@
 //! 200 demo sessions is benches/batch_compare.sh.
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 use skybearing::analysis::batch::{Filters, run_batch, write_tables};
+use skybearing::analysis::session::SampleSource;
 
 #[path = "../tests/support/sessions.rs"]
 mod batch_support;
@@ -37,12 +38,26 @@ fn batch(c: &mut Criterion) {
     g.sample_size(10);
     g.bench_function("read_and_summarise_4x50k_samples", |b| {
         b.iter(|| {
-            let r = run_batch(&roots, &filters, &|| {}, &|_| {}).expect("batch");
+            let r = run_batch(
+                &roots,
+                &filters,
+                SampleSource::ColumnsIfValid,
+                &|| {},
+                &|_| {},
+            )
+            .expect("batch");
             assert_eq!(r.sessions.len(), SESSIONS);
             r
         })
     });
-    let result = run_batch(&roots, &filters, &|| {}, &|_| {}).expect("batch");
+    let result = run_batch(
+        &roots,
+        &filters,
+        SampleSource::ColumnsIfValid,
+        &|| {},
+        &|_| {},
+    )
+    .expect("batch");
     let out = tmp.path().join("out");
     g.bench_function("write_tables_4_sessions", |b| {
         b.iter(|| write_tables(&result, &out).expect("tables"))

@@ -6,7 +6,9 @@
 #                  the simulated sensor reports headings in 0.1 degree steps;
 #   non-repeating  the same sessions with their headings rewritten as a float-valued tracker's
 #                  would be archived (0.001 degree steps; benches/peers/jitter_headings.py).
-# Checks that all contenders agree and prints each one's median and ratio to batch.
+# batch reads each session's samples.columns; `batch --csv-only` reads samples.csv as the peers
+# do (and must write the same tables). Checks that all contenders agree and prints each one's
+# median and ratio to batch.
 #
 # Usage: benches/batch_compare.sh [N [REPEATS]]    (defaults 100 sessions, 3 rounds)
 #   BATCH_BENCH_DIR=dir  keeps the sessions for reuse (default target/batch-bench)
@@ -32,6 +34,9 @@ if [ "$have" -lt "$N" ]; then
 fi
 echo "rewriting headings as a float tracker's into $FLOAT ..." >&2
 "$PY" benches/peers/jitter_headings.py "$SESS" "$FLOAT"
+# samples.columns where it is missing (the rewritten sessions; sessions made by an older build).
+echo "writing samples.columns where missing ..." >&2
+"$BIN" check --repair "$SESS" "$FLOAT" > /dev/null
 
 for kind in "$SESS:repeating (0.1 degree steps)" "$FLOAT:non-repeating (0.001 degree steps)"; do
   dir=${kind%%:*}

@@ -10,7 +10,10 @@ direction and the mean vector length r of the scored world headings, and writes 
 
 `skybearing batch` computes much more per epoch (arena statistics, Rayleigh tests, effective
 sample size, sun means, flight time, turns, population tables), so the comparison does not
-favour it. `cat` of the same files to /dev/null is the cost of reading the bytes.
+favour it. `cat` of the same files to /dev/null is the cost of reading the bytes. batch reads
+each session's samples.columns (the compact copy written at session close, see
+src/archive/columns.rs); `batch --csv-only` reads samples.csv, as the peers do, and must write
+the same tables to the byte.
 
   batch_peers.py run CONTENDER DIR OUT.csv        one contender (timed by `compare`)
   batch_peers.py compare BIN DIR WORK REPEATS     all of them, interleaved, REPEATS rounds
@@ -124,15 +127,25 @@ def agree(ref, other, name):
 def compare(binary, root, work, repeats):
     work.mkdir(parents=True, exist_ok=True)
     files = sorted(str(p) for p in root.glob("*/samples.csv"))
+    columns = sorted(str(p) for p in root.glob("*/samples.columns"))
     me = [sys.executable, __file__, "run"]
     contenders = {
         "skybearing batch": [binary, "batch", str(root), "--out", str(work / "batch-out"),
                              "--include-incomplete"],
+        "skybearing batch --csv-only": [binary, "batch", str(root), "--out",
+                                        str(work / "batch-csv-out"), "--include-incomplete",
+                                        "--csv-only"],
         "polars (lazy scan_csv, group-by)": me + ["polars", str(root), str(work / "polars.csv")],
         "DuckDB (read_csv, GROUP BY)": me + ["duckdb", str(root), str(work / "duckdb.csv")],
         "pandas (read_csv usecols, groupby)": me + ["pandas", str(root), str(work / "pandas.csv")],
         "cat > /dev/null (the same bytes)": ["cat", *files],
+        "cat > /dev/null of samples.columns": ["cat", *columns],
     }
+    # batch must read every session from its samples.columns (not fall back to the CSV).
+    said = subprocess.run(contenders["skybearing batch"], check=True, capture_output=True,
+                          text=True).stderr
+    if f"samples of {len(files)} sessions from samples.columns" not in said:
+        sys.exit(f"skybearing batch did not read every samples.columns:\n{said}")
     times = {k: [] for k in contenders}
     cpu = {k: [] for k in contenders}
     names = list(contenders)
@@ -146,6 +159,11 @@ def compare(binary, root, work, repeats):
             times[name].append(time.perf_counter() - t0)
             u1 = resource.getrusage(resource.RUSAGE_CHILDREN)
             cpu[name].append(u1.ru_utime + u1.ru_stime - u0.ru_utime - u0.ru_stime)
+    # The column file changes where the bytes come from, never a number: every table the same.
+    for table in sorted((work / "batch-out").glob("*.csv")):
+        other = work / "batch-csv-out" / table.name
+        if table.read_bytes() != other.read_bytes():
+            sys.exit(f"{table.name}: batch and batch --csv-only differ")
     ref = read_epochs(work / "batch-out" / "epochs.csv")
     for key in ("polars", "duckdb", "pandas"):
         n = agree(ref, read_epochs(work / f"{key}.csv"), key)
