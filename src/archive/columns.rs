@@ -40,8 +40,9 @@ pub const COLUMNS_FILE: &str = "samples.columns";
 const MAGIC: &[u8; 8] = b"SKYBCOL1";
 const END_MAGIC: &[u8; 8] = b"SKYBEND1";
 const VERSION: u32 = 1;
-/// Rows per block: bounds the memory of writer and reader (about 2.5 MB a block).
-pub const BLOCK_ROWS: usize = 1 << 16;
+/// Rows per block: bounds the memory of writer and reader, and keeps a block (about 100 KB)
+/// in the core's cache between the kernel's copy into the buffer and decoding it.
+pub const BLOCK_ROWS: usize = 1 << 12;
 /// Bytes of the trailer.
 pub const TRAILER_LEN: usize = 8 + 8 + 8 + 8 + 4 + 4 + 8 + 8;
 const HEADER_LEN: usize = 12;
