@@ -14,7 +14,7 @@
 
 use super::legend::{self, Entry, Key, PxRect};
 use super::polar::{self, Dial};
-use super::report::draw_turn_chart;
+use super::report::{draw_turn_chart, hypothesis_entries};
 use super::style::{self, DrawResult, FigureSize, err, line, pt};
 use super::{Figure, write_figure};
 use crate::analysis::AnalysisError;
@@ -302,16 +302,7 @@ struct AcrossTurns<'a> {
 pub const TURNS_CHART_MM: f64 = 85.0;
 
 fn turns_entries(styles: &AnimalStyles) -> Vec<Entry> {
-    let mut e = vec![
-        Entry::new(
-            Key::Line(style::BLUE, line::NORMAL),
-            "world heading kept: shift = 0",
-        ),
-        Entry::new(
-            Key::Dashed(style::VERMILLION, line::NORMAL),
-            "arena heading kept: shift = turn",
-        ),
-    ];
+    let mut e = hypothesis_entries();
     e.extend(styles.entries());
     e
 }
