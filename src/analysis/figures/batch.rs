@@ -14,7 +14,7 @@
 
 use super::legend::{self, Entry, Key, PxRect};
 use super::polar::{self, Dial};
-use super::report::draw_turn_chart;
+use super::report::{draw_turn_chart, hypothesis_entries};
 use super::style::{self, DrawResult, FigureSize, err, line, pt};
 use super::{Figure, write_figure};
 use crate::analysis::AnalysisError;
@@ -145,6 +145,31 @@ fn draw_heading<DB: DrawingBackend>(
     .map_err(err)
 }
 
+/// The start of a figure of dials in `frame` (the population and paired figures): the layout
+/// of `n` dials with `footer_lines` lines of text under each over a legend strip of
+/// `entries`, and the heading line drawn, the frame's name followed by `detail` when the
+/// figure is two columns wide (one column has no room for it). Returns the layout and the
+/// label of the dials' 0.
+fn begin_dial_figure<DB: DrawingBackend>(
+    root: &DrawingArea<DB, Shift>,
+    frame: Frame,
+    n: usize,
+    footer_lines: i32,
+    entries: &[Entry],
+    detail: &str,
+) -> Result<(DialGrid, &'static str), String> {
+    let g = dial_grid(n, footer_lines, entries);
+    let (heading, zero) = frame_heading(frame);
+    let wide = g.size.width_mm > style::ONE_COLUMN_MM;
+    let text = if wide {
+        format!("{heading}: {detail}")
+    } else {
+        heading.to_string()
+    };
+    draw_heading(root, g.heading, &text)?;
+    Ok((g, zero))
+}
+
 /// One frame's population figure: a dial per condition.
 struct Population<'a> {
     frame: Frame,
@@ -164,17 +189,13 @@ fn population_entries(styles: &AnimalStyles) -> Vec<Entry> {
 impl Figure for Population<'_> {
     fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> DrawResult {
         let entries = population_entries(self.styles);
-        let g = dial_grid(self.conditions.len(), 2, &entries);
-        let (heading, zero) = frame_heading(self.frame);
-        let wide = g.size.width_mm > style::ONE_COLUMN_MM;
-        draw_heading(
+        let (g, zero) = begin_dial_figure(
             root,
-            g.heading,
-            &if wide {
-                format!("{heading}: each animal's mean vector (point at radius r)")
-            } else {
-                heading.to_string()
-            },
+            self.frame,
+            self.conditions.len(),
+            2,
+            &entries,
+            "each animal's mean vector (point at radius r)",
         )?;
         for ((cond, vs), cell) in self.conditions.iter().zip(&g.cells) {
             let dial = Dial::in_cell(*cell, 2);
@@ -234,19 +255,13 @@ struct Paired<'a> {
 impl Figure for Paired<'_> {
     fn draw<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> DrawResult {
         let entries = self.styles.entries();
-        let g = dial_grid(self.pairs.len(), 3, &entries);
-        let (heading, zero) = frame_heading(self.frame);
-        let wide = g.size.width_mm > style::ONE_COLUMN_MM;
-        draw_heading(
+        let (g, zero) = begin_dial_figure(
             root,
-            g.heading,
-            &if wide {
-                format!(
-                    "{heading}: each animal's heading, first condition inner ring, second outer"
-                )
-            } else {
-                heading.to_string()
-            },
+            self.frame,
+            self.pairs.len(),
+            3,
+            &entries,
+            "each animal's heading, first condition inner ring, second outer",
         )?;
         for (p, cell) in self.pairs.iter().zip(&g.cells) {
             let dial = Dial::in_cell(*cell, 3);
@@ -302,16 +317,7 @@ struct AcrossTurns<'a> {
 pub const TURNS_CHART_MM: f64 = 85.0;
 
 fn turns_entries(styles: &AnimalStyles) -> Vec<Entry> {
-    let mut e = vec![
-        Entry::new(
-            Key::Line(style::BLUE, line::NORMAL),
-            "world heading kept: shift = 0",
-        ),
-        Entry::new(
-            Key::Dashed(style::VERMILLION, line::NORMAL),
-            "arena heading kept: shift = turn",
-        ),
-    ];
+    let mut e = hypothesis_entries();
     e.extend(styles.entries());
     e
 }

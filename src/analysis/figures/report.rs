@@ -486,16 +486,7 @@ impl Figure for SunRose<'_> {
 }
 
 fn turn_legend(with_points: bool) -> Vec<Entry> {
-    let mut v = vec![
-        Entry::new(
-            Key::Line(style::BLUE, line::NORMAL),
-            "world heading kept: shift = 0",
-        ),
-        Entry::new(
-            Key::Dashed(style::VERMILLION, line::NORMAL),
-            "arena heading kept: shift = turn",
-        ),
-    ];
+    let mut v = hypothesis_entries();
     if with_points {
         v.push(Entry::new(
             Key::Marker(style::Shape::Circle, BLACK),
@@ -523,6 +514,21 @@ pub fn turns_layout() -> Layout {
             y1: h as i32,
         }],
     }
+}
+
+/// The legend entries of the two hypotheses' lines that [`draw_turn_chart`] draws (same colours
+/// and dashes), for every figure that shows the chart.
+pub fn hypothesis_entries() -> Vec<Entry> {
+    vec![
+        Entry::new(
+            Key::Line(style::BLUE, line::NORMAL),
+            "world heading kept: shift = 0",
+        ),
+        Entry::new(
+            Key::Dashed(style::VERMILLION, line::NORMAL),
+            "arena heading kept: shift = turn",
+        ),
+    ]
 }
 
 /// A turn-response chart in `area`: world shift against the turn, both hypotheses' lines, and

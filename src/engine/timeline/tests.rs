@@ -1,7 +1,7 @@
 //! The timeline on its own: epoch clock, flight rules, prompts, manual turns and faults.
 
 use super::*;
-use crate::engine::snapshot::TurnState;
+use crate::engine::snapshot::{Command, TurnState};
 use crate::engine::testing::{FakeTable, epoch};
 use crate::protocol::EpochPlan;
 

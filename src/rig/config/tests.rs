@@ -1,4 +1,5 @@
 use super::*;
+use crate::frames::SensorUnit;
 
 fn good() -> String {
     filled_example()
