@@ -1,4 +1,4 @@
-//! Rig files (TOML). (Shared type fixed by the lead; parsing owned by the rig work.)
+//! Rig files (TOML): the checked types here, the raw form and its checks in `config/raw.rs`.
 //!
 //! A rig file is parsed in two steps: TOML into a raw form whose every value keeps its place in
 //! the text ([`toml::Spanned`]), then checked into a [`Rig`]. Every error is one line naming the
