@@ -10,10 +10,12 @@
 #   csv-crate-all-fields  the same, also doing the general reader's other work (UTC stamp check,
 #                         the two further numbers): the archive reader rebuilt on the csv crate
 #   general-reader        no fast scan: every file through archive::read::for_each_sample
-#   number-memo           the scan with the table of numbers seen before that it once had
-#   own-kernels-memo      circular/trig.rs as it was: its own copy of the fdlibm kernels and a
-#                         memo of sines and cosines, instead of libm's sincos
 #   std-trig              std's sin_cos (the platform's libm) instead of libm's sincos
+#
+# Every build reads samples.csv (`batch --csv-only`): that is the part the variants change.
+# Two earlier variants, a memo of parsed numbers in the scan and trig.rs's own fdlibm kernels
+# with a memo, were measured and dropped (figures in the README and at the top of
+# circular/trig.rs); their patches no longer applied to the scan as it is and are gone.
 #
 # Usage: benches/library_variants.sh [ROUNDS [VARIANT...]]   (default 3 rounds, all variants)
 #   BATCH_BENCH_DIR as for batch_compare.sh (run that first to make the sessions); BENCH_VENV.
@@ -23,8 +25,7 @@ ROUNDS=${1:-3}
 shift || true
 WORK=${BATCH_BENCH_DIR:-target/batch-bench}
 VARIANTS=("$@")
-[ ${#VARIANTS[@]} -gt 0 ] || VARIANTS=(csv-crate-scan csv-crate-all-fields general-reader \
-  number-memo own-kernels-memo std-trig)
+[ ${#VARIANTS[@]} -gt 0 ] || VARIANTS=(csv-crate-scan csv-crate-all-fields general-reader std-trig)
 . benches/peers/common.sh
 SRC=target/variants/src
 OUT=target/variants/bin

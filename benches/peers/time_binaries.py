@@ -3,7 +3,9 @@
 
 Usage: time_binaries.py DIR WORK ROUNDS NAME=BINARY...
 
-Runs `BINARY batch DIR --out WORK/NAME --include-incomplete` for every build in every round
+Runs `BINARY batch DIR --out WORK/NAME --include-incomplete --csv-only` (the variants differ in
+how samples.csv is read and in the trigonometry, so every build reads the CSV, not the
+sessions' samples.columns) for every build in every round
 (rotating the order), prints the median wall and CPU time (user + system) of each and its ratio
 to the first build, and says for each build whether its tables are byte-identical to the
 first's.
@@ -29,7 +31,7 @@ def main():
             u0 = resource.getrusage(resource.RUSAGE_CHILDREN)
             t0 = time.perf_counter()
             subprocess.run([binary, "batch", str(root), "--out", str(work / name),
-                            "--include-incomplete"], check=True,
+                            "--include-incomplete", "--csv-only"], check=True,
                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
             wall[name].append(time.perf_counter() - t0)
             u1 = resource.getrusage(resource.RUSAGE_CHILDREN)
