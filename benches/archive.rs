@@ -171,6 +171,32 @@ fn read_rows(c: &mut Criterion) {
             thread_cpu() - start
         })
     });
+    // samples.columns: written at session close from samples.csv, read by batch.
+    let dir = w.dir().to_path_buf();
+    g.bench_function("write_columns_1M_thread_cpu", |b| {
+        b.iter_custom(|iters| {
+            let start = thread_cpu();
+            for _ in 0..iters {
+                let n = skybearing::archive::columns::write_columns(&dir).unwrap();
+                assert_eq!(n, skybearing::archive::columns::Written::Rows(N));
+            }
+            thread_cpu() - start
+        })
+    });
+    g.bench_function("read_columns_1M_thread_cpu", |b| {
+        b.iter_custom(|iters| {
+            let start = thread_cpu();
+            for _ in 0..iters {
+                let mut sum = 0.0;
+                let r = skybearing::archive::columns::read_columns(&dir, |r| {
+                    sum += r.world_heading_deg
+                });
+                assert_eq!(r, skybearing::archive::columns::ColumnsRead::Done(N));
+                black_box(sum);
+            }
+            thread_cpu() - start
+        })
+    });
     g.finish();
     drop(w);
 }

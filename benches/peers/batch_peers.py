@@ -7,6 +7,8 @@ direction and the mean vector length r of the scored world headings, and writes 
   polars  lazy scan_csv over all samples.csv files (all cores), group-by (session, epoch)
   duckdb  read_csv over all samples.csv files (all cores), GROUP BY (session, epoch)
   pandas  read_csv with usecols (three columns) per file, groupby epoch (one core)
+  polars over Parquet: scan_parquet over a samples.parquet beside each samples.csv (the nine
+          columns batch reads, made here once by polars with its defaults), group-by
 
 `skybearing batch` computes much more per epoch (arena statistics, Rayleigh tests, effective
 sample size, sun means, flight time, turns, population tables), so the comparison does not
@@ -72,6 +74,37 @@ def run_polars(root, out):
     write(out, ((ids[Path(p).parent.name], e, n, c, s) for p, e, n, c, s in g.iter_rows()))
 
 
+NEEDED = ("t_s", "epoch", "arena_heading_deg", "arena_bearing_deg", "world_heading_deg",
+          "sun_azimuth_deg", "sun_elevation_deg", "flying", "scored")
+
+
+def make_parquet(root):
+    """samples.parquet beside each samples.csv: the nine columns batch reads (polars' defaults:
+    zstd), the Parquet alternative to samples.columns."""
+    import polars as pl
+
+    for csv_path in sorted(root.glob("*/samples.csv")):
+        pq = csv_path.with_name("samples.parquet")
+        if not pq.is_file():
+            pl.read_csv(csv_path, columns=list(NEEDED)).write_parquet(pq)
+
+
+def run_polars_parquet(root, out):
+    import polars as pl
+
+    ids = session_ids(root)
+    rad = pl.col("world_heading_deg").radians()
+    g = (
+        pl.scan_parquet(str(root / "*" / "samples.parquet"), include_file_paths="path")
+        .select("path", *SCORED)
+        .filter((pl.col("scored") == 1) & (pl.col("epoch") > 0))
+        .group_by("path", "epoch")
+        .agg(pl.len().alias("n"), rad.cos().sum().alias("c"), rad.sin().sum().alias("s"))
+        .collect()
+    )
+    write(out, ((ids[Path(p).parent.name], e, n, c, s) for p, e, n, c, s in g.iter_rows()))
+
+
 def run_duckdb(root, out):
     import duckdb
 
@@ -128,6 +161,10 @@ def compare(binary, root, work, repeats):
     work.mkdir(parents=True, exist_ok=True)
     files = sorted(str(p) for p in root.glob("*/samples.csv"))
     columns = sorted(str(p) for p in root.glob("*/samples.columns"))
+    make_parquet(root)
+    parquet = sum(p.stat().st_size for p in root.glob("*/samples.parquet"))
+    print(f"samples.columns {sum(Path(p).stat().st_size for p in columns)} bytes, "
+          f"samples.parquet (nine columns, zstd) {parquet} bytes")
     me = [sys.executable, __file__, "run"]
     contenders = {
         "skybearing batch": [binary, "batch", str(root), "--out", str(work / "batch-out"),
@@ -136,6 +173,8 @@ def compare(binary, root, work, repeats):
                                         str(work / "batch-csv-out"), "--include-incomplete",
                                         "--csv-only"],
         "polars (lazy scan_csv, group-by)": me + ["polars", str(root), str(work / "polars.csv")],
+        "polars over Parquet copies (scan_parquet, group-by)":
+            me + ["polars-parquet", str(root), str(work / "polars-parquet.csv")],
         "DuckDB (read_csv, GROUP BY)": me + ["duckdb", str(root), str(work / "duckdb.csv")],
         "pandas (read_csv usecols, groupby)": me + ["pandas", str(root), str(work / "pandas.csv")],
         "cat > /dev/null (the same bytes)": ["cat", *files],
@@ -165,12 +204,12 @@ def compare(binary, root, work, repeats):
         if table.read_bytes() != other.read_bytes():
             sys.exit(f"{table.name}: batch and batch --csv-only differ")
     ref = read_epochs(work / "batch-out" / "epochs.csv")
-    for key in ("polars", "duckdb", "pandas"):
+    for key in ("polars", "polars-parquet", "duckdb", "pandas"):
         n = agree(ref, read_epochs(work / f"{key}.csv"), key)
     import duckdb, pandas, polars  # noqa: E401 (versions only)
     print(f"python {platform.python_version()}, polars {polars.__version__}, "
           f"duckdb {duckdb.__version__}, pandas {pandas.__version__}")
-    print(f"all four agree on {n} epochs (n equal; mean and r within 1e-4)")
+    print(f"all five agree on {n} epochs (n equal; mean and r within 1e-4)")
     print(f"| contender | wall, median of {repeats} (s) | relative to batch "
           f"| CPU, median (s) | relative to batch | wall runs (s) |")
     print("| --- | --- | --- | --- | --- | --- |")
@@ -187,7 +226,8 @@ def compare(binary, root, work, repeats):
 def main():
     cmd = sys.argv[1]
     if cmd == "run":
-        {"polars": run_polars, "duckdb": run_duckdb, "pandas": run_pandas}[sys.argv[2]](
+        {"polars": run_polars, "polars-parquet": run_polars_parquet, "duckdb": run_duckdb,
+         "pandas": run_pandas}[sys.argv[2]](
             Path(sys.argv[3]).resolve(), Path(sys.argv[4]))
     elif cmd == "compare":
         compare(sys.argv[2], Path(sys.argv[3]).resolve(), Path(sys.argv[4]), int(sys.argv[5]))

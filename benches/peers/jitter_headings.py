@@ -8,7 +8,8 @@ does not repeat: this adds a seeded jitter of -0.049..+0.049 degrees in 0.001 de
 arena_heading_deg, and writes world_heading_deg = arena + bearing and sun_relative_heading_deg =
 world - sun azimuth (both wrapped to [0, 360)) and raw = arena, with three decimals, as the
 archive does. Every other byte of the session is copied unchanged, except samples.columns,
-which is left out (`skybearing check --repair` writes it from the new samples.csv).
+which is left out (`skybearing check --repair` writes it from the new samples.csv), and the
+benchmark's samples.parquet (made again from the new samples.csv).
 
 Usage: jitter_headings.py SRC_SESSIONS DST_SESSIONS
 """
@@ -42,7 +43,7 @@ def main():
             continue
         tmp = dst / (folder.name + ".tmp")
         shutil.rmtree(tmp, ignore_errors=True)
-        shutil.copytree(folder, tmp, ignore=shutil.ignore_patterns("samples.columns"))
+        shutil.copytree(folder, tmp, ignore=shutil.ignore_patterns("samples.columns", "samples.parquet"))
         df = pl.read_csv(folder / "samples.csv", infer_schema=False)
         rng = np.random.default_rng(1000 + k)
         jitter = rng.integers(-49, 50, size=df.height)

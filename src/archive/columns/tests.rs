@@ -208,13 +208,13 @@ fn check_finds_a_column_file_whose_rows_are_not_the_csvs_and_repair_rewrites_it(
     );
     assert_eq!(verify_columns(d.path()).unwrap(), ColumnsState::Current);
     assert_eq!(refresh_columns(d.path()).unwrap(), None);
-    // The same length and modification time, one flag changed in the second block: only a
-    // deliberate edit that restores the time can do this; `check` still finds it.
+    // The same length and modification time, the last flight flag cleared (in the second
+    // block): only a deliberate edit that restores the time can do this; `check` finds it.
     let when = std::fs::metadata(&csv).unwrap().modified().unwrap();
     let text = csv_text(BLOCK_ROWS + 500);
-    let at = text.rfind(",1,1\n").unwrap();
+    let at = text.rfind(",1,0\n").unwrap();
     let mut edited = text.clone();
-    edited.replace_range(at..at + 5, ",1,0\n");
+    edited.replace_range(at..at + 5, ",0,0\n");
     std::fs::write(&csv, &edited).unwrap();
     std::fs::File::options()
         .write(true)
