@@ -756,6 +756,13 @@ impl Engine {
         let dir = match self.writer.take() {
             Some(w) => {
                 let dir = w.finish(&self.meta, &summary)?;
+                if self.samples >= 1_000_000 {
+                    // About 0.3 s a million samples: say why the end takes a moment.
+                    progress(&format!(
+                        "writing samples.columns (batch's compact copy of {} samples)",
+                        self.samples
+                    ));
+                }
                 // The session is closed and whole; the compact copy for batch is a
                 // convenience: if it cannot be written, batch reads samples.csv and `check`
                 // says so.
