@@ -58,20 +58,27 @@ def write(out, rows):
                         math.hypot(c, s) / n])
 
 
-def run_polars(root, out):
+def polars_epochs(root, scan, out):
+    """The per-epoch sums from a polars lazy frame of every session's samples."""
     import polars as pl
 
     ids = session_ids(root)
     rad = pl.col("world_heading_deg").radians()
     g = (
-        pl.scan_csv(str(root / "*" / "samples.csv"), include_file_paths="path")
-        .select("path", *SCORED)
+        scan.select("path", *SCORED)
         .filter((pl.col("scored") == 1) & (pl.col("epoch") > 0))
         .group_by("path", "epoch")
         .agg(pl.len().alias("n"), rad.cos().sum().alias("c"), rad.sin().sum().alias("s"))
         .collect()
     )
     write(out, ((ids[Path(p).parent.name], e, n, c, s) for p, e, n, c, s in g.iter_rows()))
+
+
+def run_polars(root, out):
+    import polars as pl
+
+    polars_epochs(root, pl.scan_csv(str(root / "*" / "samples.csv"), include_file_paths="path"),
+                  out)
 
 
 NEEDED = ("t_s", "epoch", "arena_heading_deg", "arena_bearing_deg", "world_heading_deg",
@@ -92,17 +99,8 @@ def make_parquet(root):
 def run_polars_parquet(root, out):
     import polars as pl
 
-    ids = session_ids(root)
-    rad = pl.col("world_heading_deg").radians()
-    g = (
-        pl.scan_parquet(str(root / "*" / "samples.parquet"), include_file_paths="path")
-        .select("path", *SCORED)
-        .filter((pl.col("scored") == 1) & (pl.col("epoch") > 0))
-        .group_by("path", "epoch")
-        .agg(pl.len().alias("n"), rad.cos().sum().alias("c"), rad.sin().sum().alias("s"))
-        .collect()
-    )
-    write(out, ((ids[Path(p).parent.name], e, n, c, s) for p, e, n, c, s in g.iter_rows()))
+    polars_epochs(
+        root, pl.scan_parquet(str(root / "*" / "samples.parquet"), include_file_paths="path"), out)
 
 
 def run_duckdb(root, out):
