@@ -250,6 +250,16 @@ pub fn write_columns(dir: &Path) -> Result<Written, ArchiveError> {
     Ok(Written::Rows(rows))
 }
 
+/// [`write_columns`] for a session that has just closed: None when written, else the line
+/// that says why not (batch then reads `samples.csv`; `check` notes it, `--repair` writes it).
+pub fn write_at_close(dir: &Path) -> Option<String> {
+    match write_columns(dir) {
+        Ok(Written::Rows(_)) => None,
+        Ok(Written::Not(why)) => Some(format!("{COLUMNS_FILE} not written: {why}")),
+        Err(e) => Some(format!("{COLUMNS_FILE} not written: {e}")),
+    }
+}
+
 struct HashingWriter {
     inner: BufWriter<File>,
     hash: Xxh3,

@@ -764,14 +764,9 @@ impl Engine {
                     ));
                 }
                 // The session is closed and whole; the compact copy for batch is a
-                // convenience: if it cannot be written, batch reads samples.csv and `check`
-                // says so.
-                match archive::columns::write_columns(&dir) {
-                    Ok(archive::columns::Written::Rows(_)) => {}
-                    Ok(archive::columns::Written::Not(why)) => {
-                        progress(&format!("samples.columns not written: {why}"));
-                    }
-                    Err(e) => progress(&format!("samples.columns not written: {e}")),
+                // convenience: if it cannot be written, batch reads samples.csv.
+                if let Some(why) = archive::columns::write_at_close(&dir) {
+                    progress(&why);
                 }
                 dir
             }
