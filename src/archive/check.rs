@@ -40,9 +40,10 @@ pub struct CheckReport {
     pub problems: Vec<String>,
     /// Remarks that do not make the folder bad.
     pub notes: Vec<String>,
-    /// `samples.columns` is missing or out of step with `samples.csv`: `--repair` writes it.
+    /// Why `samples.columns` is to be written again (missing or out of step with
+    /// `samples.csv`): `--repair` writes it. None when it is current or not checked.
     #[serde(skip)]
-    pub columns_to_write: bool,
+    pub columns_to_write: Option<String>,
 }
 
 impl CheckReport {
@@ -58,7 +59,7 @@ impl CheckReport {
             interrupted: false,
             problems: Vec::new(),
             notes: vec!["removed by --repair: nothing was recorded in it".into()],
-            columns_to_write: false,
+            columns_to_write: None,
         }
     }
 
@@ -302,7 +303,7 @@ pub fn check_session(dir: &Path) -> CheckReport {
         interrupted: false,
         problems: Vec::new(),
         notes: Vec::new(),
-        columns_to_write: false,
+        columns_to_write: None,
     };
     if !dir.is_dir() {
         r.problems.push("not a folder".into());

@@ -29,7 +29,7 @@
 
 use std::fs::File;
 use std::io::{BufWriter, Read, Seek, SeekFrom, Write};
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::time::UNIX_EPOCH;
 
 use xxhash_rust::xxh3::Xxh3;
@@ -545,14 +545,9 @@ impl<'a> RunCursor<'a> {
     }
 }
 
-/// The path of a session folder's column file.
-pub fn columns_path(dir: &Path) -> PathBuf {
-    dir.join(COLUMNS_FILE)
-}
-
 mod verify;
 pub(crate) use verify::check_into;
-pub use verify::{ColumnsState, refresh_columns, verify_columns};
+pub use verify::{ColumnsState, refresh_columns, rewrite_columns, verify_columns};
 
 #[cfg(test)]
 mod tests;

@@ -108,11 +108,12 @@ fn check_one(dir: &Path, repair: bool) -> FolderResult {
         let before = check_session(dir);
         if before.ok() {
             // Only the column file (a copy of samples.csv for batch) may be left to write.
-            let columns = if before.columns_to_write {
-                crate::archive::columns::refresh_columns(dir)
-            } else {
-                Ok(None)
-            };
+            // `before` has just compared it with samples.csv: write it, without comparing again.
+            let columns = before
+                .columns_to_write
+                .as_deref()
+                .map(|why| crate::archive::columns::rewrite_columns(dir, why))
+                .transpose();
             match columns {
                 Ok(line) => {
                     repair_out = Some(RepairOutcome {

@@ -2,6 +2,10 @@ use super::*;
 use crate::archive::read::for_each_valid_sample;
 use proptest::prelude::*;
 
+fn columns_path(dir: &Path) -> std::path::PathBuf {
+    dir.join(COLUMNS_FILE)
+}
+
 const HEADER: &str = "t_utc,t_s,epoch,arena_heading_deg,arena_bearing_deg,world_heading_deg,sun_azimuth_deg,sun_elevation_deg,flying,scored";
 
 /// A samples.csv of `n` rows whose every column changes now and then, with headings that do

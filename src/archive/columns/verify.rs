@@ -54,38 +54,56 @@ pub fn verify_columns(dir: &Path) -> Result<ColumnsState, ArchiveError> {
     )))
 }
 
+impl ColumnsState {
+    /// Why the column file must be written again; None when it is current.
+    fn reason(self) -> Option<String> {
+        match self {
+            ColumnsState::Current => None,
+            ColumnsState::Missing => Some("it was missing".to_string()),
+            ColumnsState::Unused(why) => Some(why),
+            ColumnsState::Differs(what) => Some(format!("it {what}")),
+        }
+    }
+}
+
 /// Writes the column file unless it is [`ColumnsState::Current`]; returns what it did, as a
 /// line for the user (None: nothing to do).
 pub fn refresh_columns(dir: &Path) -> Result<Option<String>, ArchiveError> {
-    let why = match verify_columns(dir)? {
-        ColumnsState::Current => return Ok(None),
-        ColumnsState::Missing => "it was missing".to_string(),
-        ColumnsState::Unused(why) => why,
-        ColumnsState::Differs(what) => format!("it {what}"),
-    };
-    Ok(Some(match write_columns(dir)? {
+    match verify_columns(dir)?.reason() {
+        None => Ok(None),
+        Some(why) => rewrite_columns(dir, &why).map(Some),
+    }
+}
+
+/// Writes the column file, already known to be out of step for `why`; returns what it did, as
+/// a line for the user.
+pub fn rewrite_columns(dir: &Path, why: &str) -> Result<String, ArchiveError> {
+    Ok(match write_columns(dir)? {
         Written::Rows(n) => format!("{COLUMNS_FILE}: written from {n} samples ({why})"),
         Written::Not(reason) => format!("{COLUMNS_FILE}: not written: {reason}"),
-    }))
+    })
 }
 
 /// `check`'s part: a note when the column file is missing or would not be used, a problem
 /// when it would be used and holds other rows; either way `--repair` writes it.
 pub(crate) fn check_into(dir: &Path, r: &mut crate::archive::check::CheckReport) {
     let repair = "'skybearing check --repair' writes it";
-    match verify_columns(dir) {
-        Ok(ColumnsState::Current) | Err(_) => return,
-        Ok(ColumnsState::Missing) => r.notes.push(format!(
+    let Ok(state) = verify_columns(dir) else {
+        return;
+    };
+    match &state {
+        ColumnsState::Current => return,
+        ColumnsState::Missing => r.notes.push(format!(
             "{COLUMNS_FILE} is missing: batch reads samples.csv (slower); {repair}"
         )),
-        Ok(ColumnsState::Unused(why)) => r.notes.push(format!(
+        ColumnsState::Unused(why) => r.notes.push(format!(
             "{COLUMNS_FILE} is out of step with samples.csv ({why}): batch reads samples.csv; {repair}"
         )),
-        Ok(ColumnsState::Differs(what)) => r.problems.push(format!(
+        ColumnsState::Differs(what) => r.problems.push(format!(
             "{COLUMNS_FILE} {what}: batch would read those rows from it; {repair} again"
         )),
     }
-    r.columns_to_write = true;
+    r.columns_to_write = state.reason();
 }
 
 /// Digests of consecutive blocks of rows, plus the count.
